@@ -1,0 +1,7 @@
+"""Report URLs, mounted under /reports/ (namespace "reports")."""
+
+from django.urls import path  # noqa: F401
+
+app_name = "reports"
+
+urlpatterns = []

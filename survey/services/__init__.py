@@ -1,0 +1,1 @@
+"""Domain writes, one module per area: surveys (ingest, conditions), marks, findings, audit."""

@@ -1,0 +1,1 @@
+"""Views, one module per area: pages (surveys, upload), api (workspace JSON), findings."""

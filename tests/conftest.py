@@ -1,0 +1,179 @@
+"""Shared fixtures: named personas in two organizations, and service checks.
+
+The owner organization "Northwind Thermal" has an admin (Olivia), a reviewer (Rita) and a
+thermographer (Theo). "Ridgeback Inspections" is another firm: its member Otto is the
+outsider who must never see Northwind's data.
+"""
+
+import os
+import socket
+import tempfile
+from urllib.parse import urlparse
+
+import pytest
+from django.contrib.auth import get_user_model
+
+from survey.models import Client, Member, Organization, Site, Survey
+
+PASSWORD = "correct-horse-battery-staple"
+
+
+def _service_answers(url: str, default_port: int) -> bool:
+    parsed = urlparse(url)
+    try:
+        with socket.create_connection((parsed.hostname or "127.0.0.1", parsed.port or default_port), 1):
+            return True
+    except OSError:
+        return False
+
+
+def require_service(name: str, url: str | None, default_port: int) -> None:
+    """Skip when a service is absent, or fail when REQUIRE_SERVICES=1 (set by .ci/run)."""
+    reason = None
+    if not url:
+        reason = f"{name} is not configured (set its URL variable)"
+    elif not _service_answers(url, default_port):
+        reason = f"{name} does not answer at {url}"
+    if reason:
+        if os.environ.get("REQUIRE_SERVICES") == "1":
+            pytest.fail(f"{reason}, and REQUIRE_SERVICES=1")
+        pytest.skip(reason)
+
+
+@pytest.fixture
+def redis_url() -> str:
+    url = os.environ.get("REDIS_URL", "")
+    require_service("Redis", url, 6379)
+    return url
+
+
+@pytest.fixture
+def postgres_url() -> str:
+    url = os.environ.get("DATABASE_URL", "")
+    if not url.startswith("postgres"):
+        url = ""
+    require_service("PostgreSQL", url, 5432)
+    return url
+
+
+@pytest.fixture(autouse=True)
+def _media_in_tmp(settings, tmp_path_factory):
+    """Each test writes media in its own folder; celery runs eagerly unless a test says not."""
+    settings.MEDIA_ROOT = str(tmp_path_factory.mktemp("media"))
+    settings.CELERY_TASK_ALWAYS_EAGER = True
+    from survey.celery import app
+
+    app.conf.task_always_eager = True
+    yield
+
+
+def _person(org: Organization, username: str, role: str, name: str) -> Member:
+    first, _, last = name.partition(" ")
+    user = get_user_model().objects.create_user(
+        username=username, password=PASSWORD, first_name=first, last_name=last
+    )
+    return Member.objects.create(user=user, organization=org, role=role)
+
+
+@pytest.fixture
+def org(db) -> Organization:
+    return Organization.objects.create(name="Northwind Thermal", slug="northwind")
+
+
+@pytest.fixture
+def other_org(db) -> Organization:
+    return Organization.objects.create(name="Ridgeback Inspections", slug="ridgeback")
+
+
+@pytest.fixture
+def owner(org) -> Member:
+    return _person(org, "olivia", Member.Role.ADMIN, "Olivia Admin")
+
+
+@pytest.fixture
+def reviewer(org) -> Member:
+    return _person(org, "rita", Member.Role.REVIEWER, "Rita Reviewer")
+
+
+@pytest.fixture
+def thermographer(org) -> Member:
+    return _person(org, "theo", Member.Role.THERMOGRAPHER, "Theo Thermographer")
+
+
+@pytest.fixture
+def outsider(other_org) -> Member:
+    return _person(other_org, "otto", Member.Role.ADMIN, "Otto Outsider")
+
+
+def login(client, member: Member):
+    client.force_login(member.user)
+    return client
+
+
+@pytest.fixture
+def owner_client(client, owner):
+    return login(client, owner)
+
+
+@pytest.fixture
+def thermographer_client(client, thermographer):
+    return login(client, thermographer)
+
+
+@pytest.fixture
+def reviewer_client(client, reviewer):
+    return login(client, reviewer)
+
+
+@pytest.fixture
+def outsider_client(client, outsider):
+    return login(client, outsider)
+
+
+@pytest.fixture
+def site(org) -> Site:
+    client = Client.objects.create(organization=org, name="Harbour Lane Housing Co-op")
+    return Site.objects.create(organization=org, client=client, name="Block C, 14 Harbour Lane")
+
+
+@pytest.fixture
+def envelope_survey(org, site, thermographer) -> Survey:
+    import datetime
+
+    from survey.models import Conditions
+
+    survey = Survey.objects.create(
+        organization=org,
+        site=site,
+        kind=Survey.Kind.ENVELOPE,
+        date=datetime.date(2026, 1, 14),
+        thermographer=thermographer,
+        ifov_mrad=1.309,
+    )
+    Conditions.objects.create(
+        survey=survey, indoor_air_c=20.0, indoor_rh_pct=50.0, outdoor_air_c=-5.0, wind_m_s=2.0
+    )
+    return survey
+
+
+@pytest.fixture
+def electrical_survey(org, site, thermographer) -> Survey:
+    import datetime
+
+    from survey.models import Conditions
+
+    survey = Survey.objects.create(
+        organization=org,
+        site=site,
+        kind=Survey.Kind.ELECTRICAL,
+        date=datetime.date(2026, 3, 2),
+        thermographer=thermographer,
+    )
+    Conditions.objects.create(survey=survey, ambient_air_c=24.0, load_pct=65.0)
+    return survey
+
+
+@pytest.fixture
+def scratch_dir():
+    with tempfile.TemporaryDirectory() as path:
+        yield path
