@@ -337,6 +337,8 @@ class Thermogram(models.Model):
     )
     created_at = models.DateTimeField(auto_now_add=True)
     processed_at = models.DateTimeField(null=True, blank=True)
+    # Set when a worker claims the job and while it works; a stale one means a stalled job.
+    heartbeat_at = models.DateTimeField(null=True, blank=True)
 
     class Meta:
         ordering = ["survey", "sequence", "id"]

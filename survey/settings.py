@@ -144,7 +144,15 @@ CELERY_TASK_REJECT_ON_WORKER_LOST = True
 CELERY_WORKER_PREFETCH_MULTIPLIER = 1
 CELERY_WORKER_MAX_TASKS_PER_CHILD = env_int("CELERY_WORKER_MAX_TASKS_PER_CHILD", 50)
 CELERY_BROKER_CONNECTION_RETRY_ON_STARTUP = True
-CELERY_BROKER_TRANSPORT_OPTIONS = {"visibility_timeout": 3600, "socket_connect_timeout": 2}
+# Publishing gives up quickly when Redis is down: the upload is kept as queued and
+# `manage.py requeue_thermograms` sends it later (no request hangs on a dead broker).
+CELERY_BROKER_TRANSPORT_OPTIONS = {
+    "visibility_timeout": 3600,
+    "socket_connect_timeout": 2,
+    "max_retries": 1,
+    "interval_start": 0,
+    "interval_step": 0.2,
+}
 CELERY_TASK_TIME_LIMIT = env_int("CELERY_TASK_TIME_LIMIT", 900)
 
 SESSION_COOKIE_HTTPONLY = True

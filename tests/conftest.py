@@ -57,9 +57,17 @@ def postgres_url() -> str:
 
 
 @pytest.fixture(autouse=True)
+def _fast_passwords(settings):
+    """Password hashing is not under test here; the real hasher costs a second per persona."""
+    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
+
+
+@pytest.fixture(autouse=True)
 def _media_in_tmp(settings, tmp_path_factory):
     """Each test writes media in its own folder; celery runs eagerly unless a test says not."""
     settings.MEDIA_ROOT = str(tmp_path_factory.mktemp("media"))
+    # A fast hasher: the default one takes about half a second per persona.
+    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
     settings.CELERY_TASK_ALWAYS_EAGER = True
     from survey.celery import app
 

@@ -1,0 +1,459 @@
+"""Load an invented firm with surveys, thermograms, marks and findings (safe to run again).
+
+Everything here is fiction: the firm, people, clients, sites and every thermogram. The
+images are temperature fields generated with numpy from simple physical shapes (a steady
+wall gradient, a cold slab edge, a warm wet patch, Gaussian hot spots), stored as real
+files in open formats and run through the same upload pipeline as a user's files.
+"""
+
+import datetime
+import io
+import time
+
+import numpy as np
+from django.contrib.auth import get_user_model
+from django.core.files.uploadedfile import SimpleUploadedFile
+from django.core.management.base import BaseCommand
+from django.db import transaction
+
+from survey.models import Asset, Client, Member, Organization, Site, Survey, Thermogram
+from survey.services import surveys as services
+
+PASSWORD = "demo-thermal-2026"
+FICTION = "Fictional demonstration data: every name, place and image here is invented."
+RNG_SEED = 20260114
+
+
+def _noise(rng: np.random.Generator, shape, sigma: float = 0.06) -> np.ndarray:
+    # A camera's temporal noise is a few hundredths of a kelvin (NETD 30–100 mK).
+    return rng.normal(0.0, sigma, shape)
+
+
+def _grid(width: int, height: int):
+    y, x = np.mgrid[0:height, 0:width].astype(np.float64)
+    return x, y
+
+
+def wall_with_slab_bridge(rng) -> np.ndarray:
+    """Inside of an external wall: a cold band where the floor slab meets it, colder still
+    in the corner where two outside walls meet (two-dimensional heat flow)."""
+    x, y = _grid(240, 180)
+    field = 18.6 - 0.004 * y
+    slab = 4.2 * np.exp(-((y - 150) ** 2) / (2 * 6.0**2))
+    corner = 2.5 * np.exp(-(x**2) / (2 * 18.0**2)) * np.exp(-((y - 150) ** 2) / (2 * 30.0**2))
+    return (field - slab - corner + _noise(rng, x.shape)).astype(np.float32)
+
+
+def window_corner(rng) -> np.ndarray:
+    """A window seen from inside: cool glass, a warmer frame and a cold reveal corner."""
+    x, y = _grid(200, 160)
+    field = np.full(x.shape, 18.8)
+    frame = (x > 50) & (x < 190) & (y > 20) & (y < 130)
+    glass = (x > 60) & (x < 180) & (y > 30) & (y < 120)
+    field[frame] = 15.5
+    field[glass] = 13.0 + 0.01 * (y[glass] - 30)
+    corner = 6.0 * np.exp(-(((x - 52) ** 2) + (y - 128) ** 2) / (2 * 7.0**2))
+    return (field - corner + _noise(rng, x.shape)).astype(np.float32)
+
+
+def missing_insulation(rng) -> np.ndarray:
+    """A wall with a soft-edged patch where the insulation batt is missing."""
+    x, y = _grid(220, 160)
+    field = 18.9 - 0.003 * x
+    patch = ((np.abs(x - 120) < 35) & (np.abs(y - 70) < 28)).astype(np.float64)
+    kernel = np.exp(-(np.linspace(-2, 2, 9) ** 2))
+    kernel /= kernel.sum()
+    for axis in (0, 1):
+        patch = np.apply_along_axis(lambda row: np.convolve(row, kernel, mode="same"), axis, patch)
+    return (field - 3.1 * patch + _noise(rng, x.shape)).astype(np.float32)
+
+
+def wet_roof(rng) -> np.ndarray:
+    """A flat roof at night after a sunny day: a wet area holds the day's heat longer."""
+    x, y = _grid(256, 192)
+    field = -1.5 + 0.004 * x
+    blob = np.exp(-((((x - 150) / 40.0) ** 2 + ((y - 110) / 26.0) ** 2) ** 1.5))
+    return (field + 2.4 * blob + _noise(rng, x.shape, 0.08)).astype(np.float32)
+
+
+def panel_three_phases(rng) -> np.ndarray:
+    """A distribution panel: three phase lugs under the same load, phase B's lug hot."""
+    x, y = _grid(240, 180)
+    field = 27.0 + 0.01 * y
+    for centre_x, peak in ((70, 34.0), (120, 61.0), (170, 33.5)):
+        cable = np.exp(-((x - centre_x) ** 2) / (2 * 5.0**2)) * (y > 60)
+        field += (peak - 27.0) * 0.35 * cable * np.exp(-(y - 60) / 90.0)
+        lug = np.exp(-(((x - centre_x) ** 2) + (y - 60) ** 2) / (2 * 6.0**2))
+        field += (peak - 27.0) * lug
+    return (field + _noise(rng, x.shape, 0.05)).astype(np.float32)
+
+
+def as_npy(array: np.ndarray) -> bytes:
+    buffer = io.BytesIO()
+    np.save(buffer, array, allow_pickle=False)
+    return buffer.getvalue()
+
+
+def as_tiff(array: np.ndarray) -> bytes:
+    import tifffile
+
+    buffer = io.BytesIO()
+    tifffile.imwrite(buffer, array.astype(np.float32))
+    return buffer.getvalue()
+
+
+def as_centikelvin_tiff(array: np.ndarray) -> bytes:
+    import tifffile
+
+    buffer = io.BytesIO()
+    tifffile.imwrite(buffer, np.round((array + 273.15) * 100).astype(np.uint16))
+    return buffer.getvalue()
+
+
+def as_csv(array: np.ndarray) -> bytes:
+    return "\n".join(";".join(f"{v:.2f}" for v in row) for row in array).encode() + b"\n"
+
+
+class Command(BaseCommand):
+    help = "Create (or complete) the invented demo firm with surveys, thermograms and marks."
+
+    def handle(self, *args, **options):
+        started = time.monotonic()
+        rng = np.random.default_rng(RNG_SEED)
+        org, members = self._firm()
+        admin = members["demo"]
+        alder, kestrel = self._clients(org, admin)
+        envelope = self._survey(
+            org,
+            admin,
+            site=alder,
+            kind=Survey.Kind.ENVELOPE,
+            date=datetime.date(2026, 1, 14),
+            title="Winter envelope survey, Block B",
+            thermographer=members["tess"],
+            reviewer=members["rowan"],
+            instrument="Invented LWIR camera, 320×240, serial DEMO-0001, calibrated 2025-06-02",
+            ifov_mrad=1.36,
+            scope_examined="Inside faces of the north and east external walls, flats B1–B4.",
+            scope_not_examined="Roof void (no safe access); flat B5 (no entry).",
+            conditions={
+                "indoor_air_c": 20.5,
+                "indoor_rh_pct": 52.0,
+                "outdoor_air_c": -4.0,
+                "outdoor_rh_pct": 85.0,
+                "wind_m_s": 2.5,
+                "sky": "overcast",
+                "precipitation": "none",
+                "surfaces_dry": True,
+                "hours_since_sun": 16.0,
+                "delta_t_hours": 48.0,
+            },
+        )
+        roof = self._survey(
+            org,
+            admin,
+            site=alder,
+            kind=Survey.Kind.ROOF,
+            date=datetime.date(2026, 4, 22),
+            title="Flat roof moisture survey",
+            thermographer=members["tess"],
+            instrument="Invented LWIR camera, 320×240, serial DEMO-0001",
+            ifov_mrad=1.36,
+            scope_examined="Flat roof over Block B, from the parapet walk.",
+            conditions={
+                "outdoor_air_c": 6.0,
+                "outdoor_rh_pct": 70.0,
+                "wind_m_s": 3.0,
+                "sky": "clear",
+                "precipitation": "none",
+                "surfaces_dry": True,
+                "sunny_day_before": True,
+            },
+        )
+        electrical = self._survey(
+            org,
+            admin,
+            site=kestrel,
+            kind=Survey.Kind.ELECTRICAL,
+            date=datetime.date(2026, 3, 2),
+            title="Main distribution panel survey",
+            thermographer=members["tess"],
+            reviewer=members["rowan"],
+            instrument="Invented LWIR camera, 320×240, serial DEMO-0001, calibrated 2025-06-02",
+            ifov_mrad=1.36,
+            scope_examined="Main distribution panel MDP-1, covers removed by the site electrician.",
+            scope_not_examined="Transformer room (locked).",
+            conditions={
+                "ambient_air_c": 24.0,
+                "load_pct": 62.0,
+                "equipment_steady": True,
+                "covers_opened_by_qualified": True,
+            },
+        )
+        panel = self._asset(kestrel, admin, "Main distribution panel", Asset.Kind.PANEL, "MDP-1")
+        wall_zone = self._asset(alder, admin, "North wall, flat B2", Asset.Kind.WALL_ZONE, "")
+        roof_section = self._asset(alder, admin, "Roof section B", Asset.Kind.ROOF_SECTION, "")
+
+        slab = self._thermogram(
+            envelope,
+            admin,
+            "B2-north-wall-slab.tif",
+            as_tiff(wall_with_slab_bridge(rng)),
+            emissivity=0.93,
+            reflected_c=20.0,
+            distance_m=3.0,
+            asset=wall_zone,
+            title="North wall at the floor slab, flat B2",
+        )
+        window = self._thermogram(
+            envelope,
+            admin,
+            "B3-window-corner.csv",
+            as_csv(window_corner(rng)),
+            emissivity=0.90,
+            reflected_c=20.0,
+            distance_m=2.0,
+            title="Bedroom window, bottom-left reveal, flat B3",
+        )
+        patch = self._thermogram(
+            envelope,
+            admin,
+            "B4-east-wall.npy",
+            as_npy(missing_insulation(rng)),
+            emissivity=0.93,
+            reflected_c=20.0,
+            distance_m=4.0,
+            title="East wall, living room, flat B4",
+        )
+        wet = self._thermogram(
+            roof,
+            admin,
+            "roof-B-east.tif",
+            as_centikelvin_tiff(wet_roof(rng)),
+            unit="K",
+            scale=0.01,
+            emissivity=0.94,
+            reflected_c=-20.0,
+            distance_m=12.0,
+            asset=roof_section,
+            title="Roof section B, east half",
+        )
+        lugs = self._thermogram(
+            electrical,
+            admin,
+            "MDP-1-incomer-lugs.npy",
+            as_npy(panel_three_phases(rng)),
+            emissivity=0.95,
+            reflected_c=24.0,
+            distance_m=1.0,
+            asset=panel,
+            title="MDP-1 incoming supply lugs, phases A–C",
+        )
+
+        self._marks(
+            slab,
+            admin,
+            [
+                ("rectangle", [[60, 40], [180, 100]], {"note": "Clear wall, reference"}),
+                ("line", [[120, 60], [120, 175]], {"note": "Profile down to the slab edge"}),
+                ("point", [[4, 150]], {"note": "Coldest corner at the slab"}),
+            ],
+        )
+        self._marks(
+            window,
+            admin,
+            [
+                ("ellipse", [[42, 118], [62, 138]], {"note": "Reveal corner"}),
+                ("rectangle", [[5, 20], [40, 140]], {"note": "Wall beside the window"}),
+            ],
+        )
+        self._marks(
+            patch,
+            admin,
+            [
+                ("polygon", [[85, 42], [155, 42], [155, 98], [85, 98]], {"note": "Cold patch"}),
+                ("rectangle", [[10, 10], [60, 150]], {"note": "Sound wall"}),
+            ],
+        )
+        self._marks(wet, admin, [("ellipse", [[110, 84], [190, 136]], {"note": "Warm area"})])
+        self._marks(
+            lugs,
+            admin,
+            [
+                ("ellipse", [[62, 52], [78, 68]], {"note": "Phase A lug"}),
+                ("ellipse", [[112, 52], [128, 68]], {"note": "Phase B lug"}),
+                ("ellipse", [[162, 52], [178, 68]], {"note": "Phase C lug"}),
+            ],
+        )
+        self._findings(envelope, electrical, slab, window, lugs, admin)
+
+        elapsed = time.monotonic() - started
+        self.stdout.write(
+            self.style.SUCCESS(
+                f"Demo data ready in {elapsed:.1f} s: sign in as demo / {PASSWORD} (admin); "
+                f"also tess (thermographer) and rowan (reviewer), same password."
+            )
+        )
+
+    # --- building blocks ----------------------------------------------------------------
+
+    def _firm(self) -> tuple[Organization, dict[str, Member]]:
+        org, _ = Organization.objects.get_or_create(
+            slug="lumen-brook", defaults={"name": "Lumen Brook Thermal Services"}
+        )
+        people = {
+            "demo": ("Dana", "Demo", Member.Role.ADMIN, "Level 2 thermographer (invented)"),
+            "tess": (
+                "Tess",
+                "Varga",
+                Member.Role.THERMOGRAPHER,
+                "Level 1 thermographer (invented)",
+            ),
+            "rowan": ("Rowan", "Achebe", Member.Role.REVIEWER, "Level 3 thermographer (invented)"),
+        }
+        members = {}
+        User = get_user_model()
+        for username, (first, last, role, qualification) in people.items():
+            user, created = User.objects.get_or_create(
+                username=username, defaults={"first_name": first, "last_name": last}
+            )
+            if created:
+                user.set_password(PASSWORD)
+                user.save()
+            member, _ = Member.objects.get_or_create(
+                user=user,
+                defaults={"organization": org, "role": role, "qualification": qualification},
+            )
+            members[username] = member
+        return org, members
+
+    def _clients(self, org: Organization, admin: Member) -> tuple[Site, Site]:
+        sites = []
+        for client_name, site_name, address in (
+            ("Alder Court Housing Trust", "Alder Court, Block B", "1–12 Alder Court (invented)"),
+            ("Kestrel Mill Foods", "Kestrel Mill Foods plant", "Unit 4, Millrace Road (invented)"),
+        ):
+            client = Client.objects.filter(organization=org, name=client_name).first()
+            if client is None:
+                client = services.client_create(
+                    organization=org, user=admin.user, name=client_name, address=FICTION
+                )
+            site = Site.objects.filter(organization=org, client=client, name=site_name).first()
+            if site is None:
+                site = services.site_create(
+                    client=client, user=admin.user, name=site_name, address=address
+                )
+            sites.append(site)
+        return sites[0], sites[1]
+
+    def _survey(self, org, admin, *, site, kind, date, title, conditions, **fields) -> Survey:
+        survey = Survey.objects.filter(organization=org, site=site, title=title).first()
+        if survey is not None:
+            return survey
+        return services.survey_create(
+            organization=org,
+            user=admin.user,
+            site=site,
+            kind=kind,
+            date=date,
+            title=title,
+            notes=FICTION,
+            conditions=conditions,
+            **fields,
+        )
+
+    def _asset(self, site: Site, admin: Member, name: str, kind: str, tag: str) -> Asset:
+        asset = Asset.objects.filter(site=site, name=name).first()
+        if asset is not None:
+            return asset
+        return services.asset_create(
+            site=site, user=admin.user, name=name, kind=kind, tag=tag, notes=FICTION
+        )
+
+    def _thermogram(self, survey, admin, name, data, *, title, **options) -> Thermogram:
+        thermogram = survey.thermograms.filter(original_name=name).first()
+        if thermogram is None:
+            with transaction.atomic():
+                thermogram = services.thermogram_ingest(
+                    survey=survey,
+                    uploaded_file=SimpleUploadedFile(name, data),
+                    user=admin.user,
+                    **options,
+                )
+                thermogram.title = title
+                thermogram.note = FICTION
+                thermogram.save(update_fields=["title", "note"])
+        # Process here too, so marks can be measured even when a worker would do it later.
+        services.thermogram_process(thermogram.pk)
+        thermogram.refresh_from_db()
+        if not thermogram.is_ready:
+            raise RuntimeError(
+                f"Demo thermogram {name} ended {thermogram.status}: {thermogram.error}"
+            )
+        return thermogram
+
+    def _marks(self, thermogram: Thermogram, admin: Member, marks: list) -> None:
+        if thermogram.marks.exists():
+            return
+        from survey.services.marks import mark_add
+
+        for kind, points, options in marks:
+            mark_add(thermogram=thermogram, kind=kind, points=points, user=admin.user, **options)
+
+    def _findings(self, envelope, electrical, slab, window, lugs, admin) -> None:
+        """Findings through the judgement service, when it is installed."""
+        try:
+            from survey.services.findings import finding_create, finding_suggest
+        except ImportError:
+            return
+        if not electrical.findings.exists():
+            phase_a, phase_b = lugs.marks.order_by("label")[:2]
+            suggestion = finding_suggest(
+                survey=electrical, basis="similar", marks=[phase_b], reference=phase_a
+            )
+            finding_create(
+                survey=electrical,
+                user=admin.user,
+                category="connection",
+                suggestion=suggestion,
+                marks=[phase_b],
+                thermogram=lugs,
+                asset=lugs.asset,
+                location="MDP-1, incoming supply, phase B lug",
+                description="Phase B lug much warmer than phases A and C under the same load.",
+                recommendation=(
+                    "Have a licensed electrician de-energize, inspect, clean and re-torque the "
+                    "phase B connection to the maker's value, then re-survey under load."
+                ),
+            )
+        if not envelope.findings.exists():
+            for thermogram, label, category, location, text in (
+                (
+                    slab,
+                    "C",
+                    "thermal_bridge",
+                    "Flat B2, north wall at the floor slab",
+                    "Cold band along the slab edge, coldest in the external corner.",
+                ),
+                (
+                    window,
+                    "A",
+                    "condensation_risk",
+                    "Flat B3, bedroom window reveal",
+                    "Bottom-left reveal corner near the dew point of the room air.",
+                ),
+            ):
+                marks = list(thermogram.marks.filter(label=label))
+                suggestion = finding_suggest(survey=envelope, basis="envelope", marks=marks)
+                finding_create(
+                    survey=envelope,
+                    user=admin.user,
+                    category=category,
+                    suggestion=suggestion,
+                    marks=marks,
+                    thermogram=thermogram,
+                    location=location,
+                    description=text,
+                    recommendation="Confirm with a surface thermometer and hygrometer; refer "
+                    "to a building professional for the repair detail.",
+                )

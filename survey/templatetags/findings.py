@@ -1,0 +1,13 @@
+"""Display helpers of the judgement pages: {{ finding|category_label }}."""
+
+from django import template
+
+from survey import criteria
+
+register = template.Library()
+
+
+@register.filter
+def category_label(finding) -> str:
+    """The readable category of a finding, e.g. 'Missing or displaced insulation'."""
+    return criteria.category_label(finding.survey.kind, finding.category)

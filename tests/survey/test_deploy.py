@@ -1,0 +1,149 @@
+"""Deployment files: docker-compose.yml, .env.example and Django's deployment checks."""
+
+import os
+import re
+import secrets
+import subprocess
+import sys
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+
+
+def parse_compose(text: str) -> dict:
+    """Parse the YAML subset docker-compose.yml uses: block mappings and lists, quoted and
+    plain scalars, folded scalars (>), anchors (&name) and merge keys (<<: *name).
+
+    PyYAML is not a dependency; this small reader is enough to check our own file.
+    """
+    lines = [
+        (len(raw) - len(raw.lstrip(" ")), raw.strip())
+        for raw in text.splitlines()
+        if raw.strip() and not raw.lstrip().startswith("#")
+    ]
+    anchors: dict[str, object] = {}
+
+    def scalar(value: str) -> str:
+        if len(value) >= 2 and value[0] == value[-1] and value[0] in "'\"":
+            return value[1:-1]
+        return value
+
+    def block(index: int, indent: int) -> tuple[object, int]:
+        if lines[index][1].startswith("- "):
+            items = []
+            while (
+                index < len(lines)
+                and lines[index][0] == indent
+                and lines[index][1].startswith("- ")
+            ):
+                items.append(scalar(lines[index][1][2:].strip()))
+                index += 1
+            return items, index
+        mapping: dict[str, object] = {}
+        while index < len(lines) and lines[index][0] == indent:
+            key, _, rest = lines[index][1].partition(":")
+            key, rest = scalar(key.strip()), rest.strip()
+            index += 1
+            anchor = None
+            if rest.startswith("&"):
+                anchor, _, rest = rest[1:].partition(" ")
+                rest = rest.strip()
+            deeper = index < len(lines) and lines[index][0] > indent
+            if rest in ("", ">", "|") and deeper:
+                if rest:
+                    parts = []
+                    while index < len(lines) and lines[index][0] > indent:
+                        parts.append(lines[index][1])
+                        index += 1
+                    value: object = " ".join(parts)
+                else:
+                    value, index = block(index, lines[index][0])
+            elif rest.startswith("*"):
+                value = anchors[rest[1:]]
+            else:
+                value = scalar(rest)
+            if anchor:
+                anchors[anchor] = value
+            if key == "<<":
+                for merged_key, merged_value in value.items():
+                    mapping.setdefault(merged_key, merged_value)
+            else:
+                mapping[key] = value
+        return mapping, index
+
+    parsed, _ = block(0, 0)
+    return parsed
+
+
+def compose() -> dict:
+    return parse_compose((ROOT / "docker-compose.yml").read_text())
+
+
+def test_it_defines_the_four_services_with_health_checks():
+    """web, worker, redis and postgres each have a health check and a restart policy."""
+    services = compose()["services"]
+    assert set(services) == {"web", "worker", "redis", "postgres"}
+    for name, service in services.items():
+        assert service["healthcheck"]["test"], name
+        assert service["restart"] == "unless-stopped", name
+    assert "gunicorn" in services["web"]["command"]
+    assert "celery -A survey worker" in services["worker"]["command"]
+    assert "--max-tasks-per-child" in services["worker"]["command"]
+
+
+def test_it_keeps_the_database_and_media_in_volumes():
+    """The database and media survive a container rebuild."""
+    data = compose()
+    assert {"db", "media"} <= set(data["volumes"])
+    services = data["services"]
+    assert "db:/var/lib/postgresql/data" in services["postgres"]["volumes"]
+    for name in ("web", "worker"):
+        assert "media:/data/media" in services[name]["volumes"], name
+        assert services[name]["environment"]["MEDIA_ROOT"] == "/data/media"
+
+
+def test_it_requires_the_secrets():
+    """SECRET_KEY, ALLOWED_HOSTS and the database password have no default."""
+    services = compose()["services"]
+    environment = services["web"]["environment"]
+    assert environment["SECRET_KEY"] == "${SECRET_KEY:?set SECRET_KEY}"
+    assert environment["ALLOWED_HOSTS"].startswith("${ALLOWED_HOSTS:?")
+    assert environment["DEBUG"] == "0"
+    assert services["postgres"]["environment"]["POSTGRES_PASSWORD"].startswith(
+        "${POSTGRES_PASSWORD:?"
+    )
+    assert services["web"]["depends_on"]["postgres"]["condition"] == "service_healthy"
+
+
+def test_it_lists_every_setting_in_the_env_example():
+    """Each environment variable settings.py reads is documented in .env.example."""
+    settings_text = (ROOT / "survey" / "settings.py").read_text()
+    used = set(re.findall(r'env_(?:str|bool|int|list)\(\s*"([A-Z0-9_]+)"', settings_text))
+    listed = set(re.findall(r"^([A-Z0-9_]+)=", (ROOT / ".env.example").read_text(), re.MULTILINE))
+    assert used, "no env_* calls found in settings.py"
+    assert used - listed == set()
+
+
+def test_it_passes_the_deployment_checks():
+    """`manage.py check --deploy` with production settings reports no errors."""
+    environment = {
+        key: value
+        for key, value in os.environ.items()
+        if key not in {"DATABASE_URL", "REDIS_URL", "DJANGO_SETTINGS_MODULE"}
+    }
+    environment.update(
+        DEBUG="0",
+        SECRET_KEY=secrets.token_urlsafe(50),
+        ALLOWED_HOSTS="example.org",
+        DJANGO_SETTINGS_MODULE="survey.settings",
+    )
+    result = subprocess.run(
+        [sys.executable, "manage.py", "check", "--deploy", "--fail-level", "ERROR"],
+        cwd=ROOT,
+        env=environment,
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
+    assert result.returncode == 0, result.stdout + result.stderr
+    assert "ERROR" not in result.stdout + result.stderr
