@@ -1,10 +1,26 @@
+from django import forms
 from django.contrib import admin
 
 from survey import models
 
 
+class CriteriaTableAdminForm(forms.ModelForm):
+    class Meta:
+        model = models.CriteriaTable
+        fields = ["organization", "key", "name", "source", "rows", "copied_from"]
+
+    def clean(self):
+        from survey.services.findings import validate_table_rows
+
+        data = super().clean()
+        if "rows" in data and data.get("key"):
+            data["rows"] = validate_table_rows(key=data["key"], rows=data["rows"])
+        return data
+
+
 @admin.register(models.CriteriaTable)
 class CriteriaTableAdmin(admin.ModelAdmin):
+    form = CriteriaTableAdminForm
     list_display = ["name", "key", "organization", "updated_at"]
     list_filter = ["organization"]
 

@@ -1,0 +1,303 @@
+"""Forms of the judgement pages: they only validate; services decide."""
+
+import json
+
+from django import forms
+from django.core.exceptions import ValidationError
+
+from survey import criteria
+from survey.models import Asset, Finding, Mark, Survey, Thermogram
+
+LEVEL_CHOICES = [("", "Use the suggested level")] + [
+    (value, label) for value, label in Finding.Level.choices
+]
+
+
+def add_service_error(form: forms.Form, error: ValidationError) -> None:
+    """Show a service's ValidationError on the form: on its field when the form has one."""
+    if hasattr(error, "error_dict"):
+        for field, errors in error.message_dict.items():
+            form.add_error(field if field in form.fields else None, errors)
+    else:
+        form.add_error(None, error.messages)
+
+
+def _optional_float(label, low, high, **kwargs):
+    return forms.FloatField(
+        label=label,
+        required=False,
+        min_value=low,
+        max_value=high,
+        error_messages={
+            "min_value": f"{label}: at least {low}.",
+            "max_value": f"{label}: at most {high}.",
+            "invalid": f"{label}: enter a number.",
+        },
+        **kwargs,
+    )
+
+
+class FindingForm(forms.Form):
+    marks = forms.ModelMultipleChoiceField(
+        queryset=Mark.objects.none(),
+        required=False,
+        widget=forms.CheckboxSelectMultiple,
+        help_text="The first ticked mark is the place judged. None ticked: the whole thermogram.",
+    )
+    basis = forms.ChoiceField(label="Judge by")
+    reference = forms.ModelChoiceField(
+        queryset=Mark.objects.none(),
+        required=False,
+        label="Reference (like component)",
+        help_text="Only for a rise over a like component; defaults to the mark's own reference.",
+    )
+    load_exponent = forms.FloatField(
+        label="Load-correction exponent",
+        initial=2.0,
+        min_value=1.0,
+        max_value=3.0,
+        required=False,
+        help_text="2 from I²R heating; 1.6–2 in practice.",
+        error_messages={
+            "min_value": "The exponent is between 1 and 3.",
+            "max_value": "The exponent is between 1 and 3.",
+        },
+    )
+    design_inside_c = _optional_float("Design indoor temperature (°C)", -10, 40)
+    design_inside_rh_pct = _optional_float("Design indoor humidity (%)", 1, 100)
+    design_outside_c = _optional_float("Design outdoor temperature (°C)", -60, 30)
+    view_angle_deg = _optional_float(
+        "Viewing angle (°)", 0, 79, help_text="0° is square-on to the roof."
+    )
+    category = forms.ChoiceField()
+    level = forms.TypedChoiceField(
+        choices=LEVEL_CHOICES, coerce=int, empty_value=None, required=False, label="Level"
+    )
+    override_reason = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 2}),
+        required=False,
+        max_length=2000,
+        label="Reason for another level",
+    )
+    recommendation = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 2}), required=False, max_length=4000
+    )
+    location = forms.CharField(required=False, max_length=200)
+    description = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=4000
+    )
+    asset = forms.ModelChoiceField(queryset=Asset.objects.none(), required=False)
+    previous = forms.ModelChoiceField(
+        queryset=Finding.objects.none(),
+        required=False,
+        label="Re-measures the earlier finding",
+    )
+
+    def __init__(self, *args, thermogram: Thermogram, **kwargs):
+        super().__init__(*args, **kwargs)
+        survey = thermogram.survey
+        self.thermogram = thermogram
+        marks = thermogram.marks.all()
+        self.fields["marks"].queryset = marks
+        self.fields["reference"].queryset = marks
+        self.fields["basis"].choices = criteria.BASES[survey.kind]
+        self.fields["category"].choices = criteria.FINDING_CATEGORIES[survey.kind]
+        self.fields["asset"].queryset = Asset.objects.filter(
+            organization=survey.organization, site=survey.site
+        )
+        self.fields["previous"].queryset = Finding.objects.filter(
+            organization=survey.organization,
+            survey__site=survey.site,
+            survey__status=Survey.Status.ACTIVE,
+            status__in=[Finding.Status.OPEN, Finding.Status.REPAIRED],
+        ).exclude(survey=survey)
+        kind_fields = {
+            "envelope": {"design_inside_c", "design_inside_rh_pct", "design_outside_c"},
+            "roof": {"view_angle_deg"},
+            "electrical": {"reference", "load_exponent"},
+            "mechanical": {"reference", "load_exponent"},
+        }
+        for name in {
+            "design_inside_c",
+            "design_inside_rh_pct",
+            "design_outside_c",
+            "view_angle_deg",
+            "reference",
+            "load_exponent",
+        } - kind_fields[survey.kind]:
+            del self.fields[name]
+
+    def suggest_arguments(self) -> dict:
+        data = self.cleaned_data
+        ordered = sorted(data["marks"], key=lambda m: (len(m.label), m.label))
+        arguments = {
+            "survey": self.thermogram.survey,
+            "basis": data["basis"],
+            "marks": ordered,
+            "thermogram": self.thermogram,
+        }
+        for name in (
+            "reference",
+            "design_inside_c",
+            "design_inside_rh_pct",
+            "design_outside_c",
+            "view_angle_deg",
+        ):
+            if name in data and data[name] is not None:
+                arguments[name] = data[name]
+        if data.get("load_exponent"):
+            arguments["load_exponent"] = data["load_exponent"]
+        return arguments
+
+    def create_arguments(self) -> dict:
+        data = self.cleaned_data
+        names = (
+            "category",
+            "level",
+            "override_reason",
+            "recommendation",
+            "location",
+            "description",
+            "asset",
+            "previous",
+        )
+        return {name: data[name] for name in names if name in data}
+
+
+class FindingEditForm(forms.Form):
+    category = forms.ChoiceField()
+    level = forms.TypedChoiceField(choices=Finding.Level.choices, coerce=int, label="Level")
+    override_reason = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 2}),
+        required=False,
+        max_length=2000,
+        label="Reason for another level than suggested",
+    )
+    recommendation = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 2}), required=False, max_length=4000
+    )
+    location = forms.CharField(required=False, max_length=200)
+    description = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=4000
+    )
+    asset = forms.ModelChoiceField(queryset=Asset.objects.none(), required=False)
+
+    def __init__(self, *args, finding: Finding, **kwargs):
+        kwargs.setdefault(
+            "initial",
+            {
+                "category": finding.category,
+                "level": finding.level,
+                "override_reason": finding.override_reason,
+                "recommendation": finding.recommendation,
+                "location": finding.location,
+                "description": finding.description,
+                "asset": finding.asset_id,
+            },
+        )
+        super().__init__(*args, **kwargs)
+        self.fields["category"].choices = criteria.FINDING_CATEGORIES[finding.survey.kind]
+        self.fields["asset"].queryset = Asset.objects.filter(
+            organization=finding.organization, site=finding.survey.site
+        )
+
+
+class FindingStatusForm(forms.Form):
+    status = forms.ChoiceField(choices=Finding.Status.choices)
+    note = forms.CharField(
+        required=False,
+        max_length=1000,
+        label="Note",
+        help_text="For verified: how the repair was confirmed.",
+    )
+
+
+GEOMETRY_CHOICES = [
+    ("vertical", "Vertical wall or plate (size = height)"),
+    ("horizontal_up", "Horizontal surface, warm side up (size = side length)"),
+    ("horizontal_down", "Horizontal surface, warm side down (size = side length)"),
+    ("cylinder", "Horizontal pipe (size = outside diameter)"),
+]
+
+
+class HeatLossForm(forms.Form):
+    label = forms.CharField(max_length=200, initial="Heat loss")
+    mark = forms.ModelChoiceField(queryset=Mark.objects.none(), required=False)
+    finding = forms.ModelChoiceField(queryset=Finding.objects.none(), required=False)
+    t_surface_c = forms.FloatField(
+        label="Surface temperature (°C)",
+        min_value=-60,
+        max_value=600,
+        required=False,
+        help_text="Leave empty to take the mark's corrected mean.",
+    )
+    t_reference_c = _optional_float(
+        "Sound surface nearby (°C)",
+        -60,
+        600,
+        help_text="Optional: estimate only the excess lost because of the defect.",
+    )
+    t_air_c = forms.FloatField(label="Air temperature (°C)", min_value=-60, max_value=100)
+    t_surroundings_c = _optional_float(
+        "Surroundings (°C)", -60, 100, help_text="Defaults to the air temperature."
+    )
+    emissivity = forms.FloatField(
+        min_value=0.01,
+        max_value=1.0,
+        required=False,
+        help_text="Leave empty to take the mark's emissivity.",
+    )
+    geometry = forms.ChoiceField(choices=GEOMETRY_CHOICES)
+    size_m = forms.FloatField(label="Size (m)", min_value=0.001, max_value=100)
+    area_m2 = forms.FloatField(label="Area (m²)", min_value=0.0001, max_value=100000)
+    wind_m_s = forms.FloatField(label="Wind (m/s)", min_value=0, max_value=40, initial=0.0)
+    hours_per_year = forms.FloatField(
+        label="Hours per year",
+        min_value=0,
+        max_value=8784,
+        initial=5000,
+        help_text="Hours a year the surface is at these temperatures.",
+    )
+    price_per_kwh = forms.FloatField(
+        label="Energy price per kWh", min_value=0, max_value=100, initial=0.0
+    )
+    currency = forms.CharField(max_length=10, required=False, initial="EUR")
+    efficiency_pct = forms.FloatField(
+        label="Heat source efficiency (%)",
+        min_value=1,
+        max_value=600,
+        initial=90,
+        help_text="Boiler efficiency, or a heat pump's COP × 100.",
+    )
+
+    def __init__(self, *args, survey: Survey, **kwargs):
+        super().__init__(*args, **kwargs)
+        self.fields["mark"].queryset = Mark.objects.filter(thermogram__survey=survey)
+        self.fields["finding"].queryset = Finding.objects.filter(survey=survey)
+
+    def clean(self):
+        data = super().clean()
+        mark = data.get("mark")
+        if mark is None:
+            if data.get("t_surface_c") is None:
+                self.add_error("t_surface_c", "Give the surface temperature, or pick a mark.")
+            if data.get("emissivity") is None:
+                self.add_error("emissivity", "Give the emissivity, or pick a mark.")
+        return data
+
+
+class CriteriaRowsForm(forms.Form):
+    rows = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 14, "cols": 80}),
+        help_text="A JSON list of rows, as explained above.",
+    )
+    source = forms.CharField(widget=forms.Textarea(attrs={"rows": 2}), required=False)
+
+    def clean_rows(self):
+        try:
+            rows = json.loads(self.cleaned_data["rows"])
+        except json.JSONDecodeError as error:
+            raise ValidationError(f"Not valid JSON (line {error.lineno}): {error.msg}.") from None
+        if not isinstance(rows, list):
+            raise ValidationError("The rows must be a JSON list, [ … ].")
+        return rows

@@ -1,0 +1,290 @@
+"""Pages of the judgement layer: findings, assets, criteria tables, heat-loss estimates."""
+
+import json
+
+from django.contrib import messages
+from django.contrib.auth.decorators import login_required
+from django.core.exceptions import ValidationError
+from django.http import HttpRequest, HttpResponse
+from django.shortcuts import get_object_or_404, redirect, render
+from django.views.decorators.http import require_POST
+
+from survey import criteria
+from survey.access import (
+    findings_for,
+    get_asset_for_user,
+    get_finding_for_user,
+    get_member,
+    get_site_for_user,
+    get_survey_for_user,
+    get_thermogram_for_user,
+    require_admin,
+    require_editor,
+)
+from survey.cautions import cautions_for, cautions_for_kinds
+from survey.charts import trend_svg
+from survey.finding_forms import (
+    CriteriaRowsForm,
+    FindingEditForm,
+    FindingForm,
+    FindingStatusForm,
+    HeatLossForm,
+    add_service_error,
+)
+from survey.models import CriteriaTable, Finding
+from survey.services import assets as asset_services
+from survey.services import findings as finding_services
+
+OPEN = [Finding.Status.OPEN, Finding.Status.REPAIRED]
+
+
+def _initial_marks(request: HttpRequest, thermogram) -> dict:
+    ids = [i for i in request.GET.getlist("marks") if i.isdigit()]
+    initial = {"marks": list(thermogram.marks.filter(pk__in=ids))}
+    if request.GET.get("previous", "").isdigit():
+        initial["previous"] = int(request.GET["previous"])
+    if thermogram.asset_id:
+        initial["asset"] = thermogram.asset_id
+    return initial
+
+
+def _first_suggestion(thermogram, initial: dict) -> dict | None:
+    """Coming from the workspace with marks ticked: suggest at once by the first basis."""
+    if not initial.get("marks"):
+        return None
+    basis = criteria.BASES[thermogram.survey.kind][0][0]
+    marks = sorted(initial["marks"], key=lambda m: (len(m.label), m.label))
+    try:
+        return finding_services.finding_suggest(
+            survey=thermogram.survey, basis=basis, marks=marks, thermogram=thermogram
+        )
+    except ValidationError:
+        return None
+
+
+@login_required
+def finding_create(request: HttpRequest, pk: int) -> HttpResponse:
+    thermogram = get_thermogram_for_user(request, pk)
+    member = get_member(request)
+    require_editor(member)
+    data = request.POST if request.method == "POST" else None
+    form = FindingForm(data, thermogram=thermogram, initial=_initial_marks(request, thermogram))
+    suggestion = _first_suggestion(thermogram, form.initial) if data is None else None
+    if data is not None and form.is_valid():
+        try:
+            suggestion = finding_services.finding_suggest(**form.suggest_arguments())
+            if "save" in request.POST:
+                finding = finding_services.finding_create(
+                    survey=thermogram.survey,
+                    user=request.user,
+                    suggestion=suggestion,
+                    marks=form.suggest_arguments()["marks"],
+                    thermogram=thermogram,
+                    **form.create_arguments(),
+                )
+                messages.success(request, "Finding recorded.")
+                return redirect("survey:finding", finding.pk)
+        except ValidationError as error:
+            add_service_error(form, error)
+    context = {"form": form, "thermogram": thermogram, "survey": thermogram.survey}
+    return render(request, "survey/findings/form.html", context | {"suggestion": suggestion})
+
+
+@login_required
+def finding_detail(request: HttpRequest, pk: int) -> HttpResponse:
+    finding = get_finding_for_user(request, pk)
+    context = {
+        "finding": finding,
+        "survey": finding.survey,
+        "category": criteria.category_label(finding.survey.kind, finding.category),
+        "status_form": FindingStatusForm(initial={"status": finding.status}),
+        "verification": asset_services.repair_verification(finding),
+        "estimates": finding.heat_loss_estimates.all(),
+        "cautions": cautions_for(finding.survey.kind),
+    }
+    return render(request, "survey/findings/detail.html", context)
+
+
+@login_required
+def finding_edit(request: HttpRequest, pk: int) -> HttpResponse:
+    finding = get_finding_for_user(request, pk)
+    require_editor(get_member(request))
+    form = FindingEditForm(request.POST or None, finding=finding)
+    if request.method == "POST" and form.is_valid():
+        try:
+            finding_services.finding_update(finding=finding, user=request.user, **form.cleaned_data)
+        except ValidationError as error:
+            add_service_error(form, error)
+            finding.refresh_from_db()
+        else:
+            messages.success(request, "Finding updated.")
+            return redirect("survey:finding", finding.pk)
+    return render(request, "survey/findings/edit.html", {"form": form, "finding": finding})
+
+
+@login_required
+@require_POST
+def finding_status(request: HttpRequest, pk: int) -> HttpResponse:
+    finding = get_finding_for_user(request, pk)
+    require_editor(get_member(request))
+    form = FindingStatusForm(request.POST)
+    if not form.is_valid():
+        messages.error(request, "Choose open, repaired or verified.")
+        return redirect("survey:finding", finding.pk)
+    try:
+        finding_services.finding_set_status(finding=finding, user=request.user, **form.cleaned_data)
+        messages.success(request, f"Status set to {finding.get_status_display().lower()}.")
+    except ValidationError as error:
+        messages.error(request, " ".join(error.messages))
+    return redirect("survey:finding", finding.pk)
+
+
+@login_required
+@require_POST
+def finding_verify(request: HttpRequest, pk: int) -> HttpResponse:
+    finding = get_finding_for_user(request, pk)
+    require_editor(get_member(request))
+    try:
+        asset_services.finding_verify(finding=finding, user=request.user)
+        messages.success(request, "Repair verified by the later measurement.")
+    except ValidationError as error:
+        messages.error(request, " ".join(error.messages))
+    if request.POST.get("next") == "asset" and finding.asset_id:
+        return redirect("survey:asset", finding.asset_id)
+    return redirect("survey:finding", finding.pk)
+
+
+@login_required
+def survey_findings(request: HttpRequest, pk: int) -> HttpResponse:
+    survey = get_survey_for_user(request, pk)
+    findings = survey.findings.select_related("thermogram", "asset").order_by("level", "created_at")
+    context = {
+        "survey": survey,
+        "findings": findings,
+        "thermograms": survey.thermograms.filter(status="ready"),
+        "conditions_checks": criteria.conditions_check(survey),
+        "estimates": survey.heat_loss_estimates.select_related("mark", "finding"),
+        "cautions": cautions_for(survey.kind),
+    }
+    return render(request, "survey/findings/survey_findings.html", context)
+
+
+@login_required
+def site_findings(request: HttpRequest, pk: int) -> HttpResponse:
+    site = get_site_for_user(request, pk)
+    findings = (
+        findings_for(get_member(request))
+        .filter(survey__site=site, status__in=OPEN)
+        .select_related("survey", "asset", "thermogram")
+        .order_by("level", "survey__date", "created_at")
+    )
+    kinds = sorted({f.survey.kind for f in findings})
+    context = {"site": site, "findings": findings, "cautions": cautions_for_kinds(kinds)}
+    return render(request, "survey/findings/site_findings.html", context)
+
+
+@login_required
+def asset_detail(request: HttpRequest, pk: int) -> HttpResponse:
+    asset = get_asset_for_user(request, pk)
+    visits = asset_services.asset_history(asset)
+    kinds = sorted({v["survey"].kind for v in visits})
+    context = {
+        "asset": asset,
+        "visits": visits,
+        "chart": _asset_chart(asset, visits),
+        "verifications": asset_services.asset_verifications(asset, visits),
+        "cautions": cautions_for_kinds(kinds),
+    }
+    return render(request, "survey/assets/detail.html", context)
+
+
+def _asset_chart(asset, visits) -> str:
+    points = asset_services.trend_points(visits)
+    thresholds = []
+    for basis in ("similar", "ambient"):
+        if any(v["key_rise"] and v["key_rise"]["basis"] == basis for v in visits):
+            table = finding_services.criteria_table_for(
+                organization=asset.organization, basis=basis
+            )
+            threshold = criteria.no_finding_below(table.rows)
+            if threshold is not None:
+                thresholds.append((threshold, f"{basis}: no finding below {threshold:g} K"))
+    return trend_svg(points, 560, 220, "K", title=f"Rise at {asset}", thresholds=thresholds)
+
+
+@login_required
+def asset_trend_svg(request: HttpRequest, pk: int) -> HttpResponse:
+    asset = get_asset_for_user(request, pk)
+    svg = _asset_chart(asset, asset_services.asset_history(asset))
+    return HttpResponse(svg, content_type="image/svg+xml")
+
+
+@login_required
+def heat_loss_create(request: HttpRequest, pk: int) -> HttpResponse:
+    survey = get_survey_for_user(request, pk)
+    require_editor(get_member(request))
+    initial = {k: request.GET[k] for k in ("mark", "finding") if request.GET.get(k, "").isdigit()}
+    form = HeatLossForm(request.POST or None, survey=survey, initial=initial)
+    if request.method == "POST" and form.is_valid():
+        try:
+            finding_services.heat_loss_estimate_create(
+                survey=survey, user=request.user, **form.cleaned_data
+            )
+        except ValidationError as error:
+            add_service_error(form, error)
+        else:
+            messages.success(request, "Heat-loss estimate added.")
+            return redirect("survey:survey_findings", survey.pk)
+    context = {
+        "form": form,
+        "survey": survey,
+        "cautions": cautions_for(survey.kind, heat_loss=True),
+    }
+    return render(request, "survey/findings/heat_loss_form.html", context)
+
+
+@login_required
+def criteria_tables(request: HttpRequest) -> HttpResponse:
+    member = get_member(request)
+    tables = [
+        finding_services.criteria_table_for(organization=member.organization, basis=basis)
+        for basis in criteria.TABLE_KEY_FOR_BASIS
+    ]
+    return render(request, "survey/findings/criteria_tables.html", {"tables": tables})
+
+
+@login_required
+@require_POST
+def criteria_copy(request: HttpRequest) -> HttpResponse:
+    member = get_member(request)
+    require_admin(member)
+    finding_services.criteria_table_copy_defaults(
+        organization=member.organization, user=request.user
+    )
+    messages.success(request, "Your organization now has its own copy of the tables to edit.")
+    return redirect("survey:criteria_tables")
+
+
+@login_required
+def criteria_edit(request: HttpRequest, pk: int) -> HttpResponse:
+    member = get_member(request)
+    require_admin(member)
+    table = get_object_or_404(CriteriaTable, pk=pk, organization=member.organization)
+    form = CriteriaRowsForm(
+        request.POST or None,
+        initial={
+            "rows": json.dumps(table.rows, indent=2, ensure_ascii=False),
+            "source": table.source,
+        },
+    )
+    if request.method == "POST" and form.is_valid():
+        try:
+            finding_services.criteria_table_update(
+                table=table, user=request.user, **form.cleaned_data
+            )
+        except ValidationError as error:
+            add_service_error(form, error)
+        else:
+            messages.success(request, f"{table.name} saved.")
+            return redirect("survey:criteria_tables")
+    return render(request, "survey/findings/criteria_edit.html", {"form": form, "table": table})

@@ -1,0 +1,220 @@
+"""Pages of findings, assets, criteria tables and heat-loss estimates."""
+
+import pytest
+from django.urls import reverse
+
+from survey.models import CriteriaTable, Finding, HeatLossEstimate
+from survey.services.findings import finding_create, finding_suggest
+from tests.survey.findings_data import equipment_survey, hot_and_reference, make_asset
+
+
+@pytest.fixture(autouse=True)
+def _fast_passwords(settings):
+    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
+
+
+@pytest.fixture
+def setup(org, site, thermographer):
+    asset = make_asset(org, site)
+    survey = equipment_survey(org, site, thermographer, ambient_air_c=24.0, load_pct=100.0)
+    thermogram, hot, reference = hot_and_reference(survey, 20.0, 30.0, asset=asset)
+    suggestion = finding_suggest(survey=survey, basis="similar", marks=[hot])
+    finding = finding_create(
+        survey=survey,
+        user=thermographer.user,
+        category="connection",
+        suggestion=suggestion,
+        marks=[hot],
+    )
+    return {
+        "survey": survey,
+        "thermogram": thermogram,
+        "hot": hot,
+        "reference": reference,
+        "finding": finding,
+        "asset": asset,
+        "site": site,
+    }
+
+
+def _get_urls(s):
+    return [
+        reverse("survey:finding_create", args=[s["thermogram"].pk]),
+        reverse("survey:finding", args=[s["finding"].pk]),
+        reverse("survey:finding_edit", args=[s["finding"].pk]),
+        reverse("survey:survey_findings", args=[s["survey"].pk]),
+        reverse("survey:heat_loss_create", args=[s["survey"].pk]),
+        reverse("survey:site_findings", args=[s["site"].pk]),
+        reverse("survey:asset", args=[s["asset"].pk]),
+        reverse("survey:asset_trend", args=[s["asset"].pk]),
+    ]
+
+
+def test_it_answers_404_to_an_outsider_on_every_page(setup, outsider_client):
+    """Another organization's findings, assets, sites and surveys do not exist for Otto."""
+    for url in _get_urls(setup):
+        assert outsider_client.get(url).status_code == 404, url
+    for name in ("finding_status", "finding_verify", "finding_edit"):
+        url = reverse(f"survey:{name}", args=[setup["finding"].pk])
+        assert outsider_client.post(url, {"status": "open"}).status_code == 404, url
+    table = CriteriaTable.objects.filter(organization__isnull=True).first()
+    url = reverse("survey:criteria_edit", args=[table.pk])
+    assert outsider_client.get(url).status_code == 404
+
+
+def test_it_shows_every_page_to_a_member(setup, thermographer_client):
+    """Every page renders for a member of the organization."""
+    for url in _get_urls(setup) + [reverse("survey:criteria_tables")]:
+        response = thermographer_client.get(url)
+        assert response.status_code == 200, url
+    page = thermographer_client.get(reverse("survey:finding", args=[setup["finding"].pk]))
+    assert b"qualified persons" in page.content  # cautions on a ranked finding
+    assert b"Judged by" in page.content
+
+
+def test_it_creates_a_finding_with_the_suggestion(setup, thermographer_client):
+    """Posting marks and save records a level-3 finding judged by the like-component table."""
+    url = reverse("survey:finding_create", args=[setup["thermogram"].pk])
+    response = thermographer_client.post(
+        url,
+        {
+            "marks": [setup["hot"].pk],
+            "basis": "similar",
+            "load_exponent": "2",
+            "category": "component",
+            "level": "",
+            "save": "1",
+        },
+    )
+    created = Finding.objects.exclude(pk=setup["finding"].pk).get()
+    assert response.status_code == 302
+    assert created.level == 3  # 10 K over a like component [memory, NETA MTS]
+    assert created.criteria_table.key == "electrical-similar"
+
+
+def test_it_shows_the_suggestion_and_why(setup, thermographer_client):
+    """The suggest button shows the level and the reasons without saving."""
+    url = reverse("survey:finding_create", args=[setup["thermogram"].pk])
+    response = thermographer_client.post(
+        url,
+        {"marks": [setup["hot"].pk], "basis": "similar", "category": "component", "suggest": "1"},
+    )
+    assert response.status_code == 200
+    assert b"rise 10.0 K" in response.content
+    assert Finding.objects.count() == 1
+
+
+def test_it_asks_for_a_reason_for_another_level_and_saves_nothing(setup, thermographer_client):
+    """An override without reason shows a message on the form; no finding is added."""
+    url = reverse("survey:finding_create", args=[setup["thermogram"].pk])
+    response = thermographer_client.post(
+        url,
+        {
+            "marks": [setup["hot"].pk],
+            "basis": "similar",
+            "category": "component",
+            "level": "1",
+            "save": "1",
+        },
+    )
+    assert response.status_code == 200
+    assert b"Say why you chose another level" in response.content
+    assert Finding.objects.count() == 1
+
+
+def test_it_answers_bad_input_with_a_message(setup, thermographer_client):
+    """Nonsense numbers and missing choices give form messages, never a 500."""
+    url = reverse("survey:finding_create", args=[setup["thermogram"].pk])
+    response = thermographer_client.post(
+        url, {"basis": "nonsense", "load_exponent": "abc", "category": "", "save": "1"}
+    )
+    assert response.status_code == 200
+    assert b"errorlist" in response.content
+    heat = reverse("survey:heat_loss_create", args=[setup["survey"].pk])
+    response = thermographer_client.post(heat, {"label": "x", "t_air_c": "warm", "size_m": "-1"})
+    assert response.status_code == 200
+    assert b"errorlist" in response.content
+    assert not HeatLossEstimate.objects.exists()
+
+
+def test_it_adds_a_heat_loss_estimate_from_a_mark(setup, thermographer_client):
+    """A mark's corrected mean and emissivity are used when left empty."""
+    url = reverse("survey:heat_loss_create", args=[setup["survey"].pk])
+    response = thermographer_client.post(
+        url,
+        {
+            "label": "Hot lug",
+            "mark": setup["hot"].pk,
+            "t_air_c": "24",
+            "geometry": "vertical",
+            "size_m": "0.2",
+            "area_m2": "0.01",
+            "wind_m_s": "0",
+            "hours_per_year": "8760",
+            "price_per_kwh": "0.2",
+            "efficiency_pct": "100",
+        },
+    )
+    assert response.status_code == 302
+    estimate = HeatLossEstimate.objects.get()
+    assert estimate.inputs["t_surface_c"] == pytest.approx(30.0, abs=0.01)
+    assert estimate.inputs["emissivity"] == 1.0
+
+
+def test_it_changes_the_status_and_refuses_verified_without_a_note(setup, thermographer_client):
+    """Repaired is set; verified without a note shows a message and changes nothing."""
+    url = reverse("survey:finding_status", args=[setup["finding"].pk])
+    thermographer_client.post(url, {"status": "repaired"})
+    setup["finding"].refresh_from_db()
+    assert setup["finding"].status == "repaired"
+    response = thermographer_client.post(url, {"status": "verified"}, follow=True)
+    assert b"Say how the repair was confirmed" in response.content
+    setup["finding"].refresh_from_db()
+    assert setup["finding"].status == "repaired"
+
+
+def test_it_lists_open_findings_of_a_site_by_severity(setup, thermographer_client, thermographer):
+    """Level 1 comes before level 3 on the site page."""
+    survey = setup["survey"]
+    _, hot, _ = hot_and_reference(survey, 20.0, 40.0)
+    urgent = finding_create(
+        survey=survey,
+        user=thermographer.user,
+        category="connection",
+        suggestion=finding_suggest(survey=survey, basis="similar", marks=[hot]),
+    )
+    assert urgent.level == 1  # 20 K over a like component [memory, NETA MTS]
+    page = thermographer_client.get(reverse("survey:site_findings", args=[setup["site"].pk]))
+    findings = list(page.context["findings"])
+    assert findings == [urgent, setup["finding"]]
+
+
+def test_it_serves_the_trend_chart_as_svg(setup, thermographer_client):
+    """The asset's trend chart is an SVG image."""
+    response = thermographer_client.get(reverse("survey:asset_trend", args=[setup["asset"].pk]))
+    assert response["Content-Type"] == "image/svg+xml"
+    assert response.content.startswith(b"<svg")
+
+
+def test_it_lets_only_admins_copy_and_edit_tables(setup, thermographer_client, client, owner):
+    """A thermographer may not copy; the admin copies, and bad JSON gives a message."""
+    url = reverse("survey:criteria_copy")
+    assert thermographer_client.post(url).status_code == 403
+    client.force_login(owner.user)
+    client.post(url)
+    table = CriteriaTable.objects.get(organization=owner.organization, key="electrical-similar")
+    edit = reverse("survey:criteria_edit", args=[table.pk])
+    response = client.post(edit, {"rows": "[{bad json", "source": ""})
+    assert response.status_code == 200 and b"Not valid JSON" in response.content
+    response = client.post(
+        edit, {"rows": '[{"label": "x", "up_to_c": 3, "level": 4, "action": "w"}]'}
+    )
+    assert response.status_code == 200 and b"last row" in response.content
+
+
+def test_it_suggests_at_once_when_marks_come_ticked(setup, thermographer_client):
+    """A link from the workspace with ?marks= shows the suggestion on arrival."""
+    url = reverse("survey:finding_create", args=[setup["thermogram"].pk])
+    response = thermographer_client.get(f"{url}?marks={setup['hot'].pk}&marks=junk")
+    assert response.status_code == 200
+    assert response.context["suggestion"]["level"] == 3  # 10 K, like component [memory]
