@@ -66,8 +66,6 @@ def _fast_passwords(settings):
 def _media_in_tmp(settings, tmp_path_factory):
     """Each test writes media in its own folder; celery runs eagerly unless a test says not."""
     settings.MEDIA_ROOT = str(tmp_path_factory.mktemp("media"))
-    # A fast hasher: the default one takes about half a second per persona.
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
     settings.CELERY_TASK_ALWAYS_EAGER = True
     from survey.celery import app
 

@@ -1,0 +1,486 @@
+"""The thermogram workspace page and its JSON endpoints.
+
+Session authentication with CSRF (the page's script sends the csrftoken cookie back in the
+X-CSRFToken header). Errors answer {"error": "...", "fields": {...}} with 400, 401, 403,
+404 or 405; another organization's id answers 404 like one that does not exist.
+"""
+
+import json
+from functools import wraps
+
+import numpy as np
+from django import forms
+from django.contrib.auth.decorators import login_required
+from django.core.exceptions import PermissionDenied, ValidationError
+from django.http import Http404, HttpRequest, HttpResponse, JsonResponse
+from django.shortcuts import render
+from django.urls import NoReverseMatch, reverse
+from django.views.decorators.csrf import ensure_csrf_cookie
+
+from survey.access import (
+    get_mark_for_user,
+    get_member,
+    get_thermogram_for_user,
+    require_editor,
+    thermograms_for,
+)
+from survey.models import Mark, Thermogram
+from survey.services import marks as mark_services
+from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
+from survey.services.readings import (
+    correction_table,
+    indoor_air,
+    mark_readings,
+    reference_air_c,
+    surface_limit_c,
+    thermogram_readings,
+)
+
+WORKSPACE_CAUTION = (
+    "Shiny, low-emissivity surfaces reflect their surroundings: their corrected values are "
+    "only as good as the emissivity and reflected temperature entered. Thermography shows "
+    "surface temperature patterns, not their causes."
+)
+
+
+def _error(status: int, message: str, fields: dict | None = None) -> JsonResponse:
+    return JsonResponse({"error": message, "fields": fields or {}}, status=status)
+
+
+def _validation_error(error: ValidationError) -> JsonResponse:
+    if hasattr(error, "error_dict"):
+        fields = {name: " ".join(messages) for name, messages in error.message_dict.items()}
+        general = fields.pop("__all__", "")
+        first = next(iter(fields.items()), None)
+        message = general or (f"{first[0]}: {first[1]}" if first else "Invalid input.")
+        return _error(400, message, fields)
+    return _error(400, " ".join(error.messages))
+
+
+def api(*methods: str):
+    """JSON endpoint: signed-in members only, listed methods only, errors as JSON."""
+
+    def decorator(view):
+        @wraps(view)
+        def wrapper(request: HttpRequest, *args, **kwargs) -> HttpResponse:
+            if not request.user.is_authenticated:
+                return _error(401, "Sign in to use the API.")
+            if request.method not in methods:
+                response = _error(405, f"Use {' or '.join(methods)} here.")
+                response["Allow"] = ", ".join(methods)
+                return response
+            try:
+                return view(request, *args, **kwargs)
+            except Http404:
+                return _error(404, "Not found.")
+            except PermissionDenied as error:
+                return _error(403, str(error) or "Your role cannot do this.")
+            except ValidationError as error:
+                return _validation_error(error)
+            except ThermogramNotReady as error:
+                return _error(409, str(error))
+
+        return wrapper
+
+    return decorator
+
+
+def _body(request: HttpRequest) -> dict:
+    try:
+        data = json.loads(request.body or b"{}")
+    except (ValueError, UnicodeDecodeError):
+        raise ValidationError("The request body is not valid JSON.") from None
+    if not isinstance(data, dict):
+        raise ValidationError("The request body must be a JSON object.")
+    return data
+
+
+class MarkForm(forms.Form):
+    """The editable fields of a mark; points are checked by the service."""
+
+    kind = forms.ChoiceField(choices=Mark.Kind.choices, required=False)
+    emissivity = forms.FloatField(
+        required=False,
+        min_value=0.01,
+        max_value=1.0,
+        error_messages={
+            "min_value": "Emissivity must be between 0.01 and 1.",
+            "max_value": "Emissivity must be between 0.01 and 1.",
+            "invalid": "Emissivity must be a number between 0.01 and 1.",
+        },
+    )
+    reflected_c = forms.FloatField(
+        required=False,
+        min_value=-60,
+        max_value=500,
+        error_messages={
+            "min_value": "Reflected temperature must be between −60 and 500 °C.",
+            "max_value": "Reflected temperature must be between −60 and 500 °C.",
+            "invalid": "Reflected temperature must be a number of °C.",
+        },
+    )
+    note = forms.CharField(required=False, max_length=4000, strip=True)
+    reference = forms.CharField(required=False, max_length=8)
+    single_pixel = forms.BooleanField(required=False)
+
+    def __init__(self, data: dict, thermogram: Thermogram, mark: Mark | None = None):
+        super().__init__(data)
+        self.thermogram = thermogram
+        self.mark = mark
+
+    def clean_reference(self) -> dict:
+        """'A' (another mark's label), 'ambient', or empty for no reference."""
+        value = (self.cleaned_data.get("reference") or "").strip()
+        if value in {"", "none"}:
+            return {"reference_kind": Mark.ReferenceKind.NONE, "reference_mark": None}
+        if value == "ambient":
+            return {"reference_kind": Mark.ReferenceKind.AMBIENT, "reference_mark": None}
+        other = self.thermogram.marks.filter(label=value.upper()).first()
+        if other is None:
+            raise ValidationError(f"There is no mark {value} on this thermogram.")
+        if self.mark is not None and other.pk == self.mark.pk:
+            raise ValidationError("A mark cannot be its own reference.")
+        return {"reference_kind": Mark.ReferenceKind.MARK, "reference_mark": other}
+
+
+def _mark_options(data: dict, thermogram: Thermogram, mark: Mark | None = None) -> dict:
+    """Validate the JSON fields given; returns only those, as service keyword arguments."""
+    allowed = {"emissivity", "reflected_c", "note", "reference", "single_pixel", "points"}
+    allowed |= {"kind"} if mark is None else set()
+    unknown = sorted(set(data) - allowed)
+    if unknown:
+        raise ValidationError({name: "Unknown or read-only field." for name in unknown})
+    for name in ("emissivity", "reflected_c"):
+        if isinstance(data.get(name), (bool, str)):
+            raise ValidationError({name: f"{name} must be a number or null."})
+    form = MarkForm({k: v for k, v in data.items() if k != "points"}, thermogram, mark)
+    if not form.is_valid():
+        raise ValidationError({name: errors for name, errors in form.errors.items()})
+    options = {}
+    for name in data:
+        if name == "reference":
+            options |= form.cleaned_data["reference"]
+        elif name == "points":
+            options["points"] = data["points"]
+        else:
+            options[name] = form.cleaned_data[name]
+    return options
+
+
+def mark_json(mark: Mark, readings: dict) -> dict:
+    """A mark as the API shows it: stats (apparent) and corrected figures."""
+    stats = {k: v for k, v in (mark.stats or {}).items() if k != "profile"}
+    corrected = readings["corrected"]
+    return {
+        "id": mark.pk,
+        "label": mark.label,
+        "kind": mark.kind,
+        "points": mark.points,
+        "single_pixel": mark.single_pixel,
+        "note": mark.note,
+        "emissivity": mark.emissivity,
+        "reflected_c": mark.reflected_c,
+        "effective_emissivity": readings["emissivity"],
+        "effective_reflected_c": readings["reflected_c"],
+        "emissivity_warning": readings["emissivity_warning"],
+        "reference": readings["reference"],
+        "stats": stats,
+        "corrected": {
+            "min_c": corrected["min"],
+            "max_c": corrected["max"],
+            "mean_c": corrected["mean"],
+            "uncertainty_c": readings["uncertainty_c"],
+        },
+        "error": readings.get("error"),
+        "delta_t_c": readings["delta_t_c"],
+        "delta_t_quantitative": readings["delta_t_quantitative"],
+        "dew_point_c": readings["dew_point_c"],
+        "surface_rh_pct": readings["surface_rh_pct"],
+        "condensation_margin_k": readings["condensation_margin_k"],
+        "mould_margin_k": readings["mould_margin_k"],
+        "profile": readings["profile"],
+        "url": reverse("survey:api-mark", args=[mark.pk]),
+    }
+
+
+def _marks_json(thermogram: Thermogram) -> list[dict]:
+    marks = {m.pk: m for m in thermogram.marks.all()}
+    return [mark_json(marks[r["id"]], r) for r in thermogram_readings(thermogram)]
+
+
+def _neighbours(request: HttpRequest, thermogram: Thermogram) -> dict:
+    ids = list(
+        thermograms_for(get_member(request))
+        .filter(survey=thermogram.survey)
+        .order_by("sequence", "id")
+        .values_list("id", flat=True)
+    )
+    index = ids.index(thermogram.pk)
+
+    def link(pk: int | None) -> dict | None:
+        if pk is None:
+            return None
+        return {
+            "id": pk,
+            "page": reverse("survey:thermogram", args=[pk]),
+            "api": reverse("survey:api-thermogram", args=[pk]),
+        }
+
+    return {
+        "position": index + 1,
+        "count": len(ids),
+        "previous": link(ids[index - 1] if index > 0 else None),
+        "next": link(ids[index + 1] if index + 1 < len(ids) else None),
+    }
+
+
+def _palettes() -> dict:
+    """The server's colour ramps (256 × RGB each), so the page renders exactly like it."""
+    from survey.thermal import PALETTES
+
+    return {name: np.asarray(ramp, dtype=int).tolist() for name, ramp in PALETTES.items()}
+
+
+def _colours() -> dict:
+    from survey.thermal.render import (
+        CONDENSATION_COLOUR,
+        ISOTHERM_COLOUR,
+        MOULD_RISK_COLOUR,
+        NO_DATA_COLOUR,
+    )
+
+    return {
+        "no_data": list(NO_DATA_COLOUR),
+        "isotherm": list(ISOTHERM_COLOUR),
+        "mould_risk": list(MOULD_RISK_COLOUR),
+        "condensation": list(CONDENSATION_COLOUR),
+    }
+
+
+def _auto_span(thermogram: Thermogram) -> list[float] | None:
+    from survey.thermal import auto_span
+
+    if not thermogram.is_ready:
+        return None
+    low, high = auto_span(thermogram_temperatures(thermogram))
+    return [round(float(low), 2), round(float(high), 2)]
+
+
+LIMITS = {"rh80": 80.0, "rh100": 100.0}
+
+
+def condensation_overlay(thermogram: Thermogram) -> dict:
+    """Apparent-temperature thresholds at and below which surfaces reach 80 % and 100 % RH."""
+    from survey.thermal import apparent_temperature
+
+    air = indoor_air(thermogram.survey)
+    if air is None:
+        return {
+            "available": False,
+            "reason": "Needs a building survey with indoor air temperature and RH recorded.",
+        }
+    t_air_c, rh_pct = air
+    try:
+        surfaces = {key: surface_limit_c(t_air_c, rh_pct, limit) for key, limit in LIMITS.items()}
+        apparent = {
+            key: float(
+                apparent_temperature(
+                    surface_c,
+                    thermogram.emissivity,
+                    thermogram.reflected_c,
+                    transmittance=thermogram.transmittance,
+                    atmosphere_c=thermogram.atmosphere_c,
+                )
+            )
+            for key, surface_c in surfaces.items()
+        }
+    except ValueError as error:
+        return {"available": False, "reason": f"Cannot compute the overlay: {error}"}
+    return {
+        "available": True,
+        "indoor_air_c": t_air_c,
+        "indoor_rh_pct": rh_pct,
+        "surface_c": {k: round(v, 2) for k, v in surfaces.items()},
+        "apparent_c": {k: round(v, 2) for k, v in apparent.items()},
+        "emissivity": thermogram.emissivity,
+        "reflected_c": thermogram.reflected_c,
+    }
+
+
+def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
+    member = get_member(request)
+    survey = thermogram.survey
+    ready = thermogram.is_ready
+    pk = thermogram.pk
+    return {
+        "id": pk,
+        "title": str(thermogram),
+        "status": thermogram.status,
+        "status_label": thermogram.get_status_display(),
+        "error": thermogram.error,
+        "width": thermogram.width,
+        "height": thermogram.height,
+        "min_c": thermogram.min_c,
+        "max_c": thermogram.max_c,
+        "estimated": thermogram.estimated,
+        "capture": {
+            "captured_at": thermogram.captured_at,
+            "emissivity": thermogram.emissivity,
+            "reflected_c": thermogram.reflected_c,
+            "transmittance": thermogram.transmittance,
+            "atmosphere_c": thermogram.atmosphere_c,
+            "distance_m": thermogram.distance_m,
+        },
+        "display": {
+            "palette": thermogram.palette,
+            "span_low_c": thermogram.span_low_c,
+            "span_high_c": thermogram.span_high_c,
+            "auto_span": _auto_span(thermogram),
+        },
+        "palettes": _palettes(),
+        "colours": _colours(),
+        "unit": member.temperature_unit,
+        "can_edit": member.can_edit,
+        "survey": {
+            "id": survey.pk,
+            "title": str(survey),
+            "kind": survey.kind,
+            "is_building": survey.is_building,
+            "reference_air_c": reference_air_c(survey),
+            "page": _survey_page(survey.pk),
+        },
+        "correction": correction_table(thermogram) if ready else None,
+        "condensation": condensation_overlay(thermogram),
+        "photo": {
+            "url": reverse("survey:thermogram_photo", args=[pk]),
+            "alignment": thermogram.photo_alignment,
+        }
+        if thermogram.photo
+        else None,
+        "neighbours": _neighbours(request, thermogram),
+        "urls": {
+            "self": reverse("survey:api-thermogram", args=[pk]),
+            "page": reverse("survey:thermogram", args=[pk]),
+            "temperatures": reverse("survey:api-thermogram-temperatures", args=[pk]),
+            "marks": reverse("survey:api-marks", args=[pk]),
+            "alignment": reverse("survey:api-thermogram-alignment", args=[pk]),
+        },
+        "marks": _marks_json(thermogram) if ready else [],
+    }
+
+
+def _survey_page(survey_pk: int) -> str | None:
+    try:
+        return reverse("survey:survey", args=[survey_pk])
+    except NoReverseMatch:  # the survey page belongs to another area
+        return None
+
+
+@login_required
+@ensure_csrf_cookie
+def workspace(request: HttpRequest, pk: int) -> HttpResponse:
+    thermogram = get_thermogram_for_user(request, pk)
+    context = {
+        "thermogram": thermogram,
+        "survey": thermogram.survey,
+        "caution": WORKSPACE_CAUTION,
+        "api_url": reverse("survey:api-thermogram", args=[pk]),
+        "survey_url": _survey_page(thermogram.survey_id),
+    }
+    return render(request, "survey/workspace.html", context)
+
+
+@api("GET")
+def thermogram_detail(request: HttpRequest, pk: int) -> JsonResponse:
+    thermogram = get_thermogram_for_user(request, pk)
+    return JsonResponse(thermogram_json(request, thermogram))
+
+
+@api("GET")
+def thermogram_temperatures_binary(request: HttpRequest, pk: int) -> HttpResponse:
+    """The °C array, row by row, little-endian float32 (or float16 with ?dtype=float16).
+
+    Values are value·scale + offset °C (scale and offset in the X-Scale and X-Offset
+    headers; 1 and 0 for float32). NaN marks pixels without a reading.
+    """
+    thermogram = get_thermogram_for_user(request, pk)
+    dtype = request.GET.get("dtype", "float32")
+    if dtype not in {"float32", "float16"}:
+        return _error(400, "dtype must be float32 or float16.", {"dtype": "float32 or float16"})
+    etag = f'"{thermogram.original_sha256[:16]}-{thermogram.array.name}-{dtype}"'
+    if request.headers.get("If-None-Match") == etag:
+        response = HttpResponse(status=304)
+    else:
+        array = thermogram_temperatures(thermogram)
+        scale, offset = 1.0, 0.0
+        if dtype == "float16":
+            finite = array[np.isfinite(array)]
+            offset = float((finite.min() + finite.max()) / 2) if finite.size else 0.0
+            data = (array - offset).astype("<f2")
+        else:
+            data = array.astype("<f4")
+        response = HttpResponse(data.tobytes(), content_type="application/octet-stream")
+        response["X-Width"] = str(array.shape[1])
+        response["X-Height"] = str(array.shape[0])
+        response["X-Dtype"] = dtype
+        response["X-Scale"] = repr(scale)
+        response["X-Offset"] = repr(offset)
+    response["ETag"] = etag
+    response["Cache-Control"] = "private, max-age=86400"
+    return response
+
+
+@api("GET", "POST")
+def marks_collection(request: HttpRequest, pk: int) -> JsonResponse:
+    thermogram = get_thermogram_for_user(request, pk)
+    if request.method == "GET":
+        return JsonResponse({"marks": _marks_json(thermogram)})
+    require_editor(get_member(request))
+    data = _body(request)
+    for name in ("kind", "points"):
+        if name not in data:
+            raise ValidationError({name: "This field is required."})
+    options = _mark_options(data, thermogram)
+    mark = mark_services.mark_add(thermogram=thermogram, user=request.user, **options)
+    return JsonResponse(mark_json(mark, mark_readings(mark)), status=201)
+
+
+@api("GET", "PATCH", "DELETE")
+def mark_detail(request: HttpRequest, pk: int) -> HttpResponse:
+    mark = get_mark_for_user(request, pk)
+    if request.method == "GET":
+        return JsonResponse(mark_json(mark, mark_readings(mark)))
+    require_editor(get_member(request))
+    if request.method == "DELETE":
+        mark_services.mark_delete(mark=mark, user=request.user)
+        return HttpResponse(status=204)
+    options = _mark_options(_body(request), mark.thermogram, mark)
+    mark = mark_services.mark_update(mark=mark, user=request.user, **options)
+    return JsonResponse(mark_json(mark, mark_readings(mark)))
+
+
+@api("GET", "PUT", "DELETE")
+def thermogram_alignment(request: HttpRequest, pk: int) -> JsonResponse:
+    """The photo alignment: PUT {"pairs": [[[photo x, y], [thermogram x, y]], …]}."""
+    thermogram = get_thermogram_for_user(request, pk)
+    if request.method != "GET":
+        require_editor(get_member(request))
+        pairs = _body(request).get("pairs") if request.method == "PUT" else None
+        if request.method == "PUT" and pairs is None:
+            raise ValidationError({"pairs": "Give two or three pairs of matching points."})
+        thermogram = mark_services.thermogram_set_alignment(
+            thermogram=thermogram, pairs=pairs, user=request.user
+        )
+    return JsonResponse({"alignment": thermogram.photo_alignment})
+
+
+@api("GET")
+def thermogram_overlays(request: HttpRequest, pk: int) -> JsonResponse:
+    thermogram = get_thermogram_for_user(request, pk)
+    return JsonResponse({"condensation": condensation_overlay(thermogram)})
+
+
+@api("GET")
+def thermogram_neighbours(request: HttpRequest, pk: int) -> JsonResponse:
+    thermogram = get_thermogram_for_user(request, pk)
+    return JsonResponse(_neighbours(request, thermogram))

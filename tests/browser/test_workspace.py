@@ -1,0 +1,264 @@
+"""The workspace in real headless Chromium (Debian's chromium + chromedriver) via selenium.
+
+Skips when the browser is not installed, and fails instead under REQUIRE_SERVICES=1.
+"""
+
+import os
+import shutil
+import tempfile
+import time
+
+import numpy as np
+import pytest
+from django.test import Client as DjangoClient
+from django.urls import reverse
+
+from survey.models import Mark
+from survey.services.readings import mark_readings
+from tests.factories import make_thermogram
+
+pytestmark = [pytest.mark.browser, pytest.mark.slow]
+
+CHROMIUM = "/usr/bin/chromium"
+CHROMEDRIVER = "/usr/bin/chromedriver"
+
+
+def _require_browser() -> None:
+    missing = [path for path in (CHROMIUM, CHROMEDRIVER) if not os.path.exists(path)]
+    try:
+        import selenium  # noqa: F401
+    except ImportError:
+        missing.append("the selenium package")
+    if missing:
+        reason = f"browser tests need {', '.join(missing)}"
+        if os.environ.get("REQUIRE_SERVICES") == "1":
+            pytest.fail(f"{reason}, and REQUIRE_SERVICES=1")
+        pytest.skip(reason)
+
+
+@pytest.fixture(scope="module")
+def browser():
+    _require_browser()
+    from selenium import webdriver
+    from selenium.webdriver.chrome.service import Service
+
+    profile = tempfile.mkdtemp(prefix="heatmark-chromium-")
+    options = webdriver.ChromeOptions()
+    options.binary_location = CHROMIUM
+    for flag in (
+        "--headless=new",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-dev-shm-usage",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-quic",
+        "--no-first-run",
+        "--disable-sync",
+        "--window-size=1280,800",
+        "--force-device-scale-factor=1",
+        f"--user-data-dir={profile}",
+    ):
+        options.add_argument(flag)
+    options.set_capability("goog:loggingPrefs", {"browser": "ALL"})
+    driver = webdriver.Chrome(service=Service(executable_path=CHROMEDRIVER), options=options)
+    driver.set_window_size(1280, 800)
+    try:
+        yield driver
+    finally:
+        driver.quit()
+        shutil.rmtree(profile, ignore_errors=True)
+
+
+def wait_for(condition, timeout=10.0, message="condition"):
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        value = condition()
+        if value:
+            return value
+        time.sleep(0.05)
+    raise AssertionError(f"timed out waiting for {message}")
+
+
+def open_workspace(browser, live_server, member, thermogram):
+    client = DjangoClient()
+    client.force_login(member.user)
+    browser.get(live_server.url + "/accounts/login/")
+    browser.delete_all_cookies()
+    browser.add_cookie(
+        {"name": "sessionid", "value": client.cookies["sessionid"].value, "path": "/"}
+    )
+    browser.get(live_server.url + reverse("survey:thermogram", args=[thermogram.pk]))
+    wait_for(
+        lambda: browser.execute_script(
+            "return document.querySelectorAll('#ws-table-head th').length > 0"
+        ),
+        message="the workspace to load",
+    )
+
+
+def image_offset(browser, thermogram, x, y):
+    """Offset from the canvas centre of image pixel (x, y) in the fitted view."""
+    width, height = browser.execute_script(
+        "var r = document.getElementById('ws-canvas').getBoundingClientRect();"
+        "return [r.width, r.height];"
+    )
+    zoom = min(width / thermogram.width, height / thermogram.height)
+    pan_x = (width - thermogram.width * zoom) / 2
+    pan_y = (height - thermogram.height * zoom) / 2
+    return (
+        round(pan_x + (x + 0.5) * zoom - width / 2),
+        round(pan_y + (y + 0.5) * zoom - height / 2),
+    )
+
+
+def table_rows(browser):
+    return browser.execute_script(
+        "return Array.from(document.querySelectorAll('#ws-table-body tr[data-label]'))"
+        ".map(r => [r.dataset.label, r.querySelector('.ws-corrected-max').textContent]);"
+    )
+
+
+def severe_console_errors(browser):
+    entries = browser.get_log("browser")
+    return [e for e in entries if e["level"] == "SEVERE" and "favicon.ico" not in e["message"]]
+
+
+def field_with_cold_corner():
+    """20 °C wall with a 35 °C warm spot and a 10 °C corner (below the mould limit)."""
+    y, x = np.mgrid[0:120, 0:160].astype(np.float32)
+    field = 20.0 + 15.0 * np.exp(-((x - 112) ** 2 + (y - 48) ** 2) / (2 * 6.0**2))
+    field[80:, :40] = 10.0
+    return field.astype(np.float32)
+
+
+@pytest.fixture
+def workspace_thermogram(transactional_db, envelope_survey):
+    make_thermogram(envelope_survey, field_with_cold_corner())
+    return make_thermogram(envelope_survey, field_with_cold_corner())
+
+
+def test_it_draws_marks_with_the_mouse_and_shows_corrected_values(
+    browser, live_server, thermographer, workspace_thermogram
+):
+    """A rectangle and a point drawn with the mouse appear in the table as the server computes."""
+    from selenium.webdriver.common.action_chains import ActionChains
+    from selenium.webdriver.common.by import By
+    from selenium.webdriver.common.keys import Keys
+
+    thermogram = workspace_thermogram
+    open_workspace(browser, live_server, thermographer, thermogram)
+    canvas = browser.find_element(By.ID, "ws-canvas")
+    browser.find_element(By.CSS_SELECTOR, "button[data-tool=rectangle]").click()
+    start, end = (
+        image_offset(browser, thermogram, 100, 38),
+        image_offset(browser, thermogram, 124, 58),
+    )
+    ActionChains(browser).move_to_element_with_offset(
+        canvas, *start
+    ).click_and_hold().move_to_element_with_offset(canvas, *end).release().perform()
+    wait_for(lambda: len(table_rows(browser)) == 1, message="mark A in the table")
+
+    browser.find_element(By.CSS_SELECTOR, "button[data-tool=point]").click()
+    ActionChains(browser).move_to_element_with_offset(
+        canvas, *image_offset(browser, thermogram, 20, 20)
+    ).click().perform()
+    wait_for(lambda: len(table_rows(browser)) == 2, message="mark B in the table")
+
+    canvas.send_keys(Keys.ENTER, Keys.RIGHT, Keys.RIGHT, Keys.ENTER)  # Point tool, no mouse
+    wait_for(lambda: len(table_rows(browser)) == 3, message="mark C placed with the keyboard")
+    assert Mark.objects.get(thermogram=thermogram, label="C").points == [
+        [82, 60]
+    ]  # centre (80, 60) + 2
+
+    marks = {m.label: m for m in Mark.objects.filter(thermogram=thermogram)}
+    assert marks["A"].kind == "rectangle" and marks["B"].kind == "point"
+    for label, shown in table_rows(browser):
+        expected = mark_readings(marks[label])["corrected"]["max"]
+        assert shown == f"{expected:.1f}", label
+    assert float(dict(table_rows(browser))["A"]) > 35.0  # the 35 °C spot, corrected at ε 0.95
+    assert severe_console_errors(browser) == []
+
+
+def test_it_changes_emissivity_deletes_by_keyboard_and_shows_the_overlay(
+    browser, live_server, thermographer, workspace_thermogram
+):
+    """Edit ε in the form, remove the mark with Delete, toggle condensation risk, screenshot."""
+    from selenium.webdriver.common.by import By
+    from selenium.webdriver.common.keys import Keys
+
+    from survey.services.marks import mark_add
+
+    thermogram = workspace_thermogram
+    mark_add(
+        thermogram=thermogram,
+        kind="rectangle",
+        points=[[100, 38], [124, 58]],
+        user=thermographer.user,
+    )
+    open_workspace(browser, live_server, thermographer, thermogram)
+    wait_for(lambda: len(table_rows(browser)) == 1, message="mark A listed")
+    before = float(table_rows(browser)[0][1])
+
+    browser.find_element(By.CSS_SELECTOR, "#ws-table-body button.ws-label").click()
+    eps = browser.find_element(By.ID, "ws-ed-eps")
+    eps.clear()
+    eps.send_keys("0.6")
+    browser.find_element(By.ID, "ws-ed-save").click()
+    wait_for(
+        lambda: float(table_rows(browser)[0][1]) > before + 1, message="a higher corrected max"
+    )
+    assert Mark.objects.get(thermogram=thermogram).emissivity == 0.6
+
+    colour = (
+        "var c = document.getElementById('ws-canvas'), r = c.getBoundingClientRect();"
+        "var x = arguments[0] + r.width / 2, y = arguments[1] + r.height / 2;"
+        "return Array.from(c.getContext('2d').getImageData(x, y, 1, 1).data.slice(0, 3));"
+    )
+    corner = image_offset(browser, thermogram, 15, 100)
+    plain = browser.execute_script(colour, *corner)
+    browser.find_element(By.ID, "ws-cond").click()
+    wait_for(
+        lambda: browser.execute_script(colour, *corner) == [255, 160, 255], message="mould colour"
+    )
+    assert plain != [255, 160, 255]
+
+    browser.execute_script("window.scrollTo(0, 0)")
+    browser.save_screenshot("/tmp/workspace.png")
+
+    canvas = browser.find_element(By.ID, "ws-canvas")
+    canvas.click()  # Pick tool on empty ground: lets go of the mark
+    canvas.send_keys("]")
+    wait_for(
+        lambda: browser.execute_script(
+            "return !!document.querySelector('#ws-table-body tr.ws-selected')"
+        ),
+        message="mark picked",
+    )
+    canvas.send_keys(Keys.DELETE)
+    wait_for(lambda: len(table_rows(browser)) == 0, message="the mark deleted")
+    assert not Mark.objects.filter(thermogram=thermogram).exists()
+    assert severe_console_errors(browser) == []
+
+
+def test_it_stays_readable_on_a_tablet(browser, live_server, thermographer, workspace_thermogram):
+    """At 768 px wide nothing sticks out sideways; the next thermogram loads in place."""
+    from selenium.webdriver.common.by import By
+
+    browser.set_window_size(768, 1024)
+    try:
+        open_workspace(browser, live_server, thermographer, workspace_thermogram)
+        overflow = browser.execute_script(
+            "return document.documentElement.scrollWidth - document.documentElement.clientWidth"
+        )
+        assert overflow <= 0
+        browser.save_screenshot("/tmp/workspace-tablet.png")
+        browser.find_element(By.ID, "ws-prev").click()
+        wait_for(
+            lambda: "1 of 2" in browser.find_element(By.ID, "ws-position").text, message="previous"
+        )
+        assert browser.current_url.endswith(
+            reverse("survey:thermogram", args=[workspace_thermogram.pk - 1])
+        )
+    finally:
+        browser.set_window_size(1280, 800)
