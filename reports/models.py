@@ -17,7 +17,9 @@ class Report(models.Model):
     class Meta:
         ordering = ["-created_at"]
         constraints = [
-            models.UniqueConstraint(fields=["organization", "number"], name="report_number_per_org"),
+            models.UniqueConstraint(
+                fields=["organization", "number"], name="report_number_per_org"
+            ),
         ]
 
     def __str__(self) -> str:
@@ -40,6 +42,8 @@ class ReportVersion(models.Model):
     progress_pct = models.PositiveSmallIntegerField(default=0)
     pdf = models.FileField(upload_to="reports/%Y/%m/", max_length=300, blank=True)
     sha256 = models.CharField(max_length=64, blank=True)
+    # Digest of the survey data the version was rendered from (printed inside the PDF).
+    content_sha256 = models.CharField(max_length=64, blank=True)
     page_count = models.PositiveIntegerField(null=True, blank=True)
     change_note = models.TextField(blank=True)
     error = models.TextField(blank=True)
@@ -52,6 +56,8 @@ class ReportVersion(models.Model):
     issued_at = models.DateTimeField(null=True, blank=True)
     created_at = models.DateTimeField(auto_now_add=True)
     finished_at = models.DateTimeField(null=True, blank=True)
+    # Set when a worker claims the render and while it works; a stale one can be reclaimed.
+    heartbeat_at = models.DateTimeField(null=True, blank=True)
 
     class Meta:
         ordering = ["report", "-version", "-id"]

@@ -1,0 +1,178 @@
+"""The PDF read back: sections, numbers, cautions, page numbers, pictures and digests."""
+
+import io
+import re
+
+import pytest
+from pypdf import PdfReader
+
+from reports.models import Report, ReportVersion
+from reports.pdf import content_digest, render_pdf
+from reports.services import survey_results
+from survey.models import Conditions, Survey
+from tests.reports.conftest import COLD_C, EMISSIVITY, REFLECTED_C, SOUND_C, kind_survey
+from tests.reports.helpers import dew_point_c, flat, object_c, pdf_text, surface_rh_pct
+
+NUMBER = r"(-?\d+\.\d)"
+
+
+def render(survey: Survey, *, draft: bool = True):
+    report = Report.objects.create(organization=survey.organization, survey=survey, number="R-T1")
+    version = ReportVersion.objects.create(report=report, version=1, is_draft=draft)
+    return render_pdf(version)
+
+
+@pytest.fixture
+def rendered(report_survey):
+    return render(report_survey)
+
+
+def test_it_lays_out_cover_contents_header_and_page_numbers(rendered):
+    """Cover facts; contents with the page each section starts on; header; "page n of N"."""
+    text = pdf_text(rendered.pdf)
+    pages = text.split("\f")[: rendered.page_count]
+    cover = flat(pages[0])
+    for fact in [
+        "Harbour Lane Housing Co-op",
+        "Block C, 14 Harbour Lane",
+        "Building envelope",
+        "14 January 2026",
+        "Northwind Thermal",
+        "Theo Thermographer",
+        "Thermography certificate, level 2",
+        "Rita Reviewer",
+        "R-T1",
+    ]:
+        assert fact in cover
+    for title in [
+        "Verification",
+        "Summary",
+        "Survey conditions",
+        "Method",
+        "Thermograms",
+        "Heat loss",
+        "Limitations and cautions",
+        "References",
+    ]:
+        match = re.search(rf"^{title} ?[. ]+(\d+)$", pages[1], re.MULTILINE)
+        assert match, f"{title} missing from the contents"
+        page = int(match.group(1))
+        assert title in pages[page - 1], f"{title} is not on page {page}"
+    reader = PdfReader(io.BytesIO(rendered.pdf))
+    total = len(reader.pages)
+    assert total == rendered.page_count
+    for number, page in enumerate(reader.pages[1:], start=2):
+        assert f"page {number} of {total}" in page.extract_text()
+        assert "Harbour Lane Housing Co-op · Report R-T1 draft" in pages[number - 1]
+    assert "page 1 of" not in pages[0]
+
+
+def test_it_prints_the_corrected_numbers_of_a_hand_built_survey(rendered):
+    """Mark B's corrected value, ΔT against A, dew point and surface RH match scipy/psychrolib."""
+    corrected_cold = object_c(COLD_C, EMISSIVITY, REFLECTED_C)  # scipy Planck 8–14 µm
+    corrected_sound = object_c(SOUND_C, EMISSIVITY, REFLECTED_C)
+    dew = dew_point_c(20.0, 50.0)  # psychrolib, indoor air of the envelope_survey fixture
+    rh = surface_rh_pct(20.0, 50.0, corrected_cold)
+    row = re.search(
+        rf"^\s*B point\s+0\.93 / 19\.0\s+12\.0 · 12\.0\s+{NUMBER}\s+{NUMBER}\s+{NUMBER}"
+        rf"\s+{NUMBER}\s+(\d+)\s*$",
+        pdf_text(rendered.pdf),
+        re.MULTILINE,
+    )
+    assert row, "row of mark B not found"
+    corrected, _uncertainty, delta_t, dew_printed, rh_printed = row.groups()
+    assert float(corrected) == pytest.approx(corrected_cold, abs=0.06)
+    assert float(delta_t) == pytest.approx(corrected_cold - corrected_sound, abs=0.06)
+    assert float(dew_printed) == pytest.approx(dew, abs=0.06)
+    assert int(rh_printed) == pytest.approx(rh, abs=0.6)
+    text = flat(pdf_text(rendered.pdf))
+    assert "Inside–outside difference 25.0 K" in text  # 20 − (−5), the fixture's air
+    assert "Conditions check" in text and "not recorded" in text
+
+
+@pytest.mark.parametrize(
+    ("kind", "phrases"),
+    [
+        # The wording each caution must carry comes from the issue's list of cautions.
+        ("envelope", ["moisture meter", "not their causes", "local codes", "indicative"]),
+        ("roof", ["fall protection", "moisture meter", "local codes"]),
+        ("electrical", ["qualified persons", "protective equipment", "local codes"]),
+        ("mechanical", ["not their causes", "local codes"]),
+    ],
+)
+def test_it_prints_the_cautions_of_each_survey_kind(org, site, thermographer, kind, phrases):
+    """Limitations and cautions are always present and chosen by the survey's kind."""
+    survey = kind_survey(org, site, thermographer, kind)
+    text = flat(pdf_text(render(survey).pdf))
+    cautions = text[text.rindex("Limitations and cautions") :]
+    for phrase in phrases:
+        assert phrase in cautions
+
+
+def test_it_prints_the_load_correction_of_an_electrical_survey(electrical_report_survey):
+    """65 % load: rises scale by (100/65)² = 2.37 (square law, computed by hand)."""
+    text = flat(pdf_text(render(electrical_report_survey).pdf))
+    assert "load was 65 % of rating" in text
+    assert "factor 2.37" in text
+    assert "1 act now" in text and "re-terminate the L2 lug" in text
+
+
+def test_it_marks_drafts_and_issued_versions_differently(report_survey):
+    """A draft says it is not issued; an issued version says its file is never changed."""
+    draft = flat(pdf_text(render(report_survey, draft=True).pdf))
+    Report.objects.all().delete()
+    final = flat(pdf_text(render(report_survey, draft=False).pdf))
+    assert "Draft, not issued" in draft and "Issued version" not in draft
+    assert "Issued version" in final and "Draft, not issued" not in final
+
+
+def test_it_embeds_print_size_jpegs_and_the_digest_of_the_survey_data(report_survey):
+    """Pictures go in as JPEG of about 170 dpi of their printed width; the data digest too."""
+    rendered = render(report_survey)
+    reader = PdfReader(io.BytesIO(rendered.pdf))
+    widths = []
+    for page in reader.pages:
+        for image in page.images:
+            if image.indirect_reference.get_object().get("/Filter") == "/DCTDecode":
+                widths.append(image.image.width)
+    # 100 mm at 170 dpi = 669 px (thermogram); 34 mm = 228 px (summary thumbnail).
+    assert 669 in widths and 228 in widths
+    assert max(widths) <= 700
+    expected = content_digest(survey_results(report_survey))
+    assert rendered.content_sha256 == expected
+    assert expected in pdf_text(rendered.pdf).replace("\n", "")
+
+
+def test_it_reports_a_survey_without_conditions_or_thermograms(org, site, thermographer):
+    """An empty survey still renders, saying what was not recorded."""
+    survey = kind_survey(org, site, thermographer, "roof")
+    assert not Conditions.objects.filter(survey=survey).exists()
+    text = flat(pdf_text(render(survey).pdf))
+    assert "No conditions were recorded." in text
+    assert "0 thermograms examined; 0 findings." in text
+
+
+def test_it_draws_the_trend_of_an_asset_seen_before(electrical_report_survey, thermographer):
+    """An asset with an earlier visit gets its history chart beside its thermogram."""
+    from survey.models import Finding
+
+    finding = Finding.objects.get(survey=electrical_report_survey)
+    earlier = kind_survey(
+        electrical_report_survey.organization,
+        electrical_report_survey.site,
+        thermographer,
+        "electrical",
+    )
+    Finding.objects.create(
+        organization=earlier.organization,
+        survey=earlier,
+        asset=finding.asset,
+        category="connection",
+        basis="similar",
+        level=3,
+        corrected_rise_c=6.0,
+    )
+    Finding.objects.filter(pk=finding.pk).update(basis="similar", corrected_rise_c=20.0)
+    text = flat(pdf_text(render(electrical_report_survey).pdf))
+    assert "Rise at Main switchboard MSB-1" in text
+    assert "History of Main switchboard MSB-1 across visits" in text
