@@ -11,11 +11,13 @@ the pixel count read from the image header.
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import io
 import math
 import os
 import re
+import threading
 import warnings
 from pathlib import Path
 from typing import IO
@@ -358,6 +360,27 @@ def _read_npy(data: bytes, name: str, max_pixels: int) -> np.ndarray:
     return _plane(values, name)
 
 
+_PILLOW_FLAG_LOCK = threading.Lock()
+
+
+@contextlib.contextmanager
+def _strict_pillow_loading():
+    """Refuse truncated pictures even when another library relaxed Pillow for the process.
+
+    WeasyPrint sets ImageFile.LOAD_TRUNCATED_IMAGES = True when imported, which would make
+    a cut-off thermogram decode as a picture padded with zeros: a silent wrong number.
+    """
+    from PIL import ImageFile
+
+    with _PILLOW_FLAG_LOCK:
+        previous = ImageFile.LOAD_TRUNCATED_IMAGES
+        ImageFile.LOAD_TRUNCATED_IMAGES = False
+        try:
+            yield
+        finally:
+            ImageFile.LOAD_TRUNCATED_IMAGES = previous
+
+
 def _open_picture(data: bytes, name: str, kind: str, max_pixels: int):
     """Open a PNG/JPEG with Pillow, checking the header's size before decoding pixels."""
     from PIL import Image
@@ -376,7 +399,7 @@ def _open_picture(data: bytes, name: str, kind: str, max_pixels: int):
     width, height = image.size
     _check_pixels(name, width, height, max_pixels)
     try:
-        with warnings.catch_warnings():
+        with warnings.catch_warnings(), _strict_pillow_loading():
             warnings.simplefilter("ignore", Image.DecompressionBombWarning)
             image.load()
     except Exception as error:

@@ -263,11 +263,17 @@ def test_read_temperatures_refuses_truncated_tiff():
         read_temperatures(compressed[: len(compressed) // 2], "cut.tif")
 
 
-def test_read_temperatures_refuses_truncated_png():
-    """A PNG cut short is refused as damaged."""
+@pytest.mark.parametrize("pillow_lenient", [False, True])
+def test_read_temperatures_refuses_truncated_png(pillow_lenient, monkeypatch):
+    """A PNG cut short is refused as damaged, even where another library (WeasyPrint does,
+    on import) told Pillow to accept truncated pictures."""
+    from PIL import ImageFile
+
+    monkeypatch.setattr(ImageFile, "LOAD_TRUNCATED_IMAGES", pillow_lenient)
     data = png_bytes(np.arange(64 * 64, dtype=np.uint16).reshape(64, 64))
     with pytest.raises(ThermogramFormatError, match="PNG"):
         read_temperatures(data[: len(data) // 2], "cut.png", scale=0.01)
+    assert ImageFile.LOAD_TRUNCATED_IMAGES is pillow_lenient
 
 
 @pytest.mark.parametrize("side", [5000, 60000])
