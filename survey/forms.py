@@ -5,12 +5,17 @@ convert with the offset, differences (camera accuracy) only with the 5/9 factor.
 below are written in °C and shown to the user in their unit.
 """
 
+import datetime
+
 from django import forms
 from django.core.exceptions import ValidationError
 
 from survey.models import Asset, Conditions, Member, Survey
 
 C, F = Member.TemperatureUnit.CELSIUS, Member.TemperatureUnit.FAHRENHEIT
+# Free text is printed in reports: ten pages is plenty, a megabyte is a mistake.
+TEXT_LIMIT = 20_000
+FIRST_SURVEY_DATE = datetime.date(1950, 1, 1)
 
 
 def c_to_unit(value_c: float | None, unit: str) -> float | None:
@@ -190,11 +195,18 @@ class SurveyForm(UnitFormMixin, forms.Form):
     instrument = forms.CharField(max_length=200, required=False, label="Camera make, model, serial")
     ifov_mrad = _number("IFOV of one pixel (mrad)", 0.01, 100, unit_text=" mrad")
     camera_accuracy_pct = _number("Camera accuracy ± % of reading", 0, 50, True, " %")
-    scope_examined = forms.CharField(widget=forms.Textarea(attrs={"rows": 3}), required=False)
-    scope_not_examined = forms.CharField(
-        widget=forms.Textarea(attrs={"rows": 3}), required=False, label="Not examined, and why"
+    scope_examined = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
     )
-    notes = forms.CharField(widget=forms.Textarea(attrs={"rows": 3}), required=False)
+    scope_not_examined = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 3}),
+        required=False,
+        label="Not examined, and why",
+        max_length=TEXT_LIMIT,
+    )
+    notes = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
+    )
     # Conditions
     indoor_rh_pct = _number("Indoor RH (%)", 0, 100, unit_text=" %")
     outdoor_rh_pct = _number("Outdoor RH (%)", 0, 100, unit_text=" %")
@@ -211,7 +223,10 @@ class SurveyForm(UnitFormMixin, forms.Form):
     equipment_steady = _yes_no("Equipment at steady load")
     covers_opened_by_qualified = _yes_no("Covers opened by a qualified person")
     conditions_notes = forms.CharField(
-        widget=forms.Textarea(attrs={"rows": 2}), required=False, label="Notes on conditions"
+        widget=forms.Textarea(attrs={"rows": 2}),
+        required=False,
+        label="Notes on conditions",
+        max_length=TEXT_LIMIT,
     )
 
     def __init__(self, *args, sites, members, **kwargs):
@@ -219,6 +234,16 @@ class SurveyForm(UnitFormMixin, forms.Form):
         self.fields["site"].queryset = sites
         self.fields["thermographer"].queryset = members
         self.fields["reviewer"].queryset = members
+
+    def clean_date(self):
+        value = self.cleaned_data["date"]
+        latest = datetime.date.today() + datetime.timedelta(days=366)
+        if not FIRST_SURVEY_DATE <= value <= latest:
+            raise ValidationError(
+                f"Enter the date of the visit, between {FIRST_SURVEY_DATE:%Y} "
+                "and a year from today."
+            )
+        return value
 
     def clean_indoor_air_c(self):
         return self._temperature_c("indoor_air_c")
@@ -398,7 +423,9 @@ class ThermogramSettingsForm(UnitFormMixin, forms.Form):
     distance_m = _number("Distance (m)", 0.01, 10000, unit_text=" m")
     palette = forms.ChoiceField(choices=[])
     asset = forms.ModelChoiceField(queryset=None, required=False, empty_label="No asset")
-    note = forms.CharField(widget=forms.Textarea(attrs={"rows": 3}), required=False)
+    note = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
+    )
 
     def __init__(self, *args, assets, **kwargs):
         super().__init__(*args, **kwargs)

@@ -99,6 +99,15 @@ DATABASES = {
         conn_max_age=env_int("DB_CONN_MAX_AGE", 0),
     )
 }
+if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":
+    # The embedded default serves several requests at once: take the write lock when a
+    # transaction starts and wait for it, instead of failing with "database is locked"
+    # when a read-then-write transaction meets another writer.
+    DATABASES["default"]["OPTIONS"] = {
+        "transaction_mode": "IMMEDIATE",
+        "timeout": 20,
+        "init_command": "PRAGMA journal_mode=WAL; PRAGMA synchronous=NORMAL;",
+    }
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
 AUTH_PASSWORD_VALIDATORS = [
@@ -132,6 +141,8 @@ FILE_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
 DATA_UPLOAD_MAX_NUMBER_FILES = 500
 THERMOGRAM_MAX_UPLOAD_BYTES = env_int("THERMOGRAM_MAX_UPLOAD_BYTES", 200 * 1024 * 1024)
 THERMOGRAM_MAX_PIXELS = env_int("THERMOGRAM_MAX_PIXELS", 20_000_000)
+# A thermogram job whose worker has been silent this long may be claimed by another worker.
+THERMOGRAM_STALLED_AFTER_SECONDS = env_int("THERMOGRAM_STALLED_AFTER_SECONDS", 900)
 
 # Celery: with no REDIS_URL every task runs eagerly in the process (the embedded default).
 REDIS_URL = env_str("REDIS_URL", "")
@@ -146,8 +157,11 @@ CELERY_WORKER_MAX_TASKS_PER_CHILD = env_int("CELERY_WORKER_MAX_TASKS_PER_CHILD",
 CELERY_BROKER_CONNECTION_RETRY_ON_STARTUP = True
 # Publishing gives up quickly when Redis is down: the upload is kept as queued and
 # `manage.py requeue_thermograms` sends it later (no request hangs on a dead broker).
+# A task taken by a worker that died (killed, power lost) is handed out again after
+# visibility_timeout seconds; keep it above CELERY_TASK_TIME_LIMIT.
 CELERY_BROKER_TRANSPORT_OPTIONS = {
-    "visibility_timeout": 3600,
+    "visibility_timeout": env_int("CELERY_VISIBILITY_TIMEOUT", 3600),
+    "unacked_restore_interval": env_int("CELERY_UNACKED_RESTORE_INTERVAL", 10),
     "socket_connect_timeout": 2,
     "max_retries": 1,
     "interval_start": 0,
@@ -167,6 +181,8 @@ if not DEBUG:
     SECURE_HSTS_SECONDS = env_int("SECURE_HSTS_SECONDS", 31536000)
     SECURE_HSTS_INCLUDE_SUBDOMAINS = True
     SECURE_HSTS_PRELOAD = env_bool("SECURE_HSTS_PRELOAD", False)
+    # Preloading is a lasting commitment an operator opts into; until then the reminder is noise.
+    SILENCED_SYSTEM_CHECKS = [] if SECURE_HSTS_PRELOAD else ["security.W021"]
     SECURE_PROXY_SSL_HEADER = ("HTTP_X_FORWARDED_PROTO", "https")
 
 LOGGING = {

@@ -3,9 +3,22 @@
 from celery import shared_task
 
 
-@shared_task(acks_late=True, reject_on_worker_lost=True, ignore_result=True)
-def process_thermogram(thermogram_id: int) -> str | None:
-    """Decode one thermogram; safe to run twice (the service claims the row first)."""
-    from survey.services.surveys import thermogram_process
+@shared_task(
+    bind=True, acks_late=True, reject_on_worker_lost=True, ignore_result=True, max_retries=3
+)
+def process_thermogram(self, thermogram_id: int) -> str | None:
+    """Decode one thermogram; safe to run twice (the service claims the row first).
 
-    return thermogram_process(thermogram_id)
+    A delivery that finds the job held by another worker comes back once that worker's
+    heartbeat would be stale: after a worker process is killed, its task is delivered again
+    at once (reject_on_worker_lost) while the row still says `processing`, and dropping that
+    delivery would lose the job.
+    """
+    from survey.models import Thermogram
+    from survey.services.surveys import STALLED_AFTER, thermogram_process
+
+    status = thermogram_process(thermogram_id)
+    held = Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING)
+    if status is None and held.exists():
+        raise self.retry(countdown=STALLED_AFTER.total_seconds() + 1)
+    return status

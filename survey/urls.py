@@ -4,7 +4,8 @@ from django.contrib import admin
 from django.contrib.auth import views as auth_views
 from django.urls import include, path
 
-from survey.views import api, findings, media, pages
+from survey.throttle import ThrottledLoginView
+from survey.views import api, audit, findings, media, pages
 
 # --- pages: home, clients, sites, surveys, upload (survey/views/pages.py) ---
 page_patterns = [
@@ -21,12 +22,19 @@ page_patterns = [
     path("surveys/<int:pk>/delete/", pages.survey_delete, name="survey_delete"),
     path("surveys/<int:pk>/restore/", pages.survey_restore, name="survey_restore"),
     path("thermograms/<int:pk>/settings/", pages.thermogram_settings, name="thermogram_settings"),
-    path("thermograms/<int:pk>/reprocess/", pages.thermogram_reprocess, name="thermogram_reprocess"),
+    path(
+        "thermograms/<int:pk>/reprocess/", pages.thermogram_reprocess, name="thermogram_reprocess"
+    ),
     path("thermograms/<int:pk>/original/", media.thermogram_original, name="thermogram_original"),
     path("thermograms/<int:pk>/preview.png", media.thermogram_preview, name="thermogram_preview"),
-    path("thermograms/<int:pk>/thumbnail.png", media.thermogram_thumbnail, name="thermogram_thumbnail"),
+    path(
+        "thermograms/<int:pk>/thumbnail.png",
+        media.thermogram_thumbnail,
+        name="thermogram_thumbnail",
+    ),
     path("thermograms/<int:pk>/photo/", media.thermogram_photo, name="thermogram_photo"),
     path("thermograms/<int:pk>/celsius.npy", media.thermogram_array, name="thermogram_array"),
+    path("audit/", audit.audit_log, name="audit_log"),
 ]
 
 # --- workspace and JSON endpoints (survey/views/api.py) ---
@@ -76,7 +84,7 @@ survey_patterns = page_patterns + api_patterns + judgement_patterns
 
 urlpatterns = [
     path("admin/", admin.site.urls),
-    path("accounts/login/", auth_views.LoginView.as_view(), name="login"),
+    path("accounts/login/", ThrottledLoginView.as_view(), name="login"),
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),
     path(
         "accounts/password/",

@@ -23,6 +23,7 @@ def audit_record(
         object_id=str(getattr(obj, "pk", "") or ""),
         detail=detail or {},
     )
-    event.full_clean()
+    # Events outside any organization (a sign-in attempt for an unknown name) are allowed.
+    event.full_clean(exclude=["organization"] if organization is None else None)
     event.save()
     return event

@@ -44,7 +44,7 @@ from survey.services.audit import audit_record
 logger = logging.getLogger(__name__)
 
 # A job whose heartbeat is older than this is shown as stalled and may be claimed again.
-STALLED_AFTER = datetime.timedelta(minutes=15)
+STALLED_AFTER = datetime.timedelta(seconds=settings.THERMOGRAM_STALLED_AFTER_SECONDS)
 THUMBNAIL_SIZE = 320
 UNITS = {"C", "F", "K"}
 SURVEY_FIELDS = (
@@ -149,7 +149,14 @@ def survey_create(
 
 
 @transaction.atomic
-def survey_update(*, survey: Survey, user: AbstractBaseUser | None, **changes: Any) -> Survey:
+def survey_update(
+    *,
+    survey: Survey,
+    user: AbstractBaseUser | None,
+    conditions: dict[str, Any] | None = None,
+    **changes: Any,
+) -> Survey:
+    """Change a survey, and its conditions when given, in one transaction."""
     unknown = set(changes) - set(SURVEY_FIELDS)
     if unknown:
         raise TypeError(f"survey_update() got unknown fields: {sorted(unknown)}")
@@ -170,6 +177,8 @@ def survey_update(*, survey: Survey, user: AbstractBaseUser | None, **changes: A
         obj=survey,
         detail={"fields": sorted(changes)},
     )
+    if conditions is not None:
+        conditions_update(survey=survey, user=user, **conditions)
     return survey
 
 
@@ -635,6 +644,14 @@ def _derived_path(thermogram: Thermogram, name: str) -> str:
     return f"derived/{thermogram.organization_id}/{thermogram.pk}/{name}"
 
 
+def _remove_partial_files(thermogram: Thermogram) -> None:
+    """A worker killed while writing leaves its temporary file; the next claim holder clears
+    it (no one else writes here: the time limit ends a worker before its job counts stalled)."""
+    folder = Path(default_storage.path(_derived_path(thermogram, "")))
+    for leftover in folder.glob(".tmp-*"):
+        leftover.unlink(missing_ok=True)
+
+
 def _png_bytes(rgb: np.ndarray, max_side: int | None = None) -> bytes:
     from PIL import Image
 
@@ -676,6 +693,7 @@ def thermogram_process(thermogram_id: int) -> str | None:
     if not _claim(thermogram_id):
         return None
     thermogram = Thermogram.objects.select_related("organization").get(pk=thermogram_id)
+    _remove_partial_files(thermogram)
     try:
         if file_sha256(thermogram.original) != thermogram.original_sha256:
             _finish(

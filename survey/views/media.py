@@ -16,6 +16,7 @@ from django.utils.http import content_disposition_header
 from django.views.decorators.http import require_GET
 
 from survey.access import get_thermogram_for_user
+from survey.services.audit import audit_record
 
 SAFE_TYPES = {
     "image/png",
@@ -61,7 +62,13 @@ def serve_file(
 @require_GET
 def thermogram_original(request: HttpRequest, pk: int) -> HttpResponse:
     thermogram = get_thermogram_for_user(request, pk)
-    return serve_file(thermogram.original, download_name=thermogram.original_name, attachment=True)
+    response = serve_file(
+        thermogram.original, download_name=thermogram.original_name, attachment=True
+    )
+    audit_record(
+        organization=thermogram.organization, actor=request.user, action="download", obj=thermogram
+    )
+    return response
 
 
 @login_required

@@ -162,8 +162,12 @@ def survey_edit(request: HttpRequest, pk: int) -> HttpResponse:
     form = _survey_form(request, member, initial=initial)
     if request.method == "POST" and form.is_valid():
         try:
-            services.survey_update(survey=survey, user=request.user, **form.survey_values())
-            services.conditions_update(survey=survey, user=request.user, **form.conditions_values())
+            services.survey_update(
+                survey=survey,
+                user=request.user,
+                conditions=form.conditions_values(),
+                **form.survey_values(),
+            )
         except ValidationError as error:
             _add_service_error(form, error)
         else:

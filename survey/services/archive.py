@@ -1,0 +1,552 @@
+"""A survey as one zip archive, and back: nothing is lost in a move to another installation.
+
+The archive holds the originals and photos unchanged, the issued PDFs byte for byte, and
+`manifest.json` with every setting, mark, finding, condition and heat-loss estimate, plus
+the survey's computed results (readings of every mark) as they were at export. Derived
+data (°C arrays, previews) is not shipped: the importing installation rebuilds it from the
+originals and their recorded decode settings, and gets the same numbers.
+
+Every file in the archive is checked against the sha256 in the manifest before anything is
+written; an import is one transaction and leaves no file behind when it fails.
+"""
+
+import hashlib
+import io
+import json
+import zipfile
+from pathlib import PurePosixPath
+from typing import Any
+
+from django.conf import settings
+from django.contrib.auth.models import AbstractBaseUser
+from django.core.exceptions import ValidationError
+from django.core.files.base import ContentFile
+from django.core.files.storage import default_storage
+from django.core.serializers.json import DjangoJSONEncoder
+from django.db import models, transaction
+from django.utils import timezone
+
+from survey.models import (
+    Asset,
+    Client,
+    Conditions,
+    CriteriaTable,
+    Finding,
+    HeatLossEstimate,
+    Mark,
+    Member,
+    Organization,
+    Site,
+    Survey,
+    Thermogram,
+)
+from survey.services.audit import audit_record
+
+FORMAT = "heatmark-survey-archive"
+FORMAT_VERSION = 1
+MANIFEST = "manifest.json"
+MAX_MANIFEST_BYTES = 50 * 1024 * 1024
+
+# Fields not carried over: row ids, links to other rows (carried by reference instead),
+# bookkeeping of this installation, and derived files rebuilt on import.
+SKIPPED = {
+    "id",
+    "organization",
+    "survey",
+    "site",
+    "client",
+    "thermographer",
+    "reviewer",
+    "created_by",
+    "created_at",
+    "updated_at",
+    "status",
+    "deleted_at",
+    "thermogram",
+    "asset",
+    "reference_mark",
+    "previous",
+    "criteria_table",
+    "finding",
+    "mark",
+    "original",
+    "photo",
+    "array",
+    "preview",
+    "thumbnail",
+    "error",
+    "processed_at",
+    "heartbeat_at",
+}
+# Thermogram values computed from the original: rebuilt by processing, checked after.
+DERIVED = {"width", "height", "min_c", "max_c"}
+
+
+def _values(row: models.Model, skip: set[str] = frozenset()) -> dict[str, Any]:
+    return {
+        field.name: getattr(row, field.attname)
+        for field in row._meta.concrete_fields
+        if field.name not in SKIPPED | skip
+    }
+
+
+def _restore(model: type[models.Model], values: dict[str, Any]) -> dict[str, Any]:
+    """Archive values back to Python values of `model`'s fields (unknown names refused)."""
+    known = {f.name: f for f in model._meta.concrete_fields if f.name not in SKIPPED | DERIVED}
+    unknown = sorted(set(values) - set(known))
+    if unknown:
+        raise ValidationError(f"The archive names unknown {model.__name__} fields: {unknown}.")
+    try:
+        return {name: known[name].to_python(value) for name, value in values.items()}
+    except ValidationError as error:
+        raise ValidationError(f"A {model.__name__} value in the archive is invalid: {error}")
+
+
+def _sha256(data: bytes) -> str:
+    return hashlib.sha256(data).hexdigest()
+
+
+def _member_ref(member: Member | None) -> dict | None:
+    if member is None:
+        return None
+    return {"username": member.user.username, "name": member.display_name}
+
+
+def _read(file_field) -> bytes:
+    with file_field.storage.open(file_field.name, "rb") as handle:
+        return handle.read()
+
+
+def _archive_name(folder: str, index: int, name: str) -> str:
+    return f"{folder}/{index:04d}-{PurePosixPath(name).name or 'file'}"
+
+
+# --- export ---------------------------------------------------------------------------------
+
+
+def survey_export(*, survey: Survey, user: AbstractBaseUser | None) -> bytes:
+    """The survey as zip bytes: manifest.json, originals/, photos/, reports/."""
+    from reports.models import ReportVersion
+    from reports.services import survey_results
+
+    buffer = io.BytesIO()
+    files: dict[str, bytes] = {}
+    thermograms = list(survey.thermograms.select_related("asset").order_by("sequence", "id"))
+    assets = {t.asset_id: t.asset for t in thermograms if t.asset_id}
+    for finding in survey.findings.select_related("asset"):
+        if finding.asset_id:
+            assets[finding.asset_id] = finding.asset
+    manifest_thermograms = []
+    for index, thermogram in enumerate(thermograms, 1):
+        original = _read(thermogram.original)
+        if _sha256(original) != thermogram.original_sha256:
+            raise ValidationError(
+                f"The stored original of {thermogram} no longer matches its sha256; "
+                "run verify_media and upload it again before exporting."
+            )
+        entry = _values(thermogram, DERIVED)
+        entry["key"] = thermogram.pk
+        entry["asset"] = thermogram.asset_id
+        entry["derived"] = {name: getattr(thermogram, name) for name in sorted(DERIVED)}
+        entry["original_file"] = _archive_name("originals", index, thermogram.original_name)
+        files[entry["original_file"]] = original
+        if thermogram.photo:
+            photo = _read(thermogram.photo)
+            entry["photo_file"] = _archive_name("photos", index, thermogram.photo.name)
+            entry["photo_sha256"] = _sha256(photo)
+            files[entry["photo_file"]] = photo
+        entry["marks"] = [
+            _values(mark)
+            | {"reference": mark.reference_mark.label if mark.reference_mark else None}
+            for mark in thermogram.marks.select_related("reference_mark").order_by("id")
+        ]
+        manifest_thermograms.append(entry)
+    findings = []
+    for finding in survey.findings.prefetch_related("marks").select_related(
+        "criteria_table", "thermogram"
+    ):
+        entry = _values(finding)
+        entry["key"] = finding.pk
+        entry["thermogram"] = finding.thermogram_id
+        entry["asset"] = finding.asset_id
+        entry["marks"] = sorted(mark.label for mark in finding.marks.all())
+        table = finding.criteria_table
+        entry["criteria_table"] = (
+            {"key": table.key, "name": table.name, "source": table.source, "rows": table.rows}
+            if table
+            else None
+        )
+        findings.append(entry)
+    reports = []
+    for report in survey.reports.order_by("id"):
+        versions = []
+        issued = report.versions.filter(status=ReportVersion.Status.ISSUED).order_by("version")
+        for version in issued:
+            pdf = _read(version.pdf)
+            if _sha256(pdf) != version.sha256:
+                raise ValidationError(
+                    f"The issued PDF {report.number} v{version.version} no longer matches its "
+                    "sha256; it cannot be exported as the document the client holds."
+                )
+            name = f"reports/{report.number}-v{version.version}.pdf"
+            files[name] = pdf
+            versions.append(
+                _values(version, {"report", "requested_by", "issued_by", "pdf", "stage"})
+                | {"pdf_file": name, "issued_by": _user_name(version.issued_by)}
+            )
+        reports.append({"number": report.number, "versions": versions})
+    conditions = getattr(survey, "conditions", None)
+    manifest = {
+        "format": FORMAT,
+        "format_version": FORMAT_VERSION,
+        "exported_at": timezone.now(),
+        "exported_from": survey.organization.name,
+        "client": _values(survey.site.client),
+        "site": _values(survey.site),
+        "survey": _values(survey)
+        | {
+            "thermographer": _member_ref(survey.thermographer),
+            "reviewer": _member_ref(survey.reviewer),
+        },
+        "conditions": _values(conditions) if conditions else None,
+        "assets": [_values(asset) | {"key": key} for key, asset in sorted(assets.items())],
+        "thermograms": manifest_thermograms,
+        "findings": findings,
+        "heat_loss_estimates": [
+            _values(estimate)
+            | {
+                "finding": estimate.finding_id,
+                "mark": [estimate.mark.thermogram_id, estimate.mark.label]
+                if estimate.mark
+                else None,
+            }
+            for estimate in survey.heat_loss_estimates.select_related("mark").order_by("id")
+        ],
+        "reports": reports,
+        "results": survey_results(survey),
+        "files": {name: _sha256(data) for name, data in sorted(files.items())},
+    }
+    with zipfile.ZipFile(buffer, "w", zipfile.ZIP_DEFLATED) as archive:
+        archive.writestr(MANIFEST, json.dumps(manifest, cls=DjangoJSONEncoder, indent=1))
+        for name, data in sorted(files.items()):
+            archive.writestr(name, data)
+    audit_record(
+        organization=survey.organization,
+        actor=user,
+        action="export",
+        obj=survey,
+        detail={"files": len(files), "thermograms": len(thermograms)},
+    )
+    return buffer.getvalue()
+
+
+def _label(mark: Mark | None) -> str | None:
+    return mark.label if mark is not None else None
+
+
+def _user_name(user) -> str | None:
+    if user is None:
+        return None
+    return user.get_full_name() or user.username
+
+
+# --- import ---------------------------------------------------------------------------------
+
+
+def _open_archive(data: bytes) -> tuple[dict, dict[str, bytes]]:
+    """The manifest and every file it lists, each checked against its sha256."""
+    try:
+        archive = zipfile.ZipFile(io.BytesIO(data))
+    except zipfile.BadZipFile:
+        raise ValidationError("This is not a survey archive (not a zip file).") from None
+    with archive:
+        members = {info.filename: info for info in archive.infolist()}
+        info = members.get(MANIFEST)
+        if info is None:
+            raise ValidationError("The archive has no manifest.json.")
+        if info.file_size > MAX_MANIFEST_BYTES:
+            raise ValidationError("The archive's manifest is implausibly large.")
+        try:
+            manifest = json.loads(archive.read(MANIFEST))
+        except (ValueError, UnicodeDecodeError):
+            raise ValidationError("The archive's manifest.json is not valid JSON.") from None
+        if not isinstance(manifest, dict) or manifest.get("format") != FORMAT:
+            raise ValidationError("The archive's manifest is not a survey archive manifest.")
+        if manifest.get("format_version") != FORMAT_VERSION:
+            raise ValidationError(
+                f"Archive format version {manifest.get('format_version')!r} is not supported "
+                f"(this installation reads version {FORMAT_VERSION})."
+            )
+        files = {}
+        for name, digest in (manifest.get("files") or {}).items():
+            info = members.get(name)
+            if info is None:
+                raise ValidationError(f"The archive lacks {name}, which its manifest lists.")
+            if info.file_size > settings.THERMOGRAM_MAX_UPLOAD_BYTES:
+                raise ValidationError(f"{name} is larger than the upload limit.")
+            content = archive.read(name)
+            if _sha256(content) != digest:
+                raise ValidationError(f"{name} is damaged: it does not match its sha256.")
+            files[name] = content
+    return manifest, files
+
+
+def _find_or_create(model, lookup: dict, values: dict) -> models.Model:
+    row = model.objects.filter(**lookup).first()
+    if row is None:
+        row = model(**lookup, **values)
+        row.full_clean()
+        row.save()
+    return row
+
+
+def _member_of(organization: Organization, ref: dict | None) -> Member | None:
+    if not ref:
+        return None
+    return Member.objects.filter(
+        organization=organization, user__username=ref.get("username")
+    ).first()
+
+
+def _criteria_table(organization: Organization, ref: dict | None) -> CriteriaTable | None:
+    if not ref:
+        return None
+    return (
+        CriteriaTable.objects.filter(organization=organization, key=ref["key"]).first()
+        or CriteriaTable.objects.filter(organization__isnull=True, key=ref["key"]).first()
+    )
+
+
+class _Importer:
+    def __init__(self, organization, user, manifest, files):
+        self.organization = organization
+        self.user = user
+        self.manifest = manifest
+        self.files = files
+        self.saved_paths: list[str] = []
+        self.assets: dict[Any, Asset] = {}
+        self.thermograms: dict[Any, Thermogram] = {}
+        self.marks: dict[tuple[Any, str], Mark] = {}
+        self.findings: dict[Any, Finding] = {}
+
+    def file(self, name: str | None) -> bytes:
+        if name not in self.files:
+            raise ValidationError(f"The manifest refers to {name!r}, which the archive lacks.")
+        return self.files[name]
+
+    def store(self, field, name: str, data: bytes) -> None:
+        field.save(PurePosixPath(name).name, ContentFile(data), save=False)
+        self.saved_paths.append(field.name)
+
+    def run(self) -> Survey:
+        m = self.manifest
+        client_values = _restore(Client, m["client"])
+        client = _find_or_create(
+            Client,
+            {"organization": self.organization, "name": client_values.pop("name")},
+            client_values,
+        )
+        site_values = _restore(Site, m["site"])
+        site = _find_or_create(
+            Site,
+            {"organization": self.organization, "client": client, "name": site_values.pop("name")},
+            site_values,
+        )
+        for entry in m.get("assets", []):
+            entry = dict(entry)
+            key = entry.pop("key")
+            values = _restore(Asset, entry)
+            lookup = {"organization": self.organization, "site": site, "name": values.pop("name")}
+            lookup["tag"] = values.pop("tag", "")
+            self.assets[key] = _find_or_create(Asset, lookup, values)
+        survey_entry = dict(m["survey"])
+        thermographer = _member_of(self.organization, survey_entry.pop("thermographer", None))
+        reviewer = _member_of(self.organization, survey_entry.pop("reviewer", None))
+        survey = Survey(
+            organization=self.organization,
+            site=site,
+            thermographer=thermographer,
+            reviewer=reviewer,
+            created_by=self.user,
+            **_restore(Survey, survey_entry),
+        )
+        survey.full_clean(exclude=["created_by"])
+        survey.save()
+        conditions = Conditions(survey=survey, **_restore(Conditions, m.get("conditions") or {}))
+        conditions.full_clean()
+        conditions.save()
+        for entry in m.get("thermograms", []):
+            self.thermogram(survey, dict(entry))
+        for entry in m.get("findings", []):
+            self.finding(survey, dict(entry))
+        for entry in m.get("heat_loss_estimates", []):
+            self.heat_loss(survey, dict(entry))
+        for entry in m.get("reports", []):
+            self.report(survey, entry)
+        return survey
+
+    def thermogram(self, survey: Survey, entry: dict) -> None:
+        key = entry.pop("key")
+        asset = self.assets.get(entry.pop("asset"))
+        marks = entry.pop("marks", [])
+        entry.pop("derived", None)
+        original = self.file(entry.pop("original_file"))
+        photo_name = entry.pop("photo_file", None)
+        values = _restore(Thermogram, entry)
+        if _sha256(original) != values.get("original_sha256"):
+            raise ValidationError(f"The original of {values.get('original_name')} is damaged.")
+        thermogram = Thermogram(
+            organization=self.organization,
+            survey=survey,
+            asset=asset,
+            status=Thermogram.Status.QUEUED,
+            created_by=self.user,
+            **values,
+        )
+        self.store(thermogram.original, values["original_name"], original)
+        if photo_name:
+            self.store(thermogram.photo, photo_name, self.file(photo_name))
+        thermogram.full_clean(exclude=["created_by"])
+        thermogram.save()
+        self.thermograms[key] = thermogram
+        references = []
+        for mark_entry in marks:
+            mark_entry = dict(mark_entry)
+            reference = mark_entry.pop("reference", None)
+            mark = Mark(thermogram=thermogram, **_restore(Mark, mark_entry))
+            mark.full_clean(exclude=["reference_mark"])
+            mark.save()
+            self.marks[(key, mark.label)] = mark
+            references.append((mark, reference))
+        for mark, reference in references:
+            if reference:
+                mark.reference_mark = self.marks[(key, reference)]
+                mark.save(update_fields=["reference_mark"])
+
+    def finding(self, survey: Survey, entry: dict) -> None:
+        key = entry.pop("key")
+        thermogram_key = entry.pop("thermogram")
+        labels = entry.pop("marks", [])
+        asset = self.assets.get(entry.pop("asset"))
+        table = _criteria_table(self.organization, entry.pop("criteria_table", None))
+        finding = Finding(
+            organization=self.organization,
+            survey=survey,
+            thermogram=self.thermograms.get(thermogram_key),
+            asset=asset,
+            criteria_table=table,
+            created_by=self.user,
+            **_restore(Finding, entry),
+        )
+        finding.full_clean(exclude=["created_by"])
+        finding.save()
+        finding.marks.set([self.marks[(thermogram_key, label)] for label in labels])
+        self.findings[key] = finding
+
+    def heat_loss(self, survey: Survey, entry: dict) -> None:
+        finding_key = entry.pop("finding")
+        mark_ref = entry.pop("mark")
+        estimate = HeatLossEstimate(
+            organization=self.organization,
+            survey=survey,
+            finding=self.findings.get(finding_key),
+            mark=self.marks.get(tuple(mark_ref)) if mark_ref else None,
+            **_restore(HeatLossEstimate, entry),
+        )
+        estimate.full_clean()
+        estimate.save()
+
+    def report(self, survey: Survey, entry: dict) -> None:
+        from reports.models import Report, ReportVersion
+
+        number = entry["number"]
+        if Report.objects.filter(organization=self.organization, number=number).exists():
+            raise ValidationError(
+                f"Report {number} already exists in {self.organization}; the archive's "
+                "issued report must keep its number, so it cannot be imported here."
+            )
+        report = Report(organization=self.organization, survey=survey, number=number)
+        report.full_clean()
+        report.save()
+        known = {f.name for f in ReportVersion._meta.concrete_fields}
+        for version_entry in entry.get("versions", []):
+            version_entry = dict(version_entry)
+            pdf = self.file(version_entry.pop("pdf_file"))
+            version_entry.pop("issued_by", None)
+            unknown = sorted(set(version_entry) - known)
+            if unknown:
+                raise ValidationError(f"The archive names unknown report fields: {unknown}.")
+            values = {
+                name: ReportVersion._meta.get_field(name).to_python(value)
+                for name, value in version_entry.items()
+            }
+            if _sha256(pdf) != values.get("sha256"):
+                raise ValidationError(f"The issued PDF of {number} is damaged.")
+            version = ReportVersion(
+                report=report, status=ReportVersion.Status.ISSUED, requested_by=self.user, **values
+            )
+            self.store(version.pdf, f"{number}-v{values.get('version')}.pdf", pdf)
+            version.full_clean(exclude=["requested_by"])
+            version.save()
+
+
+def survey_import(
+    *, data: bytes, organization: Organization, user: AbstractBaseUser | None
+) -> Survey:
+    """Create the archive's survey in `organization`; its thermograms are queued for processing.
+
+    Clients, sites and assets are matched by name (and tag) or created. Members are matched by
+    username; a thermographer or reviewer unknown here is left empty. Raises ValidationError
+    with the reason, writing nothing, when the archive is damaged or does not fit.
+    """
+    from survey.services.surveys import thermogram_enqueue
+
+    manifest, files = _open_archive(data)
+    importer = _Importer(organization, user, manifest, files)
+    try:
+        with transaction.atomic():
+            survey = importer.run()
+            audit_record(
+                organization=organization,
+                actor=user,
+                action="import",
+                obj=survey,
+                detail={
+                    "from": str(manifest.get("exported_from", ""))[:200],
+                    "exported_at": str(manifest.get("exported_at", "")),
+                    "files": len(files),
+                },
+            )
+            for thermogram in importer.thermograms.values():
+                thermogram_enqueue(thermogram.pk)
+    except (KeyError, TypeError, AttributeError) as error:
+        _delete(importer.saved_paths)
+        raise ValidationError(f"The archive's manifest is incomplete or malformed ({error}).")
+    except BaseException:
+        _delete(importer.saved_paths)
+        raise
+    return survey
+
+
+def _delete(paths: list[str]) -> None:
+    for path in paths:
+        default_storage.delete(path)
+
+
+def archive_thermogram_check(survey: Survey, manifest: dict) -> list[str]:
+    """Differences between the imported thermograms' derived values and the archive's."""
+    problems = []
+    by_sequence = {t.sequence: t for t in survey.thermograms.all()}
+    for entry in manifest.get("thermograms", []):
+        thermogram = by_sequence.get(entry.get("sequence"))
+        if thermogram is None:
+            problems.append(f"thermogram {entry.get('original_name')} is missing")
+            continue
+        for name, value in (entry.get("derived") or {}).items():
+            if getattr(thermogram, name) != value:
+                problems.append(f"{thermogram}: {name} {getattr(thermogram, name)} != {value}")
+    return problems
+
+
+def read_manifest(data: bytes) -> dict:
+    return _open_archive(data)[0]

@@ -1,0 +1,221 @@
+"""A worker killed in the middle of processing a thermogram: the job is done again, once.
+
+Two ways a worker dies, each with a real Celery worker process, Redis and PostgreSQL:
+
+- the whole worker is killed (SIGKILL: power lost, container killed). Its task was taken
+  but not acknowledged (acks_late), so Redis hands it out again once the visibility timeout
+  passes; the test starts a second worker with CELERY_VISIBILITY_TIMEOUT=2 (production
+  default 3600) so it does not wait an hour. The second worker reclaims the row once the
+  first one's heartbeat is stale (THERMOGRAM_STALLED_AFTER_SECONDS=2, production 900).
+- only the pool process doing the work is killed (the kernel's out-of-memory killer picks
+  the biggest process). The worker sees it lost (reject_on_worker_lost) and puts the task
+  back at once; the new delivery finds the row still `processing` and retries after the
+  stall time instead of dropping the job.
+
+Either way: one thermogram row, status ready, one preview, one array, one upload in the
+audit log, and no half-written files left in its folder.
+"""
+
+import io
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+from urllib.parse import urlparse, urlunparse
+
+import numpy as np
+import pytest
+from django.conf import settings as django_settings
+from django.core.files.uploadedfile import SimpleUploadedFile
+
+from survey.models import AuditEvent, Thermogram
+from survey.services.surveys import thermogram_ingest
+from tests.survey.brokers import broker_at
+
+ROOT = Path(__file__).resolve().parents[2]
+STALL_SECONDS = 2
+# Noise compresses badly, so the preview PNG takes a few seconds: time to kill the worker.
+HEIGHT, WIDTH = 2400, 3200
+
+
+def _database_url(postgres_url: str) -> str:
+    parsed = urlparse(postgres_url)
+    return urlunparse(parsed._replace(path="/" + django_settings.DATABASES["default"]["NAME"]))
+
+
+def _broker(redis_url: str, db: int) -> str:
+    url = urlunparse(urlparse(redis_url)._replace(path=f"/{db}"))
+    subprocess.run(["redis-cli", "-u", url, "FLUSHDB"], capture_output=True, timeout=10)
+    return url
+
+
+def _start_worker(
+    broker: str, postgres_url: str, media_root: str, log_path: Path, pool: str, **extra: str
+):
+    env = dict(
+        os.environ,
+        DATABASE_URL=_database_url(postgres_url),
+        REDIS_URL=broker,
+        CELERY_EAGER="0",
+        MEDIA_ROOT=media_root,
+        DJANGO_SETTINGS_MODULE="survey.settings",
+        CELERY_VISIBILITY_TIMEOUT="2",
+        CELERY_UNACKED_RESTORE_INTERVAL="1",
+        THERMOGRAM_STALLED_AFTER_SECONDS=str(STALL_SECONDS),
+    )
+    env.update(extra)
+    celery = Path(sys.executable).with_name("celery")
+    log = open(log_path, "ab")
+    command = [str(celery), "-A", "survey", "worker", f"--pool={pool}", "-c", "1", "-l", "INFO"]
+    command += ["--without-gossip", "--without-mingle", "--without-heartbeat"]
+    return subprocess.Popen(command, cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT)
+
+
+def _stop(worker: subprocess.Popen) -> None:
+    if worker.poll() is None:
+        worker.terminate()
+        try:
+            worker.wait(timeout=20)
+        except subprocess.TimeoutExpired:
+            worker.kill()
+            worker.wait()
+
+
+def _pool_children(pid: int) -> list[int]:
+    path = Path(f"/proc/{pid}/task/{pid}/children")
+    return [int(child) for child in path.read_text().split()] if path.exists() else []
+
+
+def _wait_for(predicate, seconds: float, step: float = 0.02) -> bool:
+    deadline = time.monotonic() + seconds
+    while time.monotonic() < deadline:
+        if predicate():
+            return True
+        time.sleep(step)
+    return False
+
+
+def _status(pk: int) -> str:
+    return Thermogram.objects.values_list("status", flat=True).get(pk=pk)
+
+
+def _upload(survey) -> Thermogram:
+    noise = np.random.default_rng(7).uniform(15.0, 35.0, (HEIGHT, WIDTH)).astype(np.float32)
+    buffer = io.BytesIO()
+    np.save(buffer, noise)
+    return thermogram_ingest(
+        survey=survey,
+        uploaded_file=SimpleUploadedFile("IR_killed.npy", buffer.getvalue()),
+        user=None,
+    )
+
+
+def _assert_done_once(thermogram: Thermogram, survey, log_text: str) -> None:
+    thermogram.refresh_from_db()
+    assert thermogram.status == Thermogram.Status.READY, log_text[-4000:]
+    assert survey.thermograms.count() == 1
+    assert (thermogram.height, thermogram.width) == (HEIGHT, WIDTH)
+    # The noise drawn above lies within 15..35 °C.
+    assert 15.0 <= thermogram.min_c < thermogram.max_c <= 35.0
+    folder = Path(thermogram.preview.path).parent
+    assert sorted(p.name for p in folder.iterdir()) == [
+        "preview.png",
+        "temperatures.npy",
+        "thumbnail.png",
+    ]
+    assert np.load(thermogram.array.path).shape == (HEIGHT, WIDTH)
+    uploads = AuditEvent.objects.filter(action="upload", object_id=str(thermogram.pk))
+    assert uploads.count() == 1
+    assert log_text.count("Task survey.tasks.process_thermogram[") >= 2  # delivered twice
+
+
+def _writing(thermogram: Thermogram, media_root: str) -> bool:
+    folder = Path(media_root) / "derived" / str(thermogram.organization_id) / str(thermogram.pk)
+    return any(folder.glob(".tmp-*"))
+
+
+def _kill_mid_processing(thermogram: Thermogram, victim, moment=None) -> None:
+    """Wait until the worker has claimed the row (and `moment()` holds), then SIGKILL."""
+    assert _wait_for(lambda: _status(thermogram.pk) == Thermogram.Status.PROCESSING, 60)
+    if moment is None:
+        time.sleep(0.5)
+    else:
+        assert _wait_for(moment, 60, 0.001), "never caught the worker writing"
+    os.kill(victim(), signal.SIGKILL)
+    thermogram.refresh_from_db()
+    assert thermogram.status == Thermogram.Status.PROCESSING, "finished before the kill"
+    assert not thermogram.preview
+
+
+@pytest.fixture
+def publisher(settings):
+    from survey.celery import app
+
+    settings.CELERY_TASK_ALWAYS_EAGER = False
+    app.conf.task_always_eager = False
+    yield app
+    app.conf.task_always_eager = True
+
+
+@pytest.mark.services
+@pytest.mark.slow
+def test_it_redelivers_the_task_of_a_killed_worker_to_another_worker(
+    redis_url, postgres_url, transactional_db, settings, envelope_survey, tmp_path, publisher
+):
+    """SIGKILL the whole worker mid-render; a second worker finishes the job exactly once."""
+    broker = _broker(redis_url, 14)
+    log_path = tmp_path / "workers.log"
+    first = _start_worker(broker, postgres_url, str(settings.MEDIA_ROOT), log_path, "solo")
+    second = None
+    try:
+        with broker_at(publisher, broker):
+            thermogram = _upload(envelope_survey)
+        # Killed while writing a derived file: its temporary file is left behind.
+        media_root = str(settings.MEDIA_ROOT)
+        _kill_mid_processing(
+            thermogram, lambda: first.pid, moment=lambda: _writing(thermogram, media_root)
+        )
+        first.wait(timeout=10)
+        time.sleep(STALL_SECONDS + 0.5)
+        second = _start_worker(broker, postgres_url, str(settings.MEDIA_ROOT), log_path, "solo")
+        _wait_for(lambda: _status(thermogram.pk) == Thermogram.Status.READY, 90, 0.25)
+    finally:
+        _stop(first)
+        if second is not None:
+            _stop(second)
+    _assert_done_once(thermogram, envelope_survey, log_path.read_text(errors="replace"))
+
+
+@pytest.mark.services
+@pytest.mark.slow
+def test_it_redelivers_the_task_of_a_killed_pool_process(
+    redis_url, postgres_url, transactional_db, settings, envelope_survey, tmp_path, publisher
+):
+    """SIGKILL only the pool process mid-render; the task comes back and finishes once."""
+    broker = _broker(redis_url, 15)
+    log_path = tmp_path / "worker.log"
+    # A stall time longer than a pool process takes to start, so the new delivery finds the
+    # row still `processing` with a live-looking heartbeat; no redelivery by timeout here.
+    worker = _start_worker(
+        broker,
+        postgres_url,
+        str(settings.MEDIA_ROOT),
+        log_path,
+        "prefork",
+        THERMOGRAM_STALLED_AFTER_SECONDS="6",
+        CELERY_VISIBILITY_TIMEOUT="600",
+    )
+    try:
+        assert _wait_for(lambda: _pool_children(worker.pid), 30, 0.1), "no pool process"
+        with broker_at(publisher, broker):
+            thermogram = _upload(envelope_survey)
+        _kill_mid_processing(thermogram, lambda: _pool_children(worker.pid)[0])
+        _wait_for(lambda: _status(thermogram.pk) == Thermogram.Status.READY, 90, 0.25)
+    finally:
+        _stop(worker)
+    log_text = log_path.read_text(errors="replace")
+    assert "WorkerLostError" in log_text, log_text[-4000:]
+    assert "Retry in 7" in log_text, log_text[-4000:]
+    _assert_done_once(thermogram, envelope_survey, log_text)

@@ -1,0 +1,410 @@
+"""Every route that takes an object id, asked by everyone who might ask.
+
+The routes come from the URL configuration itself: a route added without an entry in
+MATRIX below fails `test_it_has_an_entry_for_every_route_with_an_object_id`. Each entry
+says how to build an object of the owning organization, which method to use, and the answer
+each role of that organization gets. Anonymous visitors are sent to sign in (401 for the
+JSON API); a member of another organization gets 404 with none of the object's data.
+"""
+
+import datetime
+import hashlib
+import io
+import json
+import secrets
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import numpy as np
+import pytest
+from django.core.files.base import ContentFile
+from django.test import Client as HttpClient
+from django.urls import URLPattern, URLResolver, get_resolver, reverse
+from django.utils import timezone
+from PIL import Image
+
+from reports.models import Report, ReportVersion, ShareLink
+from survey.models import Asset, AuditEvent, Finding, Survey, Thermogram
+from survey.services.findings import criteria_table_copy_defaults
+from survey.services.marks import mark_add
+from survey.services.surveys import thermogram_process
+from tests.factories import make_thermogram, synthetic_field
+
+# Strings that exist only in the owning organization's rows; none may reach an outsider.
+SECRET_TITLE = "Quillfeather attic survey"
+SECRET_FILE = "IR_quillfeather_0001.npy"
+SECRET_ASSET = "Quillfeather switchboard QF-9"
+SECRET_REPORT = "R2026-QF9"
+SECRET_LOCATION = "Behind the quillfeather panel"
+SECRETS = [SECRET_TITLE, SECRET_FILE, SECRET_ASSET, SECRET_REPORT, SECRET_LOCATION, "Harbour Lane"]
+
+# Routes that take no object id, or are public by design (reached with a share token).
+NOT_OBJECT_ROUTES = {"reports:share", "reports:share_download"}
+
+ROLES = ("thermographer", "reviewer", "admin")
+PDF_BYTES = b"%PDF-1.4\n% an invented stand-in for an issued report\n%%EOF\n"
+
+
+def _png() -> bytes:
+    buffer = io.BytesIO()
+    Image.new("RGB", (8, 6), (200, 40, 40)).save(buffer, format="PNG")
+    return buffer.getvalue()
+
+
+@dataclass
+class World:
+    """One organization's rows, built once per test; fresh ones made on demand."""
+
+    survey: Survey
+    thermogram: Thermogram
+    mark_id: int
+    finding: Finding
+    asset: Asset
+    criteria_table_id: int
+    report: Report
+    version: ReportVersion
+    made: list = field(default_factory=list)
+
+    def fresh_thermogram(self) -> int:
+        return make_thermogram(self.survey, np.full((4, 4), 20.0)).pk
+
+    def deleted_survey(self) -> int:
+        return Survey.objects.create(
+            organization=self.survey.organization,
+            site=self.survey.site,
+            kind=Survey.Kind.ROOF,
+            date=datetime.date(2026, 2, 2),
+            status=Survey.Status.DELETED,
+            deleted_at=timezone.now(),
+        ).pk
+
+    def bare_survey(self) -> int:
+        return Survey.objects.create(
+            organization=self.survey.organization,
+            site=self.survey.site,
+            kind=Survey.Kind.ROOF,
+            date=datetime.date(2026, 2, 3),
+        ).pk
+
+    def share_link(self) -> int:
+        link = ShareLink.objects.create(
+            version=self.version,
+            token=secrets.token_urlsafe(32),
+            expires_at=timezone.now() + datetime.timedelta(days=30),
+        )
+        self.made.append(link.pk)
+        return link.pk
+
+
+@pytest.fixture
+def world(envelope_survey, owner) -> World:
+    survey = envelope_survey
+    survey.title = SECRET_TITLE
+    survey.save()
+    asset = Asset.objects.create(
+        organization=survey.organization, site=survey.site, name=SECRET_ASSET
+    )
+    thermogram = make_thermogram(survey, synthetic_field(), original_name=SECRET_FILE, asset=asset)
+    thermogram.photo.save("IR_quillfeather_0001.png", ContentFile(_png()), save=False)
+    thermogram.status = Thermogram.Status.QUEUED
+    thermogram.save()
+    assert thermogram_process(thermogram.pk) == Thermogram.Status.READY
+    thermogram.refresh_from_db()
+    mark = mark_add(thermogram=thermogram, kind="rectangle", points=[[10, 10], [30, 30]], user=None)
+    finding = Finding.objects.create(
+        organization=survey.organization,
+        survey=survey,
+        thermogram=thermogram,
+        asset=asset,
+        category="missing_insulation",
+        location=SECRET_LOCATION,
+        level=3,
+    )
+    finding.marks.set([mark])
+    table = criteria_table_copy_defaults(organization=survey.organization, user=owner.user)[0]
+    report = Report.objects.create(
+        organization=survey.organization, survey=survey, number=SECRET_REPORT
+    )
+    version = ReportVersion(
+        report=report,
+        version=1,
+        is_draft=False,
+        status=ReportVersion.Status.ISSUED,
+        sha256=hashlib.sha256(PDF_BYTES).hexdigest(),
+        issued_at=timezone.now(),
+    )
+    version.pdf.save("quillfeather-v1.pdf", ContentFile(PDF_BYTES), save=False)
+    version.save()
+    return World(survey, thermogram, mark.pk, finding, asset, table.pk, report, version)
+
+
+@dataclass(frozen=True)
+class Entry:
+    method: str
+    build: Callable[[World], dict]
+    allowed: dict
+    data: dict | None = None
+    json_body: dict | None = None
+    # For file downloads: the content type served (never text/html).
+    media_type: str | None = None
+
+
+def everyone(status: int) -> dict:
+    return {role: status for role in ROLES}
+
+
+def reviewers(status: int) -> dict:
+    return {"thermographer": 403, "reviewer": status, "admin": status}
+
+
+def admins(status: int) -> dict:
+    return {"thermographer": 403, "reviewer": 403, "admin": status}
+
+
+def survey(w):
+    return {"pk": w.survey.pk}
+
+
+def thermogram(w):
+    return {"pk": w.thermogram.pk}
+
+
+def finding(w):
+    return {"pk": w.finding.pk}
+
+
+def survey_id(w):
+    return {"survey_id": w.survey.pk}
+
+
+def report_id(w):
+    return {"report_id": w.report.pk}
+
+
+def version_id(w):
+    return {"version_id": w.version.pk}
+
+
+MATRIX: dict[str, Entry] = {
+    # pages (web-core)
+    "survey:survey": Entry("get", survey, everyone(200)),
+    "survey:survey_edit": Entry("get", survey, everyone(200)),
+    "survey:survey_upload": Entry("post", survey, everyone(302)),
+    "survey:survey_status": Entry("get", survey, everyone(200)),
+    "survey:survey_delete": Entry("get", survey, reviewers(200)),
+    "survey:survey_restore": Entry("post", lambda w: {"pk": w.deleted_survey()}, reviewers(302)),
+    "survey:thermogram_settings": Entry("get", thermogram, everyone(200)),
+    "survey:thermogram_reprocess": Entry(
+        "post", lambda w: {"pk": w.fresh_thermogram()}, everyone(302), data={"source_unit": "C"}
+    ),
+    "survey:thermogram_original": Entry(
+        "get", thermogram, everyone(200), media_type="application/octet-stream"
+    ),
+    "survey:thermogram_preview": Entry("get", thermogram, everyone(200), media_type="image/png"),
+    "survey:thermogram_thumbnail": Entry("get", thermogram, everyone(200), media_type="image/png"),
+    "survey:thermogram_photo": Entry("get", thermogram, everyone(200), media_type="image/png"),
+    "survey:thermogram_array": Entry(
+        "get", thermogram, everyone(200), media_type="application/octet-stream"
+    ),
+    # workspace and JSON API (workspace)
+    "survey:thermogram": Entry("get", thermogram, everyone(200)),
+    "survey:api-thermogram": Entry("get", thermogram, everyone(200)),
+    "survey:api-thermogram-temperatures": Entry("get", thermogram, everyone(200)),
+    "survey:api-marks": Entry(
+        "post", thermogram, everyone(201), json_body={"kind": "point", "points": [[5, 5]]}
+    ),
+    "survey:api-thermogram-overlays": Entry("get", thermogram, everyone(200)),
+    "survey:api-thermogram-alignment": Entry("get", thermogram, everyone(200)),
+    "survey:api-thermogram-neighbours": Entry("get", thermogram, everyone(200)),
+    "survey:api-mark": Entry(
+        "patch", lambda w: {"pk": w.mark_id}, everyone(200), json_body={"note": "Checked."}
+    ),
+    # findings, assets, criteria (judgement)
+    "survey:finding_create": Entry("get", thermogram, everyone(200)),
+    "survey:finding": Entry("get", finding, everyone(200)),
+    "survey:finding_edit": Entry("get", finding, everyone(200)),
+    "survey:finding_status": Entry("post", finding, everyone(302), data={"status": "open"}),
+    "survey:finding_verify": Entry("post", finding, everyone(302)),
+    "survey:survey_findings": Entry("get", survey, everyone(200)),
+    "survey:heat_loss_create": Entry("get", survey, everyone(200)),
+    "survey:site_findings": Entry("get", lambda w: {"pk": w.survey.site_id}, everyone(200)),
+    "survey:asset": Entry("get", lambda w: {"pk": w.asset.pk}, everyone(200)),
+    "survey:asset_trend": Entry("get", lambda w: {"pk": w.asset.pk}, everyone(200)),
+    "survey:criteria_edit": Entry("get", lambda w: {"pk": w.criteria_table_id}, admins(200)),
+    # reports
+    "reports:survey": Entry("get", survey_id, everyone(200)),
+    "reports:create": Entry("post", lambda w: {"survey_id": w.bare_survey()}, everyone(302)),
+    "reports:findings_csv": Entry("get", survey_id, everyone(200)),
+    "reports:results_json": Entry("get", survey_id, everyone(200)),
+    "reports:draft": Entry("post", report_id, everyone(302)),
+    "reports:issue": Entry("post", report_id, reviewers(302), data={"change_note": "Typo."}),
+    "reports:progress": Entry("get", version_id, everyone(200)),
+    "reports:download": Entry("get", version_id, everyone(200), media_type="application/pdf"),
+    "reports:retry": Entry("post", version_id, everyone(302)),
+    "reports:share_create": Entry("post", version_id, reviewers(302), data={"days": "30"}),
+    "reports:share_revoke": Entry("post", lambda w: {"link_id": w.share_link()}, reviewers(302)),
+}
+
+
+def _routes(resolver: URLResolver, namespace: str = "", prefix: str = ""):
+    """(name, route string, converters) of every named pattern, namespaces included."""
+    for pattern in resolver.url_patterns:
+        route = prefix + str(pattern.pattern)
+        if isinstance(pattern, URLResolver):
+            if pattern.namespace == "admin":
+                continue
+            inner = f"{namespace}{pattern.namespace}:" if pattern.namespace else namespace
+            yield from _routes(pattern, inner, route)
+        elif isinstance(pattern, URLPattern) and pattern.name:
+            yield f"{namespace}{pattern.name}", route, dict(pattern.pattern.converters)
+
+
+def object_routes() -> dict[str, str]:
+    """Every named route whose URL carries an id (an int converter), by name."""
+    found = {}
+    for name, route, converters in _routes(get_resolver()):
+        if name in NOT_OBJECT_ROUTES:
+            continue
+        if any(type(c).__name__ == "IntConverter" for c in converters.values()):
+            found[name] = route
+    return found
+
+
+def test_it_has_an_entry_for_every_route_with_an_object_id():
+    """A new route with an id and no matrix entry (or a stale entry) fails here."""
+    routes = object_routes()
+    assert routes, "no routes found in the URL configuration"
+    missing = sorted(set(routes) - set(MATRIX))
+    stale = sorted(set(MATRIX) - set(routes))
+    assert missing == [], f"add these routes to MATRIX: {missing}"
+    assert stale == [], f"these MATRIX entries name no route: {stale}"
+
+
+def _request(http: HttpClient, entry: Entry, url: str):
+    send = getattr(http, entry.method)
+    if entry.json_body is not None:
+        return send(url, data=json.dumps(entry.json_body), content_type="application/json")
+    if entry.method == "get":
+        return send(url)
+    return send(url, data=entry.data or {})
+
+
+def _signed_in(member) -> HttpClient:
+    http = HttpClient()
+    http.force_login(member.user)
+    return http
+
+
+def _check_headers(response, entry: Entry, where: str) -> None:
+    assert response.has_header("Content-Security-Policy"), where
+    content_type = response.get("Content-Type", "")
+    if entry.media_type and response.status_code == 200:
+        assert content_type.split(";")[0] == entry.media_type, where
+        assert response.get("Content-Disposition", "").startswith(("attachment", "inline")), where
+        assert response.get("X-Content-Type-Options") == "nosniff", where
+
+
+def test_it_answers_each_route_as_the_matrix_says(world, owner, reviewer, thermographer, outsider):
+    """Anonymous -> sign in (401 for /api/), outsider -> bare 404, each role -> its answer."""
+    members = {"admin": owner, "reviewer": reviewer, "thermographer": thermographer}
+    clients = {role: _signed_in(member) for role, member in members.items()}
+    outsider_http = _signed_in(outsider)
+    anonymous = HttpClient()
+    login_url = reverse("login")
+    checked = 0
+    for name, entry in sorted(MATRIX.items()):
+        url = reverse(name, kwargs=entry.build(world))
+        response = _request(anonymous, entry, url)
+        where = f"anonymous {entry.method.upper()} {name}"
+        if url.startswith("/api/"):
+            assert response.status_code == 401, where
+            assert response["Content-Type"] == "application/json", where
+        else:
+            assert response.status_code == 302, where
+            assert response["Location"].startswith(login_url + "?next="), where
+        response = _request(outsider_http, entry, reverse(name, kwargs=entry.build(world)))
+        where = f"outsider {entry.method.upper()} {name}"
+        assert response.status_code == 404, where
+        body = response.content.decode(errors="replace")
+        leaked = [secret for secret in SECRETS if secret in body]
+        assert leaked == [], where
+        _check_headers(response, entry, where)
+        for role in ROLES:
+            url = reverse(name, kwargs=entry.build(world))
+            response = _request(clients[role], entry, url)
+            where = f"{role} {entry.method.upper()} {name}"
+            assert response.status_code == entry.allowed[role], (where, response.content[:300])
+            _check_headers(response, entry, where)
+            if response.status_code == 302:
+                assert not response["Location"].startswith(login_url), where
+            checked += 1
+    assert checked == len(MATRIX) * len(ROLES)
+    # Each role's download of the original and of the PDF is in the audit log; no one else's.
+    audit = AuditEvent.objects.filter(organization=world.survey.organization)
+    assert audit.filter(action="download", object_id=str(world.thermogram.pk)).count() == 3
+    assert audit.filter(action="report.download", object_id=str(world.version.pk)).count() == 3
+    # Links offered to anonymous, outsider and thermographer stay live; reviewers revoked theirs.
+    revoked = [ShareLink.objects.get(pk=pk).revoked_at is not None for pk in world.made]
+    assert revoked == [False, False, False, True, True]
+
+
+def test_it_sends_anonymous_visitors_of_every_page_to_sign_in(client):
+    """Routes without an id too: every page but sign-in and share links asks to sign in."""
+    public = {"login", "reports:share", "reports:share_download"}
+    for name, _route, converters in _routes(get_resolver()):
+        if converters or name in public:
+            continue
+        url = reverse(name)
+        response = client.get(url)
+        if name == "logout":
+            assert response.status_code == 405, name  # sign-out is POST only
+            continue
+        assert response.status_code == 302, name
+        assert response["Location"].startswith(reverse("login")), name
+
+
+def test_it_never_serves_an_uploaded_file_as_html(owner_client, envelope_survey):
+    """An original or photo whose name says .html or .svg still goes out as a download."""
+    page = b"<html><body><script>alert(1)</script></body></html>"
+    thermogram = make_thermogram(envelope_survey, original_name="page.html")
+    thermogram.original.save("page.html", ContentFile(page), save=False)
+    thermogram.photo.save("drawing.svg", ContentFile(b"<svg onload='alert(1)'/>"), save=False)
+    thermogram.save()
+    for name in ("survey:thermogram_original", "survey:thermogram_photo"):
+        response = owner_client.get(reverse(name, args=[thermogram.pk]))
+        assert response.status_code == 200, name
+        assert response["Content-Type"] == "application/octet-stream", name
+        assert response["X-Content-Type-Options"] == "nosniff", name
+    original = owner_client.get(reverse("survey:thermogram_original", args=[thermogram.pk]))
+    assert original["Content-Disposition"].startswith("attachment"), original["Content-Disposition"]
+
+
+def test_it_lets_only_admins_see_the_audit_log(
+    client, owner, reviewer, thermographer, outsider, envelope_survey
+):
+    """The audit log is the admin's; it lists only the admin's own organization."""
+    from survey.services.audit import audit_record
+
+    audit_record(
+        organization=envelope_survey.organization,
+        actor=thermographer.user,
+        action="update",
+        obj=envelope_survey,
+        detail={"fields": ["title"]},
+    )
+    audit_record(
+        organization=outsider.organization,
+        actor=outsider.user,
+        action="report.download",
+        obj=outsider,
+    )
+    url = reverse("survey:audit_log")
+    for member, status in ((thermographer, 403), (reviewer, 403), (outsider, 200), (owner, 200)):
+        client.force_login(member.user)
+        response = client.get(url)
+        assert response.status_code == status, member
+    body = client.get(url).content.decode()  # still the owner
+    assert "Theo Thermographer" in body and "update" in body
+    assert "report.download" not in body
+    client.force_login(outsider.user)
+    assert "Theo Thermographer" not in client.get(url).content.decode()
