@@ -160,6 +160,18 @@ def _progress(version_id: int):
     return tell
 
 
+def render_stalled_after() -> datetime.timedelta:
+    """A render silent this long has lost its worker (REPORT_STALLED_AFTER_SECONDS)."""
+    return datetime.timedelta(seconds=settings.REPORT_STALLED_AFTER_SECONDS)
+
+
+def report_render_is_held(version_id: int) -> bool:
+    """True while another delivery of this render may still be running."""
+    return ReportVersion.objects.filter(
+        pk=version_id, status=ReportVersion.Status.RENDERING, sha256=""
+    ).exists()
+
+
 def report_render(version_id: int) -> bool:
     """Render a queued version; returns False when there was nothing to do.
 
@@ -168,7 +180,7 @@ def report_render(version_id: int) -> bool:
     """
     from reports.pdf import render_pdf
 
-    stale = timezone.now() - datetime.timedelta(seconds=settings.CELERY_TASK_TIME_LIMIT + 60)
+    stale = timezone.now() - render_stalled_after()
     claimed = ReportVersion.objects.filter(
         Q(status=ReportVersion.Status.QUEUED)
         | Q(status=ReportVersion.Status.RENDERING, heartbeat_at__lt=stale),

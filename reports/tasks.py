@@ -9,12 +9,23 @@ from django.conf import settings
 
 
 @shared_task(
+    bind=True,
     acks_late=True,
+    reject_on_worker_lost=True,
+    max_retries=3,
     time_limit=settings.CELERY_TASK_TIME_LIMIT,
     soft_time_limit=max(30, settings.CELERY_TASK_TIME_LIMIT - 60),
 )
-def render_report(version_id: int) -> bool:
-    """Render one report version; a second delivery of the same id does nothing."""
-    from reports.services import report_render
+def render_report(self, version_id: int) -> bool:
+    """Render one report version; a second delivery of the same id does nothing.
 
-    return report_render(version_id)
+    When a worker process is killed mid-render its task comes back at once while the row
+    still says `rendering`; that delivery waits until the claim is stale instead of being
+    dropped, so the version cannot stay `rendering` for ever.
+    """
+    from reports.services import render_stalled_after, report_render, report_render_is_held
+
+    rendered = report_render(version_id)
+    if not rendered and report_render_is_held(version_id):
+        raise self.retry(countdown=render_stalled_after().total_seconds() + 1)
+    return rendered

@@ -145,7 +145,9 @@ class Survey(models.Model):
     reviewer = models.ForeignKey(
         Member, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
     )
-    instrument = models.CharField(max_length=200, blank=True, help_text="Camera make, model and serial.")
+    instrument = models.CharField(
+        max_length=200, blank=True, help_text="Camera make, model and serial."
+    )
     ifov_mrad = models.FloatField(
         null=True,
         blank=True,
@@ -433,7 +435,11 @@ class CriteriaTable(models.Model):
     """A severity table held as data; organization null means the product's default."""
 
     organization = models.ForeignKey(
-        Organization, on_delete=models.CASCADE, null=True, blank=True, related_name="criteria_tables"
+        Organization,
+        on_delete=models.CASCADE,
+        null=True,
+        blank=True,
+        related_name="criteria_tables",
     )
     key = models.CharField(max_length=60, help_text="e.g. electrical-similar, electrical-ambient.")
     name = models.CharField(max_length=200)
@@ -468,7 +474,9 @@ class Finding(models.Model):
         PLAN_REPAIR = 3, "3 plan repair"
         WATCH = 4, "4 watch"
 
-    organization = models.ForeignKey(Organization, on_delete=models.CASCADE, related_name="findings")
+    organization = models.ForeignKey(
+        Organization, on_delete=models.CASCADE, related_name="findings"
+    )
     survey = models.ForeignKey(Survey, on_delete=models.CASCADE, related_name="findings")
     thermogram = models.ForeignKey(
         Thermogram, on_delete=models.CASCADE, null=True, blank=True, related_name="findings"
@@ -488,11 +496,13 @@ class Finding(models.Model):
     category = models.CharField(max_length=40)
     location = models.CharField(max_length=200, blank=True)
     description = models.TextField(blank=True)
-    basis = models.CharField(max_length=20, blank=True, help_text="similar, ambient, envelope, roof…")
-    suggested_level = models.PositiveSmallIntegerField(
-        choices=Level.choices, null=True, blank=True
+    basis = models.CharField(
+        max_length=20, blank=True, help_text="similar, ambient, envelope, roof…"
     )
-    suggestion = models.JSONField(default=dict, blank=True, help_text="Why the level was suggested.")
+    suggested_level = models.PositiveSmallIntegerField(choices=Level.choices, null=True, blank=True)
+    suggestion = models.JSONField(
+        default=dict, blank=True, help_text="Why the level was suggested."
+    )
     level = models.PositiveSmallIntegerField(choices=Level.choices, null=True, blank=True)
     override_reason = models.TextField(blank=True)
     criteria_table = models.ForeignKey(

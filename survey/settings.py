@@ -168,6 +168,9 @@ CELERY_BROKER_TRANSPORT_OPTIONS = {
     "interval_step": 0.2,
 }
 CELERY_TASK_TIME_LIMIT = env_int("CELERY_TASK_TIME_LIMIT", 900)
+# A report render whose worker has been silent this long may be claimed by another worker;
+# by then the time limit has ended the first one (default: the time limit plus 60 s).
+REPORT_STALLED_AFTER_SECONDS = env_int("REPORT_STALLED_AFTER_SECONDS", CELERY_TASK_TIME_LIMIT + 60)
 
 SESSION_COOKIE_HTTPONLY = True
 CSRF_COOKIE_HTTPONLY = False

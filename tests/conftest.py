@@ -21,7 +21,9 @@ PASSWORD = "correct-horse-battery-staple"
 def _service_answers(url: str, default_port: int) -> bool:
     parsed = urlparse(url)
     try:
-        with socket.create_connection((parsed.hostname or "127.0.0.1", parsed.port or default_port), 1):
+        with socket.create_connection(
+            (parsed.hostname or "127.0.0.1", parsed.port or default_port), 1
+        ):
             return True
     except OSError:
         return False

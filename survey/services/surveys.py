@@ -46,6 +46,9 @@ logger = logging.getLogger(__name__)
 # A job whose heartbeat is older than this is shown as stalled and may be claimed again.
 STALLED_AFTER = datetime.timedelta(seconds=settings.THERMOGRAM_STALLED_AFTER_SECONDS)
 THUMBNAIL_SIZE = 320
+# Previews are rebuilt from the array at will: zlib level 1 encodes about four times faster
+# than the default 6 for files about a quarter larger, which matters for a day's import.
+PNG_COMPRESS_LEVEL = 1
 UNITS = {"C", "F", "K"}
 SURVEY_FIELDS = (
     "site",
@@ -652,17 +655,6 @@ def _remove_partial_files(thermogram: Thermogram) -> None:
         leftover.unlink(missing_ok=True)
 
 
-def _png_bytes(rgb: np.ndarray, max_side: int | None = None) -> bytes:
-    from PIL import Image
-
-    picture = Image.fromarray(np.ascontiguousarray(rgb, dtype=np.uint8), "RGB")
-    if max_side is not None:
-        picture.thumbnail((max_side, max_side), Image.Resampling.LANCZOS)
-    buffer = io.BytesIO()
-    picture.save(buffer, format="PNG", optimize=False)
-    return buffer.getvalue()
-
-
 def display_span(thermogram: Thermogram, temperatures: np.ndarray) -> tuple[float, float]:
     from survey import thermal
 
@@ -673,15 +665,22 @@ def display_span(thermogram: Thermogram, temperatures: np.ndarray) -> tuple[floa
 
 
 def _write_images(thermogram: Thermogram, temperatures: np.ndarray) -> None:
+    from PIL import Image
+
     from survey import thermal
+    from survey.thermal.render import encode_png
 
     low, high = display_span(thermogram, temperatures)
-    rgb = thermal.render(temperatures, thermogram.palette, low, high)
+    picture = Image.fromarray(thermal.render(temperatures, thermogram.palette, low, high))
     thermogram.preview.name = _replace_file(
-        _derived_path(thermogram, "preview.png"), _png_bytes(rgb)
+        _derived_path(thermogram, "preview.png"),
+        encode_png(picture, compress_level=PNG_COMPRESS_LEVEL),
     )
+    # Box filtering is exact for shrinking and several times faster than Lanczos here.
+    picture.thumbnail((THUMBNAIL_SIZE, THUMBNAIL_SIZE), Image.Resampling.BOX)
     thermogram.thumbnail.name = _replace_file(
-        _derived_path(thermogram, "thumbnail.png"), _png_bytes(rgb, THUMBNAIL_SIZE)
+        _derived_path(thermogram, "thumbnail.png"),
+        encode_png(picture, compress_level=PNG_COMPRESS_LEVEL),
     )
 
 

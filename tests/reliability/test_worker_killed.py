@@ -14,8 +14,15 @@ Two ways a worker dies, each with a real Celery worker process, Redis and Postgr
 
 Either way: one thermogram row, status ready, one preview, one array, one upload in the
 audit log, and no half-written files left in its folder.
+
+The same two deaths in the middle of rendering a report's PDF (a draft when the whole worker
+dies, an issued version when only the pool process dies): the version ends ready (or
+issued) once, one ReportVersion row, one PDF file on disk whose sha256 is the stored one.
+Reports count as stalled after REPORT_STALLED_AFTER_SECONDS (production: the task time
+limit plus 60 s; here 2 s, or 4 s for the pool-process case).
 """
 
+import hashlib
 import io
 import os
 import signal
@@ -30,8 +37,12 @@ import pytest
 from django.conf import settings as django_settings
 from django.core.files.uploadedfile import SimpleUploadedFile
 
+from reports.models import ReportVersion
+from reports.services import report_create, report_issue, report_request_draft
 from survey.models import AuditEvent, Thermogram
+from survey.services.marks import mark_add
 from survey.services.surveys import thermogram_ingest
+from tests.factories import make_thermogram, synthetic_field
 from tests.survey.brokers import broker_at
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -64,6 +75,7 @@ def _start_worker(
         CELERY_VISIBILITY_TIMEOUT="2",
         CELERY_UNACKED_RESTORE_INTERVAL="1",
         THERMOGRAM_STALLED_AFTER_SECONDS=str(STALL_SECONDS),
+        REPORT_STALLED_AFTER_SECONDS=str(STALL_SECONDS),
     )
     env.update(extra)
     celery = Path(sys.executable).with_name("celery")
@@ -219,3 +231,132 @@ def test_it_redelivers_the_task_of_a_killed_pool_process(
     assert "WorkerLostError" in log_text, log_text[-4000:]
     assert "Retry in 7" in log_text, log_text[-4000:]
     _assert_done_once(thermogram, envelope_survey, log_text)
+
+
+# --- report renders ------------------------------------------------------------------------
+
+# Enough thermograms that the render spends a few seconds drawing them, one by one.
+REPORT_THERMOGRAMS = 6
+
+
+def _report_of(survey, member):
+    """A report of `survey` whose every thermogram has a mark, so each is drawn in the PDF."""
+    for index in range(REPORT_THERMOGRAMS):
+        thermogram = make_thermogram(
+            survey, synthetic_field(base_c=18.0 + index), title=f"Wall {index + 1}"
+        )
+        mark_add(thermogram=thermogram, kind="point", points=[[40, 30]], user=None)
+    return report_create(survey=survey, user=member.user)
+
+
+def _version_row(pk: int) -> dict:
+    return ReportVersion.objects.values("status", "stage", "sha256").get(pk=pk)
+
+
+def _kill_mid_render(version: ReportVersion, victim) -> None:
+    """SIGKILL as soon as the worker has drawn its first thermogram (a heartbeat was just
+    written), well before the PDF is laid out."""
+    second = f"Drawing thermogram 2 of {REPORT_THERMOGRAMS}"
+    assert _wait_for(lambda: _version_row(version.pk)["stage"] == second, 60, 0.005), _version_row(
+        version.pk
+    )
+    os.kill(victim(), signal.SIGKILL)
+    row = _version_row(version.pk)
+    assert row["status"] == ReportVersion.Status.RENDERING, "finished before the kill"
+    assert row["sha256"] == ""
+
+
+def _assert_rendered_once(version: ReportVersion, status: str, log_text: str, media_root):
+    version.refresh_from_db()
+    assert version.status == status, (version.status, version.error, log_text[-4000:])
+    assert ReportVersion.objects.filter(report=version.report).count() == 1
+    pdfs = sorted(Path(media_root).rglob("*.pdf"))
+    assert pdfs == [Path(version.pdf.path)], pdfs
+    data = pdfs[0].read_bytes()
+    assert data.startswith(b"%PDF-") and data.rstrip().endswith(b"%%EOF")
+    assert hashlib.sha256(data).hexdigest() == version.sha256
+    assert version.page_count >= 1 and version.progress_pct == 100
+    assert log_text.count("Task reports.tasks.render_report[") >= 2  # delivered twice
+
+
+@pytest.mark.services
+@pytest.mark.slow
+def test_it_redelivers_a_report_render_of_a_killed_worker_to_another_worker(
+    redis_url,
+    postgres_url,
+    transactional_db,
+    settings,
+    envelope_survey,
+    thermographer,
+    tmp_path,
+    publisher,
+):
+    """SIGKILL the whole worker mid-render of a draft; a second worker renders it once."""
+    broker = _broker(redis_url, 12)
+    media_root = str(settings.MEDIA_ROOT)
+    log_path = tmp_path / "workers.log"
+    report = _report_of(envelope_survey, thermographer)
+    first = _start_worker(broker, postgres_url, media_root, log_path, "solo")
+    second = None
+    try:
+        with broker_at(publisher, broker):
+            version = report_request_draft(report=report, user=thermographer.user)
+        _kill_mid_render(version, lambda: first.pid)
+        first.wait(timeout=10)
+        time.sleep(STALL_SECONDS + 0.5)
+        # Asking again while the row says `rendering` returns it instead of a second draft.
+        assert report_request_draft(report=report, user=thermographer.user) == version
+        second = _start_worker(broker, postgres_url, media_root, log_path, "solo")
+        _wait_for(lambda: _version_row(version.pk)["sha256"] != "", 60, 0.25)
+    finally:
+        _stop(first)
+        if second is not None:
+            _stop(second)
+    log_text = log_path.read_text(errors="replace")
+    _assert_rendered_once(version, ReportVersion.Status.READY, log_text, media_root)
+    assert version.is_draft and version.issued_at is None
+
+
+@pytest.mark.services
+@pytest.mark.slow
+def test_it_redelivers_a_report_render_of_a_killed_pool_process(
+    redis_url,
+    postgres_url,
+    transactional_db,
+    settings,
+    envelope_survey,
+    reviewer,
+    tmp_path,
+    publisher,
+):
+    """SIGKILL only the pool process mid-render of an issue; the version is issued once."""
+    broker = _broker(redis_url, 11)
+    media_root = str(settings.MEDIA_ROOT)
+    log_path = tmp_path / "worker.log"
+    report = _report_of(envelope_survey, reviewer)
+    # The task comes back at once while the claim's heartbeat is fresh: it must wait for
+    # the stall time (4 s, longer than a new pool process takes) and not be dropped.
+    worker = _start_worker(
+        broker,
+        postgres_url,
+        media_root,
+        log_path,
+        "prefork",
+        REPORT_STALLED_AFTER_SECONDS="4",
+        CELERY_VISIBILITY_TIMEOUT="600",
+    )
+    try:
+        assert _wait_for(lambda: _pool_children(worker.pid), 30, 0.1), "no pool process"
+        with broker_at(publisher, broker):
+            version = report_issue(report=report, user=reviewer.user)
+        _kill_mid_render(version, lambda: _pool_children(worker.pid)[0])
+        _wait_for(lambda: _version_row(version.pk)["sha256"] != "", 60, 0.25)
+    finally:
+        _stop(worker)
+    log_text = log_path.read_text(errors="replace")
+    assert "WorkerLostError" in log_text, log_text[-4000:]
+    assert "Retry in 5" in log_text, log_text[-4000:]
+    _assert_rendered_once(version, ReportVersion.Status.ISSUED, log_text, media_root)
+    assert version.issued_at is not None and version.issued_by == reviewer.user
+    issues = AuditEvent.objects.filter(action="report.issue", object_id=str(version.pk))
+    assert issues.count() == 1
