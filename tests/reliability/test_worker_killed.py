@@ -19,7 +19,7 @@ The same two deaths in the middle of rendering a report's PDF (a draft when the 
 dies, an issued version when only the pool process dies): the version ends ready (or
 issued) once, one ReportVersion row, one PDF file on disk whose sha256 is the stored one.
 Reports count as stalled after REPORT_STALLED_AFTER_SECONDS (production: the task time
-limit plus 60 s; here 2 s, or 4 s for the pool-process case).
+limit plus 60 s; here 2 s, or 8 s for the pool-process case).
 """
 
 import hashlib
@@ -208,15 +208,16 @@ def test_it_redelivers_the_task_of_a_killed_pool_process(
     """SIGKILL only the pool process mid-render; the task comes back and finishes once."""
     broker = _broker(redis_url, 15)
     log_path = tmp_path / "worker.log"
-    # A stall time longer than a pool process takes to start, so the new delivery finds the
-    # row still `processing` with a live-looking heartbeat; no redelivery by timeout here.
+    # A stall time longer than the worker takes to notice a dead pool process (its pool
+    # upkeep runs every 5 s), so the new delivery finds the row still `processing` with a
+    # live-looking heartbeat; no redelivery by timeout here.
     worker = _start_worker(
         broker,
         postgres_url,
         str(settings.MEDIA_ROOT),
         log_path,
         "prefork",
-        THERMOGRAM_STALLED_AFTER_SECONDS="6",
+        THERMOGRAM_STALLED_AFTER_SECONDS="8",
         CELERY_VISIBILITY_TIMEOUT="600",
     )
     try:
@@ -229,7 +230,7 @@ def test_it_redelivers_the_task_of_a_killed_pool_process(
         _stop(worker)
     log_text = log_path.read_text(errors="replace")
     assert "WorkerLostError" in log_text, log_text[-4000:]
-    assert "Retry in 7" in log_text, log_text[-4000:]
+    assert "Retry in 9" in log_text, log_text[-4000:]
     _assert_done_once(thermogram, envelope_survey, log_text)
 
 
@@ -334,15 +335,16 @@ def test_it_redelivers_a_report_render_of_a_killed_pool_process(
     media_root = str(settings.MEDIA_ROOT)
     log_path = tmp_path / "worker.log"
     report = _report_of(envelope_survey, reviewer)
-    # The task comes back at once while the claim's heartbeat is fresh: it must wait for
-    # the stall time (4 s, longer than a new pool process takes) and not be dropped.
+    # The task comes back while the claim's heartbeat is fresh and must wait for the stall
+    # time, not be dropped. The worker notices a dead pool process within 5 s (its pool
+    # upkeep runs every 5 s), so a stall time of 8 s keeps the heartbeat fresh until then.
     worker = _start_worker(
         broker,
         postgres_url,
         media_root,
         log_path,
         "prefork",
-        REPORT_STALLED_AFTER_SECONDS="4",
+        REPORT_STALLED_AFTER_SECONDS="8",
         CELERY_VISIBILITY_TIMEOUT="600",
     )
     try:
@@ -355,7 +357,7 @@ def test_it_redelivers_a_report_render_of_a_killed_pool_process(
         _stop(worker)
     log_text = log_path.read_text(errors="replace")
     assert "WorkerLostError" in log_text, log_text[-4000:]
-    assert "Retry in 5" in log_text, log_text[-4000:]
+    assert "Retry in 9" in log_text, log_text[-4000:]
     _assert_rendered_once(version, ReportVersion.Status.ISSUED, log_text, media_root)
     assert version.issued_at is not None and version.issued_by == reviewer.user
     issues = AuditEvent.objects.filter(action="report.issue", object_id=str(version.pk))
