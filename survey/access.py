@@ -152,3 +152,8 @@ def deleted_surveys_for(member: Member) -> QuerySet[Survey]:
 
 def get_deleted_survey_for_user(request: HttpRequest, pk: int) -> Survey:
     return get_object_or_404(deleted_surveys_for(get_member(request)), pk=pk)
+
+
+def get_member_for_user(request: HttpRequest, pk: int) -> Member:
+    """A member of the signed-in user's organization (admins manage them)."""
+    return get_object_or_404(members_for(get_member(request)), pk=pk)

@@ -323,6 +323,14 @@ def palette_choices(blank: str | None = None) -> list[tuple[str, str]]:
 
 
 DECODE_UNITS = [("C", "°C"), ("F", "°F"), ("K", "kelvin")]
+SCALE_BAR_FIELDS = {
+    "bar_left": "left",
+    "bar_top": "top",
+    "bar_right": "right",
+    "bar_bottom": "bottom",
+}
+# Larger than any thermal camera or screenshot; the decoder checks the real picture size.
+MAX_PICTURE_SIDE_PX = 20_000
 
 
 class DecodeFieldsMixin:
@@ -341,28 +349,75 @@ class DecodeFieldsMixin:
             required=False,
             label="False-colour picture: its palette",
         )
+        for name, label in SCALE_BAR_FIELDS.items():
+            self.fields[name] = forms.IntegerField(
+                label=f"Scale bar box: {label} (px)",
+                required=False,
+                min_value=0,
+                max_value=MAX_PICTURE_SIDE_PX,
+                error_messages={
+                    "min_value": "Enter a pixel position of at least %(limit_value)s.",
+                    "max_value": "Enter a pixel position of at most %(limit_value)s.",
+                    "invalid": "Enter a whole number of pixels, for example 312.",
+                },
+            )
+
+    def scale_bar_box(self) -> list[int] | None:
+        box = [self.cleaned_data.get(name) for name in SCALE_BAR_FIELDS]
+        return None if any(value is None for value in box) else box
 
     def false_colour(self) -> dict | None:
-        palette = self.cleaned_data.get("false_colour_palette")
-        if not palette:
+        palette = self.cleaned_data.get("false_colour_palette") or None
+        box = self.scale_bar_box()
+        if not palette and box is None:
             return None
-        return {
+        source = {
             "palette": palette,
             "low_c": self.cleaned_data.get("scale_low"),
             "high_c": self.cleaned_data.get("scale_high"),
         }
+        if box is not None:
+            source["scale_bar_box"] = box
+        return source
+
+    def _check_scale_bar_box(self) -> None:
+        if any(self.has_error(name) for name in SCALE_BAR_FIELDS):
+            return
+        given = [self.cleaned_data.get(name) is not None for name in SCALE_BAR_FIELDS]
+        if any(given) and not all(given):
+            raise ValidationError(
+                "Give all four sides of the scale bar box (left, top, right, bottom), "
+                "or leave all four empty."
+            )
+        box = self.scale_bar_box()
+        if box is not None:
+            left, top, right, bottom = box
+            if not left < right:
+                raise ValidationError(
+                    "The right side of the scale bar box must be to the right of its left side."
+                )
+            if not top < bottom:
+                raise ValidationError(
+                    "The bottom of the scale bar box must be below its top (pixel rows count "
+                    "down from the top of the picture)."
+                )
 
     def _check_false_colour(self) -> None:
+        self._check_scale_bar_box()
         palette = self.cleaned_data.get("false_colour_palette")
+        colours = palette or self.scale_bar_box() is not None
         low, high = self.cleaned_data.get("scale_low"), self.cleaned_data.get("scale_high")
-        if palette and (low is None or high is None):
+        if colours and (low is None or high is None):
             raise ValidationError(
                 "For a false-colour picture give the temperatures at both ends of its scale bar."
             )
         if low is not None and high is not None and not low < high:
             raise ValidationError("The top of the scale bar must be warmer than the bottom.")
-        if (low is not None or high is not None) and not palette:
-            raise ValidationError("A scale range was given: also choose the picture's palette.")
+        if (low is not None or high is not None) and not colours:
+            raise ValidationError(
+                "A scale range was given: also choose the picture's palette, or give the box "
+                "of the scale bar drawn in it."
+            )
 
 
 class UploadForm(DecodeFieldsMixin, UnitFormMixin, forms.Form):
@@ -500,4 +555,37 @@ class DeleteForm(forms.Form):
     confirm = forms.BooleanField(
         label="Yes, delete this survey (it can be restored later)",
         error_messages={"required": "Tick the box to confirm."},
+    )
+
+
+class MemberAddForm(forms.Form):
+    username = forms.CharField(
+        max_length=150,
+        label="User name",
+        help_text="What they type to sign in: letters, digits and @ . + - _ only.",
+    )
+    full_name = forms.CharField(max_length=150, required=False, label="Full name")
+    email = forms.EmailField(required=False, label="E-mail")
+    role = forms.ChoiceField(choices=Member.Role.choices, initial=Member.Role.THERMOGRAPHER)
+    qualification = forms.CharField(
+        max_length=200,
+        required=False,
+        help_text="As printed on reports, e.g. a certification level.",
+    )
+    password = forms.CharField(
+        max_length=128,
+        required=False,
+        strip=False,
+        label="Temporary password",
+        widget=forms.PasswordInput(attrs={"autocomplete": "new-password"}),
+        help_text="Leave empty to have one made up and shown to you once.",
+    )
+
+
+class MemberEditForm(forms.Form):
+    role = forms.ChoiceField(choices=Member.Role.choices)
+    qualification = forms.CharField(
+        max_length=200,
+        required=False,
+        help_text="As printed on reports, e.g. a certification level.",
     )

@@ -5,7 +5,7 @@ from django.contrib.auth import views as auth_views
 from django.urls import include, path
 
 from survey.throttle import ThrottledLoginView
-from survey.views import api, audit, findings, media, pages
+from survey.views import api, audit, findings, media, members, pages
 
 # --- pages: home, clients, sites, surveys, upload (survey/views/pages.py) ---
 page_patterns = [
@@ -35,6 +35,8 @@ page_patterns = [
     path("thermograms/<int:pk>/photo/", media.thermogram_photo, name="thermogram_photo"),
     path("thermograms/<int:pk>/celsius.npy", media.thermogram_array, name="thermogram_array"),
     path("audit/", audit.audit_log, name="audit_log"),
+    path("members/", members.member_list, name="members"),
+    path("members/<int:pk>/", members.member_edit, name="member_edit"),
 ]
 
 # --- workspace and JSON endpoints (survey/views/api.py) ---

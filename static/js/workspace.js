@@ -23,7 +23,7 @@
 
   var state = {
     meta: null, temps: null, w: 0, h: 0,
-    palette: null, low: 0, high: 1, lut: null,
+    palette: null, low: 0, high: 1, lut: null, autoSpan: true,
     zoom: 1, panX: 0, panY: 0, fitted: true,
     tool: "select", marks: [], selectedId: null,
     drawing: null,            // {kind, points}: a mark being drawn
@@ -134,6 +134,9 @@
       ? [meta.display.span_low_c, meta.display.span_high_c] : meta.display.auto_span;
     state.low = span[0];
     state.high = span[1];
+    state.autoSpan = meta.display.span_low_c === null || meta.display.span_high_c === null;
+    $("ws-view-row").hidden = !meta.can_edit;
+    showSavedView(meta);
     if (state.isoLow === null || state.isoLow < meta.min_c || state.isoHigh > meta.max_c) {
       state.isoHigh = meta.max_c;
       state.isoLow = meta.max_c - (meta.max_c - meta.min_c) * 0.1;
@@ -736,17 +739,46 @@
     $("ws-iso-high").value = fmtT(state.isoHigh);
   }
 
-  function setSpan(low, high) {
+  function setSpan(low, high, auto) {
     if (!(high > low)) { status("The top of the scale must be above its bottom.", true); syncSpanInputs(); return; }
     state.low = low; state.high = high;
+    state.autoSpan = !!auto;
     syncSpanInputs();
     renderPicture();
   }
 
   $("ws-low").addEventListener("change", function () { setSpan(fromUnit(parseFloat(this.value)), state.high); });
   $("ws-high").addEventListener("change", function () { setSpan(state.low, fromUnit(parseFloat(this.value))); });
-  $("ws-auto").addEventListener("click", function () { var s = state.meta.display.auto_span; setSpan(s[0], s[1]); });
+  $("ws-auto").addEventListener("click", function () { var s = state.meta.display.auto_span; setSpan(s[0], s[1], true); });
   $("ws-palette").addEventListener("change", function () { setPalette(this.value); renderPicture(); });
+
+  // The palette and span on screen become the thermogram's own: its preview, the survey
+  // page's thumbnail and the report are drawn with them.
+  function showSavedView(meta) {
+    var d = meta.display;
+    $("ws-view-note").textContent = "Saved view: " + d.palette + ", " + (d.span_low_c === null || d.span_high_c === null
+      ? "automatic span" : fmtT(d.span_low_c) + " to " + fmtTU(d.span_high_c)) + ".";
+  }
+
+  function roundC(c) { return Math.round(c * 100) / 100; }
+
+  $("ws-save-view").addEventListener("click", function () {
+    if (!state.meta) { return; }
+    var body = {
+      palette: state.palette,
+      span_low_c: state.autoSpan ? null : roundC(state.low),
+      span_high_c: state.autoSpan ? null : roundC(state.high)
+    };
+    var button = this;
+    button.disabled = true;
+    api("PATCH", state.meta.urls.self, body).then(function (meta) {
+      state.meta.display = meta.display;
+      showSavedView(meta);
+      status("View saved: the preview, the survey page and the report now use it.");
+    }).catch(function (error) { status(error.message, true); })
+      .then(function () { button.disabled = false; });
+  });
+
   $("ws-fit").addEventListener("click", fit);
   $("ws-one").addEventListener("click", oneToOne);
   $("ws-zoom-in").addEventListener("click", function () { zoomAt(1.25); });
@@ -764,7 +796,7 @@
     if (!drag || drag.type !== "span") { return; }
     var dt = -(event.clientY - drag.y) / drag.height * (drag.high - drag.low);
     var low = drag.low + (drag.end !== "high" ? dt : 0), high = drag.high + (drag.end !== "low" ? dt : 0);
-    if (high - low > 0.05) { state.low = low; state.high = high; syncSpanInputs(); renderPicture(); }
+    if (high - low > 0.05) { state.low = low; state.high = high; state.autoSpan = false; syncSpanInputs(); renderPicture(); }
   });
   scaleBar.addEventListener("pointerup", function () { state.drag = null; });
 

@@ -282,16 +282,46 @@ def _validate_false_colour(palette_source: dict | None) -> dict | None:
         return None
     from survey import thermal
 
-    palette = palette_source.get("palette")
+    palette = palette_source.get("palette") or None
     low, high = palette_source.get("low_c"), palette_source.get("high_c")
-    if palette not in thermal.PALETTES:
+    box = _validate_scale_bar_box(palette_source.get("scale_bar_box"))
+    if palette is None and box is None:
+        raise ValidationError(
+            "A false-colour picture needs its palette or the pixel box of its scale bar."
+        )
+    if palette is not None and palette not in thermal.PALETTES:
         raise ValidationError(f"Unknown palette {palette!r}.")
     if low is None or high is None or not float(low) < float(high):
         raise ValidationError(
             "A false-colour picture needs the temperatures of the bottom and top of its scale "
             "bar, the top warmer than the bottom."
         )
-    return {"palette": palette, "low_c": float(low), "high_c": float(high)}
+    source = {"palette": palette, "low_c": float(low), "high_c": float(high)}
+    if box is not None:
+        source["scale_bar_box"] = box
+    return source
+
+
+def _validate_scale_bar_box(box) -> list[int] | None:
+    """(left, top, right, bottom) in pixels; whether it lies inside the picture is checked
+    when the picture is decoded, where its size is known."""
+    if box is None:
+        return None
+    if (
+        not isinstance(box, list | tuple)
+        or len(box) != 4
+        or not all(isinstance(v, int) and not isinstance(v, bool) for v in box)
+    ):
+        raise ValidationError(
+            "The scale bar box needs four whole numbers of pixels: left, top, right, bottom."
+        )
+    left, top, right, bottom = box
+    if min(box) < 0 or not (left < right and top < bottom):
+        raise ValidationError(
+            "The scale bar box must have its left side before its right side and its top "
+            "above its bottom, all at pixel positions of 0 or more."
+        )
+    return [int(v) for v in box]
 
 
 def thermogram_check_upload(
@@ -310,7 +340,8 @@ def thermogram_check_upload(
     if false_colour and not palette_source:
         raise ValidationError(
             "This is a colour picture, not temperature data. To estimate temperatures from "
-            "it, choose its palette and give the temperatures at the ends of its scale bar."
+            "it, choose its palette (or give the box of the scale bar drawn in it) and the "
+            "temperatures at the ends of its scale bar."
         )
     if palette_source and not false_colour:
         raise ValidationError(
@@ -622,6 +653,7 @@ def decode_original(data: bytes, name: str, decode_settings: dict) -> np.ndarray
         palette=false_colour.get("palette"),
         low_c=false_colour.get("low_c"),
         high_c=false_colour.get("high_c"),
+        scale_bar_box=tuple(box) if (box := false_colour.get("scale_bar_box")) else None,
         max_pixels=settings.THERMOGRAM_MAX_PIXELS,
         max_bytes=settings.THERMOGRAM_MAX_UPLOAD_BYTES,
         max_text_bytes=settings.THERMOGRAM_MAX_UPLOAD_BYTES,

@@ -6,6 +6,7 @@ X-CSRFToken header). Errors answer {"error": "...", "fields": {...}} with 400, 4
 """
 
 import json
+import math
 from functools import wraps
 
 import numpy as np
@@ -35,6 +36,7 @@ from survey.services.readings import (
     surface_limit_c,
     thermogram_readings,
 )
+from survey.services.surveys import thermogram_update_settings
 
 WORKSPACE_CAUTION = (
     "Shiny, low-emissivity surfaces reflect their surroundings: their corrected values are "
@@ -390,9 +392,55 @@ def workspace(request: HttpRequest, pk: int) -> HttpResponse:
     return render(request, "survey/workspace.html", context)
 
 
-@api("GET")
+VIEW_SPAN_LIMITS_C = (-100.0, 2000.0)  # as the thermogram settings form
+
+
+def _view_settings(data: dict) -> dict:
+    """Validate {"palette", "span_low_c", "span_high_c"} (null span = automatic)."""
+    from survey.thermal import PALETTES
+
+    unknown = sorted(set(data) - {"palette", "span_low_c", "span_high_c"})
+    if unknown:
+        raise ValidationError(
+            {name: "Only palette and span can be saved here." for name in unknown}
+        )
+    if not data:
+        raise ValidationError("Give the palette, the span, or both.")
+    changes: dict = {}
+    if "palette" in data:
+        if not isinstance(data["palette"], str) or data["palette"] not in PALETTES:
+            raise ValidationError({"palette": f"Choose one of: {', '.join(PALETTES)}."})
+        changes["palette"] = data["palette"]
+    if "span_low_c" in data or "span_high_c" in data:
+        low, high = data.get("span_low_c"), data.get("span_high_c")
+        if (low is None) != (high is None):
+            raise ValidationError("Give both ends of the span, or null for both (automatic).")
+        for name, value in (("span_low_c", low), ("span_high_c", high)):
+            if value is None:
+                continue
+            if isinstance(value, bool) or not isinstance(value, int | float):
+                raise ValidationError({name: "The span ends must be numbers of °C or null."})
+            # Bounds first: a huge JSON integer compares fine but overflows isfinite().
+            if not (
+                VIEW_SPAN_LIMITS_C[0] <= value <= VIEW_SPAN_LIMITS_C[1] and math.isfinite(value)
+            ):
+                raise ValidationError({name: "The span ends must lie between −100 and 2000 °C."})
+        if low is not None and not low < high:
+            raise ValidationError("The top of the span must be warmer than the bottom.")
+        changes["span_low_c"] = None if low is None else float(low)
+        changes["span_high_c"] = None if high is None else float(high)
+    return changes
+
+
+@api("GET", "PATCH")
 def thermogram_detail(request: HttpRequest, pk: int) -> JsonResponse:
+    """The thermogram's metadata; PATCH saves the workspace's palette and span to it."""
     thermogram = get_thermogram_for_user(request, pk)
+    if request.method == "PATCH":
+        require_editor(get_member(request))
+        thermogram = thermogram_update_settings(
+            thermogram=thermogram, user=request.user, **_view_settings(_body(request))
+        )
     return JsonResponse(thermogram_json(request, thermogram))
 
 

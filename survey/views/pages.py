@@ -28,6 +28,7 @@ from survey.access import (
 )
 from survey.criteria import conditions_check
 from survey.forms import (
+    SCALE_BAR_FIELDS,
     ClientForm,
     DeleteForm,
     PreferenceForm,
@@ -314,21 +315,26 @@ def thermogram_settings(request: HttpRequest, pk: int) -> HttpResponse:
             messages.success(request, f"Settings of {thermogram} saved.")
             return redirect("survey:survey", pk=thermogram.survey_id)
     reprocess_form = ReprocessForm(
-        unit=member.temperature_unit, initial=_reprocess_initial(thermogram)
+        unit=member.temperature_unit,
+        initial=_reprocess_initial(thermogram, member.temperature_unit),
     )
     context = {"thermogram": thermogram, "form": form, "reprocess_form": reprocess_form}
     return render(request, "survey/thermogram_settings.html", context)
 
 
-def _reprocess_initial(thermogram: Thermogram) -> dict:
+def _reprocess_initial(thermogram: Thermogram, unit: str) -> dict:
     settings = thermogram.decode_settings or {}
     false_colour = settings.get("false_colour") or {}
-    return {
+    values = {
         "source_unit": settings.get("unit", "C"),
         "scale": settings.get("scale"),
         "offset": settings.get("offset"),
-        "false_colour_palette": false_colour.get("palette", ""),
+        "false_colour_palette": false_colour.get("palette") or "",
+        "scale_low": false_colour.get("low_c"),
+        "scale_high": false_colour.get("high_c"),
+        **dict(zip(SCALE_BAR_FIELDS, false_colour.get("scale_bar_box") or (), strict=False)),
     }
+    return ReprocessForm.initial_in_unit(values, unit)
 
 
 @login_required

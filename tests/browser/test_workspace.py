@@ -238,6 +238,23 @@ def test_it_changes_emissivity_deletes_by_keyboard_and_shows_the_overlay(
     canvas.send_keys(Keys.DELETE)
     wait_for(lambda: len(table_rows(browser)) == 0, message="the mark deleted")
     assert not Mark.objects.filter(thermogram=thermogram).exists()
+
+    # Save view: the palette and span on screen become the thermogram's own.
+    from selenium.webdriver.support.ui import Select
+
+    Select(browser.find_element(By.ID, "ws-palette")).select_by_value("perceptual")
+    browser.execute_script(
+        "var e = document.getElementById('ws-high'); e.value = '30';"
+        "e.dispatchEvent(new Event('change'));"
+    )
+    browser.find_element(By.ID, "ws-save-view").click()
+    wait_for(
+        lambda: "Saved view: perceptual" in browser.find_element(By.ID, "ws-view-note").text,
+        message="the view saved",
+    )
+    thermogram.refresh_from_db()
+    assert (thermogram.palette, thermogram.span_high_c) == ("perceptual", 30.0)
+    assert thermogram.span_low_c is not None and thermogram.span_low_c < 30.0
     assert severe_console_errors(browser) == []
 
 

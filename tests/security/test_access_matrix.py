@@ -206,6 +206,7 @@ MATRIX: dict[str, Entry] = {
     "survey:thermogram_array": Entry(
         "get", thermogram, everyone(200), media_type="application/octet-stream"
     ),
+    "survey:member_edit": Entry("get", lambda w: {"pk": w.survey.thermographer_id}, admins(200)),
     # workspace and JSON API (workspace)
     "survey:thermogram": Entry("get", thermogram, everyone(200)),
     "survey:api-thermogram": Entry("get", thermogram, everyone(200)),

@@ -1,0 +1,72 @@
+"""Members page: admins add members, change their role, deactivate and reactivate them."""
+
+from django.contrib import messages
+from django.contrib.auth.decorators import login_required
+from django.core.exceptions import ValidationError
+from django.http import HttpRequest, HttpResponse
+from django.shortcuts import redirect, render
+from django.utils.cache import add_never_cache_headers
+
+from survey.access import get_member, get_member_for_user, members_for, require_admin
+from survey.forms import MemberAddForm, MemberEditForm
+from survey.models import Member
+from survey.services import members as services
+from survey.views.pages import _add_service_error, _data
+
+
+@login_required
+def member_list(request: HttpRequest) -> HttpResponse:
+    admin = get_member(request)
+    require_admin(admin)
+    form = MemberAddForm(_data(request))
+    added, password = None, None
+    if request.method == "POST" and form.is_valid():
+        try:
+            added, password = services.member_add(
+                organization=admin.organization, actor=request.user, **form.cleaned_data
+            )
+        except ValidationError as error:
+            _add_service_error(form, error)
+        else:
+            if password is None:
+                messages.success(request, f"{added.display_name} added.")
+                return redirect("survey:members")
+            form = MemberAddForm()
+    people = members_for(admin).order_by("-user__is_active", "user__username")
+    context = {"people": people, "form": form, "added": added, "password": password}
+    response = render(request, "survey/members.html", context)
+    if password:  # shown once: never kept by a browser or proxy cache
+        add_never_cache_headers(response)
+    return response
+
+
+@login_required
+def member_edit(request: HttpRequest, pk: int) -> HttpResponse:
+    admin = get_member(request)
+    person = get_member_for_user(request, pk)
+    require_admin(admin)
+    action = request.POST.get("action", "save") if request.method == "POST" else None
+    if action in {"deactivate", "reactivate"}:
+        return _set_active(request, person, action)
+    initial = {"role": person.role, "qualification": person.qualification}
+    form = MemberEditForm(_data(request), initial=initial)
+    if action == "save" and form.is_valid():
+        try:
+            services.member_update(member=person, actor=request.user, **form.cleaned_data)
+        except ValidationError as error:
+            _add_service_error(form, error)
+        else:
+            messages.success(request, f"{person.display_name} saved.")
+            return redirect("survey:members")
+    return render(request, "survey/member_edit.html", {"person": person, "form": form})
+
+
+def _set_active(request: HttpRequest, person: Member, action: str) -> HttpResponse:
+    change = services.member_deactivate if action == "deactivate" else services.member_reactivate
+    try:
+        change(member=person, actor=request.user)
+    except ValidationError as error:
+        messages.error(request, " ".join(error.messages))
+        return redirect("survey:member_edit", pk=person.pk)
+    messages.success(request, f"{person.display_name} {action}d.")
+    return redirect("survey:members")
