@@ -3,6 +3,8 @@
 Each view fetches through survey/access.py, validates with a form and calls one service.
 """
 
+import datetime
+
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.core.exceptions import ValidationError
@@ -137,7 +139,11 @@ def _survey_form(request: HttpRequest, member, **kwargs) -> SurveyForm:
 def survey_create(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
     require_editor(member)
-    form = _survey_form(request, member, initial={"thermographer": member.pk})
+    # Common practice: cameras are stated as ±2 °C or ±2 % of reading, whichever is greater.
+    defaults = {"thermographer": member.pk, "date": datetime.date.today()}
+    defaults |= {"camera_accuracy_c": 2.0, "camera_accuracy_pct": 2.0}
+    initial = SurveyForm.initial_in_unit(defaults, member.temperature_unit)
+    form = _survey_form(request, member, initial=initial)
     if request.method == "POST" and form.is_valid():
         try:
             survey = services.survey_create(

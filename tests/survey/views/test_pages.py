@@ -151,6 +151,17 @@ def test_it_converts_fahrenheit_entry_to_celsius(owner_client, owner, site):
     assert 'value="68.0"' in page
 
 
+@pytest.mark.parametrize(("unit", "expected"), [("C", 2.0), ("F", 3.6)])
+def test_it_offers_the_usual_camera_accuracy_on_a_new_survey(owner_client, owner, unit, expected):
+    """A new survey starts at ±2 K or ±2 % of reading (common practice), in the member's unit."""
+    owner.temperature_unit = unit
+    owner.save()
+    form = owner_client.get(reverse("survey:survey_create")).context["form"]
+    # 2 K is 3.6 °F as a difference (a factor of 9/5, no offset).
+    assert form["camera_accuracy_c"].value() == pytest.approx(expected)
+    assert form["camera_accuracy_pct"].value() == 2.0
+
+
 def test_it_shows_a_message_for_bad_survey_input(owner_client, site):
     """An RH of 140 % and a missing date give messages, a 200 and no survey."""
     data = survey_post(site, title="Bad", indoor_rh_pct="140", date="")
