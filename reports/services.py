@@ -437,10 +437,9 @@ def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = N
     """
     from reports.pdf import conditions_check_rows, json_safe, readings_by_thermogram
 
-    thermograms = list(
-        survey.thermograms.filter(status="ready").select_related("asset").prefetch_related("marks")
-    )
+    thermograms = survey.thermograms.filter(status="ready").select_related("asset")
     if readings is None:
+        thermograms = list(thermograms.prefetch_related("marks"))
         readings = readings_by_thermogram(survey, thermograms)
     conditions = getattr(survey, "conditions", None)
     conditions_data = {}
@@ -448,7 +447,7 @@ def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = N
         for model_field in conditions._meta.concrete_fields:
             if model_field.name != "survey":
                 conditions_data[model_field.name] = getattr(conditions, model_field.name)
-    return json_safe(
+    results = json_safe(
         {
             "format": "heatmark-survey-results",
             "format_version": 1,
@@ -479,7 +478,6 @@ def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = N
                     "reflected_c": t.reflected_c,
                     "transmittance": t.transmittance,
                     "distance_m": t.distance_m,
-                    "marks": readings.get(t.pk, []),
                 }
                 for t in thermograms
             ],
@@ -495,3 +493,7 @@ def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = N
             ],
         }
     )
+    # The readings are JSON-safe already (readings_by_thermogram): not walked a second time.
+    for thermogram in results["thermograms"]:
+        thermogram["marks"] = readings.get(thermogram["id"], [])
+    return results

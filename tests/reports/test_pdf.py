@@ -176,3 +176,29 @@ def test_it_draws_the_trend_of_an_asset_seen_before(electrical_report_survey, th
     text = flat(pdf_text(render(electrical_report_survey).pdf))
     assert "Rise at Main switchboard MSB-1" in text
     assert "History of Main switchboard MSB-1 across visits" in text
+
+
+def test_it_computes_the_workspace_readings_from_one_query_of_marks(
+    report_survey, django_assert_max_num_queries
+):
+    """The report's readings equal thermogram_readings (B's ΔT against A); marks fetched once."""
+    from reports.pdf import json_safe, readings_by_thermogram
+    from survey.services.readings import thermogram_readings
+
+    thermograms = list(report_survey.thermograms.prefetch_related("marks"))
+    # One query at most: the survey's conditions (for dew point and surface RH).
+    with django_assert_max_num_queries(1):
+        readings = readings_by_thermogram(report_survey, thermograms)
+    (thermogram,) = thermograms
+    expected = json_safe(thermogram_readings(thermogram))
+    assert readings == {thermogram.pk: expected}
+    assert [r["label"] for r in expected] == ["A", "B"] and expected[1]["reference"] == "A"
+
+
+def test_it_puts_the_garbage_collector_thresholds_back_after_a_render(org, site, thermographer):
+    """render_pdf collects less often while it runs, then restores gc's thresholds."""
+    import gc
+
+    before = gc.get_threshold()
+    render(kind_survey(org, site, thermographer, "roof"))
+    assert gc.get_threshold() == before
