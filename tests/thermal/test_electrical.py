@@ -32,7 +32,7 @@ def test_load_corrected_rise_matches_check_values(exponent, expected_c):
 
 
 def test_load_corrected_rise_defaults_to_i_squared_r():
-    """The default exponent is 2 (I²R heating)."""
+    """The default exponent equals two (I²R heating)."""
     # Source: I²R scaling by hand: 8 K at 50 % load → 8·(100/50)² = 32 K.
     assert load_corrected_rise(8.0, 50.0) == pytest.approx(32.0)
     assert load_corrected_rise(8.0, 100.0) == pytest.approx(8.0)
