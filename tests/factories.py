@@ -44,6 +44,6 @@ def make_thermogram(survey: Survey, array: np.ndarray | None = None, **fields) -
     )
     thermogram.original.save(thermogram.original_name, ContentFile(data), save=False)
     thermogram.array.save(f"t{sequence}.npy", ContentFile(data), save=False)
-    thermogram.full_clean(exclude=["created_by"])  # null for rows made outside an upload
+    thermogram.full_clean()
     thermogram.save()
     return thermogram

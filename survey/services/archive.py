@@ -370,7 +370,7 @@ class _Importer:
             created_by=self.user,
             **_restore(Survey, survey_entry),
         )
-        survey.full_clean(exclude=["created_by"])
+        survey.full_clean()
         survey.save()
         conditions = Conditions(survey=survey, **_restore(Conditions, m.get("conditions") or {}))
         conditions.full_clean()
@@ -406,7 +406,7 @@ class _Importer:
         self.store(thermogram.original, values["original_name"], original)
         if photo_name:
             self.store(thermogram.photo, photo_name, self.file(photo_name))
-        thermogram.full_clean(exclude=["created_by"])
+        thermogram.full_clean()
         thermogram.save()
         self.thermograms[key] = thermogram
         references = []
@@ -438,7 +438,7 @@ class _Importer:
             created_by=self.user,
             **_restore(Finding, entry),
         )
-        finding.full_clean(exclude=["created_by"])
+        finding.full_clean()
         finding.save()
         finding.marks.set([self.marks[(thermogram_key, label)] for label in labels])
         self.findings[key] = finding
@@ -486,7 +486,7 @@ class _Importer:
                 report=report, status=ReportVersion.Status.ISSUED, requested_by=self.user, **values
             )
             self.store(version.pdf, f"{number}-v{values.get('version')}.pdf", pdf)
-            version.full_clean(exclude=["requested_by"])
+            version.full_clean()
             version.save()
 
 

@@ -332,7 +332,7 @@ def thermogram_set_alignment(
         pairs = _clean_pairs(thermogram, pairs)
         thermogram.photo_alignment = {"matrix": affine_from_pairs(pairs), "pairs": pairs}
     # created_by is null once its user is deleted; that must not block an alignment.
-    thermogram.full_clean(exclude=["created_by"])
+    thermogram.full_clean()
     thermogram.save(update_fields=["photo_alignment"])
     audit_record(
         organization=thermogram.organization,

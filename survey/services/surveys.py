@@ -144,7 +144,7 @@ def survey_create(
     survey = Survey(
         organization=organization, site=site, kind=kind, date=date, created_by=user, **fields
     )
-    survey.full_clean(exclude=["created_by"])
+    survey.full_clean()
     survey.save()
     _conditions_save(Conditions(survey=survey), conditions or {})
     audit_record(organization=organization, actor=user, action="create", obj=survey)
@@ -171,7 +171,7 @@ def survey_update(
     )
     for name, value in changes.items():
         setattr(survey, name, value)
-    survey.full_clean(exclude=["created_by"])
+    survey.full_clean()
     survey.save()
     audit_record(
         organization=survey.organization,
@@ -433,7 +433,7 @@ def thermogram_ingest(
                 thermogram.photo.save(_file_name(photo), ContentFile(photo_data), save=False)
                 saved_paths.append(thermogram.photo.name)
                 thermogram.photo_sha256 = hashlib.sha256(photo_data).hexdigest()
-            thermogram.full_clean(exclude=["created_by"])
+            thermogram.full_clean()
             thermogram.save()
             audit_record(
                 organization=survey.organization,
@@ -543,7 +543,7 @@ def thermogram_reprocess(
     thermogram.status = Thermogram.Status.QUEUED
     thermogram.error = ""
     thermogram.heartbeat_at = None
-    thermogram.full_clean(exclude=["created_by"])
+    thermogram.full_clean()
     thermogram.save()
     audit_record(
         organization=thermogram.organization,
@@ -582,7 +582,7 @@ def thermogram_update_settings(
     )
     for name, value in changes.items():
         setattr(thermogram, name, value)
-    thermogram.full_clean(exclude=["created_by"])
+    thermogram.full_clean()
     thermogram.save()
     audit_record(
         organization=thermogram.organization,
