@@ -303,3 +303,47 @@ def thermogram_readings(thermogram: Thermogram) -> list[dict]:
     for mark in sorted(marks, key=lambda m: m.pk not in referenced):
         by_id[mark.pk] = mark_readings(mark, by_id=by_id)
     return [by_id[mark.pk] for mark in marks]
+
+
+OVERLAY_LIMITS_PCT = {"rh80": 80.0, "rh100": 100.0}
+
+
+def condensation_overlay(thermogram: Thermogram) -> dict:
+    """Apparent-temperature thresholds at and below which surfaces reach 80 % and 100 % RH."""
+    from survey.thermal import apparent_temperature
+
+    air = indoor_air(thermogram.survey)
+    if air is None:
+        return {
+            "available": False,
+            "reason": "Needs a building survey with indoor air temperature and RH recorded.",
+        }
+    t_air_c, rh_pct = air
+    try:
+        surfaces = {
+            key: surface_limit_c(t_air_c, rh_pct, limit)
+            for key, limit in OVERLAY_LIMITS_PCT.items()
+        }
+        apparent = {
+            key: float(
+                apparent_temperature(
+                    surface_c,
+                    thermogram.emissivity,
+                    thermogram.reflected_c,
+                    transmittance=thermogram.transmittance,
+                    atmosphere_c=thermogram.atmosphere_c,
+                )
+            )
+            for key, surface_c in surfaces.items()
+        }
+    except ValueError as error:
+        return {"available": False, "reason": f"Cannot compute the overlay: {error}"}
+    return {
+        "available": True,
+        "indoor_air_c": t_air_c,
+        "indoor_rh_pct": rh_pct,
+        "surface_c": {k: round(v, 2) for k, v in surfaces.items()},
+        "apparent_c": {k: round(v, 2) for k, v in apparent.items()},
+        "emissivity": thermogram.emissivity,
+        "reflected_c": thermogram.reflected_c,
+    }

@@ -29,11 +29,10 @@ from survey.models import Mark, Thermogram
 from survey.services import marks as mark_services
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.readings import (
+    condensation_overlay,
     correction_table,
-    indoor_air,
     mark_readings,
     reference_air_c,
-    surface_limit_c,
     thermogram_readings,
 )
 from survey.services.surveys import thermogram_update_settings
@@ -266,47 +265,6 @@ def _auto_span(thermogram: Thermogram) -> list[float] | None:
         return None
     low, high = auto_span(thermogram_temperatures(thermogram))
     return [round(float(low), 2), round(float(high), 2)]
-
-
-LIMITS = {"rh80": 80.0, "rh100": 100.0}
-
-
-def condensation_overlay(thermogram: Thermogram) -> dict:
-    """Apparent-temperature thresholds at and below which surfaces reach 80 % and 100 % RH."""
-    from survey.thermal import apparent_temperature
-
-    air = indoor_air(thermogram.survey)
-    if air is None:
-        return {
-            "available": False,
-            "reason": "Needs a building survey with indoor air temperature and RH recorded.",
-        }
-    t_air_c, rh_pct = air
-    try:
-        surfaces = {key: surface_limit_c(t_air_c, rh_pct, limit) for key, limit in LIMITS.items()}
-        apparent = {
-            key: float(
-                apparent_temperature(
-                    surface_c,
-                    thermogram.emissivity,
-                    thermogram.reflected_c,
-                    transmittance=thermogram.transmittance,
-                    atmosphere_c=thermogram.atmosphere_c,
-                )
-            )
-            for key, surface_c in surfaces.items()
-        }
-    except ValueError as error:
-        return {"available": False, "reason": f"Cannot compute the overlay: {error}"}
-    return {
-        "available": True,
-        "indoor_air_c": t_air_c,
-        "indoor_rh_pct": rh_pct,
-        "surface_c": {k: round(v, 2) for k, v in surfaces.items()},
-        "apparent_c": {k: round(v, 2) for k, v in apparent.items()},
-        "emissivity": thermogram.emissivity,
-        "reflected_c": thermogram.reflected_c,
-    }
 
 
 def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
