@@ -169,20 +169,25 @@ def survey_update(
         thermographer=changes.get("thermographer"),
         reviewer=changes.get("reviewer"),
     )
-    for name, value in changes.items():
-        setattr(survey, name, value)
-    survey.full_clean()
-    survey.save()
-    audit_record(
-        organization=survey.organization,
-        actor=user,
-        action="update",
-        obj=survey,
-        detail={"fields": sorted(changes)},
-    )
+    _apply_changes(survey, changes, user=user)
     if conditions is not None:
         conditions_update(survey=survey, user=user, **conditions)
     return survey
+
+
+def _apply_changes(instance, changes: dict[str, Any], *, user: AbstractBaseUser | None) -> None:
+    """Set the changed fields, validate, save and write the audit line of an update."""
+    for name, value in changes.items():
+        setattr(instance, name, value)
+    instance.full_clean()
+    instance.save()
+    audit_record(
+        organization=instance.organization,
+        actor=user,
+        action="update",
+        obj=instance,
+        detail={"fields": sorted(changes)},
+    )
 
 
 def _conditions_save(conditions: Conditions, values: dict[str, Any]) -> Conditions:
@@ -580,17 +585,7 @@ def thermogram_update_settings(
         changes.get(name, getattr(thermogram, name)) != getattr(thermogram, name)
         for name in ("palette", "span_low_c", "span_high_c")
     )
-    for name, value in changes.items():
-        setattr(thermogram, name, value)
-    thermogram.full_clean()
-    thermogram.save()
-    audit_record(
-        organization=thermogram.organization,
-        actor=user,
-        action="update",
-        obj=thermogram,
-        detail={"fields": sorted(changes)},
-    )
+    _apply_changes(thermogram, changes, user=user)
     if display_changed and thermogram.is_ready:
         from survey.services.arrays import thermogram_temperatures
 
