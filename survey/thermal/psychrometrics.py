@@ -2,8 +2,17 @@
 
 Relative humidity is always relative to liquid water, also below 0 °C: that is the
 meteorological convention and what hand-held hygrometers report [WMO2018]. Saturation
-pressure is the Sonntag (1990) formulation on ITS-90 [Sonntag1990], within 0.01 % of the
-IAPWS and ASHRAE (Hyland–Wexler) values from −40 to +60 °C.
+pressure is the Sonntag (1990) formulation on ITS-90 [Sonntag1990]; what it was measured to
+agree with is stated at :func:`saturation_vapor_pressure`.
+
+Limits at a surface (condensation at 100 %, mould at 80 % surface RH) follow one convention
+everywhere: saturation over liquid water at and above 0 °C and over ice below 0 °C, as
+ISO 13788 does [ISO13788]. :func:`surface_rh`, :func:`surface_limit_temperature`,
+:func:`surface_margin_k` and :func:`critical_temperature_factor` all use it, so a surface
+flagged at 100 % surface RH always has a margin at or below 0 K.
+
+Temperatures outside the range the formulas are valid for (−100 to +100 °C over water,
+−100 to +0.01 °C over ice) are refused with a ``ValueError`` naming the parameter.
 """
 
 import numpy as np
@@ -26,6 +35,14 @@ _MAGNUS_E0_PA = 610.94
 _NEWTON_STEPS = 4
 
 _OVER = ("auto", "water", "ice")
+
+#: Range of validity of the Sonntag (1990) formula over liquid water, °C, as commonly
+#: quoted for [Sonntag1990] (from memory and secondary sources, not the paper itself).
+WATER_RANGE_C = (-100.0, 100.0)
+
+#: Range of validity of the Sonntag (1990) formula over ice, °C (up to the triple point;
+#: from memory and secondary sources, as :data:`WATER_RANGE_C`).
+ICE_RANGE_C = (-100.0, 0.01)
 
 
 def _ln_saturation(t_k: np.ndarray, coefficients) -> np.ndarray:
@@ -80,10 +97,58 @@ def _saturation_temperature(e_pa: np.ndarray, over: str) -> np.ndarray:
     return t_k - ZERO_CELSIUS_K
 
 
-def _vapour_pressure(t_air_c, rh_pct, *, allow_dry: bool) -> np.ndarray:
-    t_air = _checks.temperature(t_air_c, "t_air_c")
-    rh = _checks.in_range(rh_pct, "rh_pct", 0.0, 100.0, low_inclusive=allow_dry, unit=" %")
+def _vapour_pressure(
+    t_air_c, rh_pct, *, allow_dry: bool, t_name: str = "t_air_c", rh_name: str = "rh_pct"
+) -> np.ndarray:
+    t_air = _checks.temperature(t_air_c, t_name, within=WATER_RANGE_C)
+    rh = _checks.in_range(rh_pct, rh_name, 0.0, 100.0, low_inclusive=allow_dry, unit=" %")
     return rh / 100.0 * _saturation(t_air, "water")
+
+
+def _saturation_point(e_pa: np.ndarray, over: str, rh_name: str) -> np.ndarray:
+    """Temperature where e_pa saturates, refused where it leaves the formula's range."""
+    return _within_range(_saturation_temperature(e_pa, over), over, rh_name)
+
+
+def _within_range(t_c: np.ndarray, over: str, rh_name: str) -> np.ndarray:
+    low, high = ICE_RANGE_C if over == "ice" else WATER_RANGE_C
+    # A hair of slack: Newton lands within 1e-12 K of a saturated end of the range.
+    if (t_c < low - 1e-9).any():
+        raise ValueError(
+            f"{rh_name} is too low: the saturation point would be below {low:g} °C, "
+            "outside the range of the saturation formula."
+        )
+    if (t_c > high + 1e-9).any():
+        if over == "ice":
+            raise ValueError(
+                "t_air_c and rh_pct give a frost point above 0.01 °C, where ice cannot form; "
+                "use dew_point (or surface_limit_temperature with over='auto')."
+            )
+        raise ValueError(
+            f"{rh_name} is too high: the saturation point would be above {high:g} °C, "
+            "outside the range of the saturation formula."
+        )
+    return t_c
+
+
+def _limit_temperature(e_pa: np.ndarray, limit_rh_pct, over: str, rh_name: str) -> np.ndarray:
+    """Surface temperature, °C, at which air of vapour pressure e_pa reaches limit_rh_pct.
+
+    Solves e_s(θ) = e / φ_limit. With ``over="auto"`` the water solution stands at and above
+    0 °C and the ice solution below it, as :func:`surface_rh` reads the surface. Where the
+    water solution is just below 0 °C but the ice solution is not (e within 0.01 % of
+    e_w(0 °C), where the two formulas differ), the limit is 0 °C itself: every colder
+    surface exceeds the limit.
+    """
+    p_limit = e_pa / (limit_rh_pct / 100.0)
+    if over == "ice":
+        return _saturation_point(p_limit, "ice", rh_name)
+    t = _saturation_temperature(p_limit, "water")
+    frozen = t < 0.0
+    if over == "auto" and frozen.any():
+        ice = np.minimum(_saturation_temperature(p_limit, "ice"), 0.0)
+        t = np.where(frozen, ice, t)
+    return _within_range(t, "water", rh_name)
 
 
 def saturation_vapor_pressure(t_c, over="auto"):
@@ -92,7 +157,8 @@ def saturation_vapor_pressure(t_c, over="auto"):
     Parameters
     ----------
     t_c : float or array_like
-        Temperature, °C. NaN is passed through (an image pixel without data).
+        Temperature, °C: within −100…+100 °C over water and with ``"auto"``, within
+        −100…+0.01 °C over ice. NaN is passed through (an image pixel without data).
     over : {"auto", "water", "ice"}
         ``"water"`` (also supercooled water below 0 °C), ``"ice"``, or ``"auto"``: ice
         below 0 °C, water at and above 0 °C.
@@ -101,6 +167,11 @@ def saturation_vapor_pressure(t_c, over="auto"):
     -------
     float or ndarray
         Saturation vapour pressure, Pa.
+
+    Raises
+    ------
+    ValueError
+        Naming ``t_c`` outside the range of validity, ``over`` for an unknown choice.
 
     Notes
     -----
@@ -112,9 +183,13 @@ def saturation_vapor_pressure(t_c, over="auto"):
     over ice: ln(e/Pa) = −6024.5282/T + 29.32707 + 1.0613868e−2·T − 1.3198825e−5·T²
     − 0.49382577·ln T
 
-    Within 0.01 % of IAPWS-95 [IAPWS95] and of the Hyland–Wexler formulation of the ASHRAE
-    Handbook [ASHRAE2017] from −40 to +60 °C; valid from −100 to +100 °C over water and
-    from −100 to 0 °C over ice. No enhancement factor: this is pure water vapour.
+    Range of validity −100…+100 °C over water and −100…+0.01 °C over ice, as commonly
+    quoted for the paper (from memory). Measured in the tests against the Hyland–Wexler
+    formulation of the ASHRAE Handbook [ASHRAE2017] (psychrolib): over water within 0.03 %
+    from 0 to 60 °C and within 0.1 % for supercooled water down to −40 °C (0.8 % at
+    −100 °C); over ice within 0.07 % from −40 to 0 °C (0.22 % at −100 °C). Against the
+    IAPWS-95 values [IAPWS95] of docs/references.md at 0, 20 and 40 °C within 0.005 %.
+    No enhancement factor: this is pure water vapour.
 
     Examples
     --------
@@ -123,8 +198,10 @@ def saturation_vapor_pressure(t_c, over="auto"):
     >>> round(saturation_vapor_pressure(-10.0, over="ice"), 1)
     259.9
     """
-    t = _checks.temperature(t_c, "t_c", allow_nan=True)
-    return _checks.result(_saturation(t, _checks.choice(over, "over", _OVER)))
+    over = _checks.choice(over, "over", _OVER)
+    valid = ICE_RANGE_C if over == "ice" else WATER_RANGE_C
+    t = _checks.temperature(t_c, "t_c", allow_nan=True, within=valid)
+    return _checks.result(_saturation(t, over))
 
 
 def dew_point(t_air_c, rh_pct):
@@ -133,7 +210,7 @@ def dew_point(t_air_c, rh_pct):
     Parameters
     ----------
     t_air_c : float or array_like
-        Air temperature, °C.
+        Air temperature, °C, within −100…+100 °C.
     rh_pct : float or array_like
         Relative humidity of the air relative to liquid water, %, in (0, 100]. Below 0 °C
         this is still relative to water, as hygrometers report it.
@@ -141,8 +218,14 @@ def dew_point(t_air_c, rh_pct):
     Returns
     -------
     float or ndarray
-        Dew point, °C. Below 0 °C this is the dew point over supercooled water; use
-        :func:`frost_point` for surfaces below 0 °C, where ice deposits first.
+        Dew point, °C. Below 0 °C this is the dew point over supercooled water; surfaces
+        below 0 °C are judged with :func:`surface_limit_temperature` (over ice there).
+
+    Raises
+    ------
+    ValueError
+        Naming ``t_air_c`` outside −100…+100 °C, or ``rh_pct`` outside (0, 100] or so low
+        that the dew point would fall below −100 °C.
 
     Notes
     -----
@@ -156,24 +239,30 @@ def dew_point(t_air_c, rh_pct):
     16.45
     """
     e = _vapour_pressure(t_air_c, rh_pct, allow_dry=False)
-    return _checks.result(_saturation_temperature(e, "water"))
+    return _checks.result(_saturation_point(e, "water", "rh_pct"))
 
 
 def frost_point(t_air_c, rh_pct):
-    """Frost point of air: the surface temperature where ice deposits directly.
+    """Frost point of air: the surface temperature below 0 °C where ice deposits directly.
 
     Parameters
     ----------
     t_air_c : float or array_like
-        Air temperature, °C.
+        Air temperature, °C, within −100…+100 °C.
     rh_pct : float or array_like
         Relative humidity of the air relative to liquid water, %, in (0, 100].
 
     Returns
     -------
     float or ndarray
-        Frost point, °C. Meaningful when it is below 0 °C; it is always above the dew
-        point over supercooled water for the same air.
+        Frost point, °C, within −100…+0.01 °C. It is always above the dew point over
+        supercooled water for the same air.
+
+    Raises
+    ------
+    ValueError
+        Naming ``t_air_c`` or ``rh_pct`` outside their ranges, or both when the frost point
+        would be above 0.01 °C (no ice forms there: use :func:`dew_point`).
 
     Notes
     -----
@@ -185,7 +274,7 @@ def frost_point(t_air_c, rh_pct):
     -2.68
     """
     e = _vapour_pressure(t_air_c, rh_pct, allow_dry=False)
-    return _checks.result(_saturation_temperature(e, "ice"))
+    return _checks.result(_saturation_point(e, "ice", "rh_pct"))
 
 
 def surface_rh(t_air_c, rh_pct, t_surface_c):
@@ -194,24 +283,26 @@ def surface_rh(t_air_c, rh_pct, t_surface_c):
     Parameters
     ----------
     t_air_c : float or array_like
-        Air temperature, °C.
+        Air temperature, °C, within −100…+100 °C.
     rh_pct : float or array_like
         Relative humidity of the air relative to liquid water, %, in [0, 100].
     t_surface_c : float or array_like
-        Surface temperature, °C, for example a corrected thermogram. NaN pixels give NaN.
+        Surface temperature, °C, within −100…+100 °C, for example a corrected
+        thermogram. NaN pixels give NaN.
 
     Returns
     -------
     float or ndarray
         Surface relative humidity, %, **not capped**: 100 % or more means condensation
-        (or frost, below 0 °C) is expected; 80 % or more is the mould criterion of
-        ISO 13788 [ISO13788].
+        (or frost, below 0 °C) is expected and is best shown as "≥ 100 % (condensation)";
+        80 % or more is the mould criterion of ISO 13788 [ISO13788].
 
     Notes
     -----
     φ_s = φ·e_w(T_air) / e_s(T_s). The vapour pressure of the air is unchanged at the
     surface; e_s is over water at and above 0 °C and over ice below 0 °C, as in
-    ISO 13788 [ISO13788], with the Sonntag formulas [Sonntag1990].
+    ISO 13788 [ISO13788], with the Sonntag formulas [Sonntag1990]. φ_s ≥ limit exactly
+    when :func:`surface_margin_k` for that limit is ≤ 0.
 
     Examples
     --------
@@ -219,8 +310,133 @@ def surface_rh(t_air_c, rh_pct, t_surface_c):
     83.4
     """
     e = _vapour_pressure(t_air_c, rh_pct, allow_dry=True)
-    t_surface = _checks.temperature(t_surface_c, "t_surface_c", allow_nan=True)
+    t_surface = _checks.temperature(
+        t_surface_c, "t_surface_c", allow_nan=True, within=WATER_RANGE_C
+    )
     return _checks.result(100.0 * e / _saturation(t_surface, "auto"))
+
+
+def surface_limit_temperature(t_air_c, rh_pct, limit_rh_pct=100.0, over="auto"):
+    """Surface temperature at which the air layer at a surface reaches a humidity limit.
+
+    Parameters
+    ----------
+    t_air_c : float or array_like
+        Air temperature, °C, within −100…+100 °C.
+    rh_pct : float or array_like
+        Relative humidity of the air relative to liquid water, %, in (0, 100].
+    limit_rh_pct : float or array_like
+        Surface RH limit, %, in (0, 100]: 100 for condensation (dew or frost), 80 for the
+        mould criterion of ISO 13788.
+    over : {"auto", "water", "ice"}
+        Saturation at the surface: ``"auto"`` (default) over water at and above 0 °C and
+        over ice below 0 °C, the convention of :func:`surface_rh` and ISO 13788;
+        ``"water"`` gives the dew point for a 100 % limit, ``"ice"`` the frost point.
+
+    Returns
+    -------
+    float or ndarray
+        Limit temperature, °C. A surface at or below it reaches the limit. With a 100 %
+        limit and ``"auto"`` this is the dew point when it is at or above 0 °C and the
+        frost point below 0 °C. Print it as such ("dew point" or "frost point").
+
+    Raises
+    ------
+    ValueError
+        Naming the parameter out of range, or ``rh_pct`` when the limit temperature would
+        leave −100…+100 °C.
+
+    Notes
+    -----
+    e = φ·e_w(T_air); θ_lim solves e_s(θ_lim) = e / φ_lim with e_s as in
+    :func:`surface_rh` [ISO13788], [Sonntag1990]; :func:`critical_temperature_factor` uses
+    the same θ_lim. For air whose water solution lies just below 0 °C while the ice
+    solution does not (vapour pressure within 0.01 % of e_w(0 °C)), θ_lim is 0 °C.
+
+    Examples
+    --------
+    >>> round(surface_limit_temperature(20.0, 50.0, 80.0), 2)
+    12.63
+    >>> round(surface_limit_temperature(0.0, 80.0), 2)  # frost point: below 0 °C, over ice
+    -2.68
+    """
+    over = _checks.choice(over, "over", _OVER)
+    e = _vapour_pressure(t_air_c, rh_pct, allow_dry=False)
+    limit = _checks.in_range(
+        limit_rh_pct, "limit_rh_pct", 0.0, 100.0, low_inclusive=False, unit=" %"
+    )
+    return _checks.result(_limit_temperature(e, limit, over, "rh_pct"))
+
+
+def surface_margin_k(t_air_c, rh_pct, t_surface_c, limit_rh_pct=100.0):
+    """How far a surface is above the temperature where it reaches a humidity limit, K.
+
+    Parameters
+    ----------
+    t_air_c : float or array_like
+        Air temperature, °C, within −100…+100 °C.
+    rh_pct : float or array_like
+        Relative humidity of the air relative to liquid water, %, in (0, 100].
+    t_surface_c : float or array_like
+        Surface temperature, °C, within −100…+100 °C; NaN pixels give NaN.
+    limit_rh_pct : float or array_like
+        Surface RH limit, %, in (0, 100]: 100 for condensation, 80 for mould.
+
+    Returns
+    -------
+    float or ndarray
+        θ_s − θ_lim, K: positive is the safety margin, zero or negative means the surface
+        reaches the limit (for 100 %: condensation or frost expected, |margin| below the
+        dew or frost point).
+
+    Notes
+    -----
+    θ_lim from :func:`surface_limit_temperature` with ``over="auto"`` (over ice below
+    0 °C) [ISO13788], so the margin and the :func:`surface_rh` flag always agree.
+
+    Examples
+    --------
+    >>> round(surface_margin_k(0.0, 80.0, -2.86), 2)
+    -0.18
+    """
+    e = _vapour_pressure(t_air_c, rh_pct, allow_dry=False)
+    limit = _checks.in_range(
+        limit_rh_pct, "limit_rh_pct", 0.0, 100.0, low_inclusive=False, unit=" %"
+    )
+    t_surface = _checks.temperature(
+        t_surface_c, "t_surface_c", allow_nan=True, within=WATER_RANGE_C
+    )
+    return _checks.result(t_surface - _limit_temperature(e, limit, "auto", "rh_pct"))
+
+
+def condensation_margin_k(t_air_c, rh_pct, t_surface_c):
+    """Margin of a surface above the dew point (or frost point below 0 °C), K.
+
+    Parameters
+    ----------
+    t_air_c : float or array_like
+        Air temperature, °C, within −100…+100 °C.
+    rh_pct : float or array_like
+        Relative humidity of the air relative to liquid water, %, in (0, 100].
+    t_surface_c : float or array_like
+        Surface temperature, °C, within −100…+100 °C; NaN pixels give NaN.
+
+    Returns
+    -------
+    float or ndarray
+        θ_s − θ_lim at a 100 % limit, K; ≤ 0 exactly when :func:`surface_rh` ≥ 100 %.
+
+    Notes
+    -----
+    :func:`surface_margin_k` with ``limit_rh_pct=100`` (over ice below 0 °C, as
+    ISO 13788 [ISO13788]).
+
+    Examples
+    --------
+    >>> round(condensation_margin_k(20.0, 50.0, 12.0), 2)
+    2.73
+    """
+    return surface_margin_k(t_air_c, rh_pct, t_surface_c, 100.0)
 
 
 def temperature_factor(t_surface_c, t_inside_c, t_outside_c):
@@ -266,7 +482,7 @@ def critical_temperature_factor(t_inside_c, rh_inside_pct, t_outside_c, limit_rh
     Parameters
     ----------
     t_inside_c : float or array_like
-        Indoor air temperature θi, °C.
+        Indoor air temperature θi, °C, within −100…+100 °C.
     rh_inside_pct : float or array_like
         Indoor relative humidity φi (relative to liquid water), %, in (0, 100].
     t_outside_c : float or array_like
@@ -283,27 +499,26 @@ def critical_temperature_factor(t_inside_c, rh_inside_pct, t_outside_c, limit_rh
     Notes
     -----
     ISO 13788 method [ISO13788]: p_i = φi·p_sat(θi); p_sat,min = p_i / φ_limit;
-    θsi,min = p_sat⁻¹(p_sat,min) (over ice when below 0 °C);
-    fRsi,min = (θsi,min − θe) / (θi − θe). For a design check the standard adds a moisture
-    excess by humidity class and takes the worst month; this function takes the indoor
-    humidity as given. Saturation pressure from [Sonntag1990].
+    θsi,min = p_sat⁻¹(p_sat,min) (over ice when below 0 °C), which is
+    :func:`surface_limit_temperature`; fRsi,min = (θsi,min − θe) / (θi − θe). For a design
+    check the standard adds a moisture excess by humidity class and takes the worst month;
+    this function takes the indoor humidity as given. Saturation pressure from
+    [Sonntag1990].
 
     Examples
     --------
     >>> round(critical_temperature_factor(20.0, 50.0, -5.0), 3)
     0.705
     """
+    e = _vapour_pressure(
+        t_inside_c, rh_inside_pct, allow_dry=False, t_name="t_inside_c", rh_name="rh_inside_pct"
+    )
     t_inside = _checks.temperature(t_inside_c, "t_inside_c")
-    rh = _checks.in_range(rh_inside_pct, "rh_inside_pct", 0.0, 100.0, low_inclusive=False)
     t_outside = _checks.temperature(t_outside_c, "t_outside_c")
     limit = _checks.in_range(
         limit_rh_pct, "limit_rh_pct", 0.0, 100.0, low_inclusive=False, unit=" %"
     )
     if (t_outside >= t_inside).any():
         raise ValueError("t_outside_c must be below t_inside_c (a heated interior).")
-    p_min = rh / limit * _saturation(t_inside, "water")
-    t_min = _saturation_temperature(p_min, "water")
-    frozen = t_min < 0.0
-    if frozen.any():
-        t_min = np.where(frozen, _saturation_temperature(p_min, "ice"), t_min)
+    t_min = _limit_temperature(e, limit, "auto", "rh_inside_pct")
     return _checks.result((t_min - t_outside) / (t_inside - t_outside))
