@@ -19,80 +19,65 @@ MAX_LOAD_PCT = 150.0
 
 BASES = ("similar", "ambient")
 
+#: Resolution at which rises are shown and classified, K.
+RISE_RESOLUTION_K = 0.1
+
+#: How a rise over a like component is taken: the key stored with a finding and the words
+#: shown beside the rise ("rise over mark B, hottest to hottest"). Hottest to hottest, the
+#: same point of similar components under similar load, is the default [NETA-MTS],
+#: [ASTM-E1934]; hottest to mean is an explicit, labelled choice.
+RISE_METHODS = {
+    "hottest_to_hottest": "hottest to hottest",
+    "hottest_to_mean": "hottest to mean",
+}
+
 #: The default severity tables, one per basis, as plain data an organization can copy and
-#: edit (the shape of ``CriteriaTable.rows``). RECALLED FROM MEMORY of the thermographic
-#: survey table of the NETA Maintenance Testing Specifications [NETA-MTS]: check it against
-#: your copy of the specification before relying on it.
+#: edit (the shape of ``CriteriaTable.rows``). The temperature bands follow the
+#: thermographic survey table of the NETA Maintenance Testing Specifications [NETA-MTS]
+#: as RECALLED FROM MEMORY (``"confidence": "memory"``; check them against a copy of the
+#: specification before relying on them). The action texts are our own words, not the
+#: specification's. ``name`` and ``source`` are shown to clients and carry no internal
+#: notes.
 #:
 #: Reading the rows: they are taken in order; a row with ``below_c`` matches a rise below
 #: that value; a row with ``up_to_c`` matches a rise up to and including that value (and
 #: above the previous row's limit); the last row, with neither, matches everything above.
-#: The integer bands of the specification become the intervals (−∞, 1), [1, 3], (3, 15],
-#: (15, ∞) for ``similar`` and (−∞, 1), [1, 10], (10, 20], (20, 40], (40, ∞) for
-#: ``ambient``, in K.
+#: Rises are rounded to 0.1 K first (:func:`round_rise_c`), so the integer bands of the
+#: specification become [1.0, 3.0], [3.1, 15.0], ≥ 15.1 K for ``similar`` and
+#: [1.0, 10.0], [10.1, 20.0], [20.1, 40.0], ≥ 40.1 K for ``ambient``.
+_WATCH = "A fault may be starting: look into it at the next planned visit."
+_PLAN = "A fault is likely: plan the repair for the next convenient outage."
+_SOON = "Keep it under watch and correct it at the first outage that allows."
+_NOW = "Serious fault: arrange the repair at once."
+_SOURCE = (
+    "Temperature bands of the thermographic survey table of the ANSI/NETA Maintenance "
+    "Testing Specifications; suggested actions in our own words."
+)
+
 DEFAULT_CRITERIA = {
     "similar": {
         "key": "electrical-similar",
-        "name": "NETA MTS thermographic table, similar components (from memory)",
-        "source": (
-            "ANSI/NETA Maintenance Testing Specifications, thermographic survey table, "
-            "rise over a similar component under similar load; recalled from memory, "
-            "check against your copy."
-        ),
+        "name": "Rise over a similar component under similar load (NETA MTS bands)",
+        "source": _SOURCE,
+        "confidence": "memory",
         "rows": [
             {"label": "below 1 °C", "below_c": 1.0, "level": None, "action": "No finding."},
-            {
-                "label": "1 to 3 °C",
-                "up_to_c": 3.0,
-                "level": 4,
-                "action": "Possible deficiency; investigate.",
-            },
-            {
-                "label": "over 3 to 15 °C",
-                "up_to_c": 15.0,
-                "level": 3,
-                "action": "Probable deficiency; repair as time permits.",
-            },
-            {
-                "label": "over 15 °C",
-                "level": 1,
-                "action": "Major discrepancy; repair immediately.",
-            },
+            {"label": "1 to 3 °C", "up_to_c": 3.0, "level": 4, "action": _WATCH},
+            {"label": "over 3 to 15 °C", "up_to_c": 15.0, "level": 3, "action": _PLAN},
+            {"label": "over 15 °C", "level": 1, "action": _NOW},
         ],
     },
     "ambient": {
         "key": "electrical-ambient",
-        "name": "NETA MTS thermographic table, rise over ambient air (from memory)",
-        "source": (
-            "ANSI/NETA Maintenance Testing Specifications, thermographic survey table, "
-            "rise over ambient air temperature; recalled from memory, check against "
-            "your copy."
-        ),
+        "name": "Rise over the ambient air (NETA MTS bands)",
+        "source": _SOURCE,
+        "confidence": "memory",
         "rows": [
             {"label": "below 1 °C", "below_c": 1.0, "level": None, "action": "No finding."},
-            {
-                "label": "1 to 10 °C",
-                "up_to_c": 10.0,
-                "level": 4,
-                "action": "Possible deficiency; investigate.",
-            },
-            {
-                "label": "over 10 to 20 °C",
-                "up_to_c": 20.0,
-                "level": 3,
-                "action": "Probable deficiency; repair as time permits.",
-            },
-            {
-                "label": "over 20 to 40 °C",
-                "up_to_c": 40.0,
-                "level": 2,
-                "action": "Monitor until corrective measures can be accomplished.",
-            },
-            {
-                "label": "over 40 °C",
-                "level": 1,
-                "action": "Major discrepancy; repair immediately.",
-            },
+            {"label": "1 to 10 °C", "up_to_c": 10.0, "level": 4, "action": _WATCH},
+            {"label": "over 10 to 20 °C", "up_to_c": 20.0, "level": 3, "action": _PLAN},
+            {"label": "over 20 to 40 °C", "up_to_c": 40.0, "level": 2, "action": _SOON},
+            {"label": "over 40 °C", "level": 1, "action": _NOW},
         ],
     },
 }
@@ -114,6 +99,13 @@ class RiseClassification:
         ``"similar"`` or ``"ambient"``.
     table : str
         Name of the table that was read.
+    rise_c : float
+        The rise as classified and as it must be printed: rounded to 0.1 K by
+        :func:`round_rise_c`.
+    row_index : int
+        Position of the matched row in the table's ``rows`` (0-based).
+    interval : str
+        The matched row's limits in numbers, e.g. ``"over 3 to 15 K"``.
     """
 
     level: int | None
@@ -121,6 +113,106 @@ class RiseClassification:
     row: str
     basis: str
     table: str
+    rise_c: float = float("nan")
+    row_index: int = -1
+    interval: str = ""
+
+    def as_dict(self) -> dict:
+        """The classification as JSON-ready data (the table row used included)."""
+        return {
+            "level": self.level,
+            "action": self.action,
+            "row": self.row,
+            "interval": self.interval,
+            "row_index": self.row_index,
+            "basis": self.basis,
+            "table": self.table,
+            "rise_c": self.rise_c,
+        }
+
+
+def round_rise_c(rise_c):
+    """A temperature rise rounded to the 0.1 K it is shown at, halves away from zero.
+
+    Parameters
+    ----------
+    rise_c : float or array_like
+        Temperature rise (ΔT), K.
+
+    Returns
+    -------
+    float or ndarray
+        The rise rounded to 0.1 K, the nearest float to the printed decimal (so
+        ``f"{value:.1f}"`` prints it exactly and a comparison with a table limit such as
+        3.0 reads the printed number). Never −0.0.
+
+    Notes
+    -----
+    Round half away from zero at 0.1 K (the resolution readings are shown at; common
+    practice). Differences of one-decimal readings carry binary noise (4.4 − 1.4 =
+    3.0000000000000004, 1.4 − 0.4 = 0.9999999999999999): the value is first snapped to
+    1e−6 of a step, so a decimal half written with noise (2.95) still rounds away from
+    zero (3.0), and the result is formed as n / 10 so that it is the float of the printed
+    decimal.
+
+    Examples
+    --------
+    >>> round_rise_c(4.4 - 1.4), round_rise_c(1.4 - 0.4), round_rise_c(2.95), round_rise_c(-0.04)
+    (3.0, 1.0, 3.0, 0.0)
+    """
+    rise = _checks.as_array(rise_c, "rise_c")
+    steps_per_k = round(1.0 / RISE_RESOLUTION_K)
+    steps = np.round(np.abs(rise) * steps_per_k, 6)
+    rounded = np.copysign(np.floor(steps + 0.5) / steps_per_k, rise) + 0.0
+    return _checks.result(rounded)
+
+
+def like_component_rise_c(
+    hot_c, reference_hot_c=None, *, reference_mean_c=None, method="hottest_to_hottest"
+):
+    """Temperature rise of a component over a like component under like load.
+
+    Parameters
+    ----------
+    hot_c : float or array_like
+        Hottest (corrected) temperature of the suspect component's mark, °C.
+    reference_hot_c : float or array_like, optional
+        Hottest (corrected) temperature of the reference mark, °C; needed by
+        ``"hottest_to_hottest"``.
+    reference_mean_c : float or array_like, optional
+        Mean (corrected) temperature of the reference mark, °C; needed by
+        ``"hottest_to_mean"``.
+    method : {"hottest_to_hottest", "hottest_to_mean"}
+        Which statistic of the reference is compared; store it with the rise and show
+        :data:`RISE_METHODS` ``[method]`` beside it.
+
+    Returns
+    -------
+    float or ndarray
+        Rise, K (not rounded; :func:`classify_rise` rounds it to 0.1 K). Two identical
+        components give 0.0 K with the default method.
+
+    Notes
+    -----
+    ΔT = T_max,suspect − T_max,reference: the same point of similar components under
+    similar load [NETA-MTS], [ASTM-E1934]. Hottest to mean (ΔT = T_max − T_mean,ref) makes
+    a uniform reference look cooler than its own hottest spot and overstates the rise; it
+    is offered only as a labelled choice.
+
+    Examples
+    --------
+    >>> like_component_rise_c(40.5, 40.5)
+    0.0
+    >>> like_component_rise_c(40.5, reference_mean_c=36.5, method="hottest_to_mean")
+    4.0
+    """
+    method = _checks.choice(method, "method", tuple(RISE_METHODS))
+    hot = _checks.temperature(hot_c, "hot_c")
+    name = "reference_hot_c" if method == "hottest_to_hottest" else "reference_mean_c"
+    value = reference_hot_c if method == "hottest_to_hottest" else reference_mean_c
+    if value is None:
+        raise ValueError(f"{name} is needed for the method {method!r}.")
+    return _checks.result(hot - _checks.temperature(value, name))
 
 
 def load_is_too_low(load_pct):
@@ -165,12 +257,21 @@ def load_corrected_rise(rise_c, load_pct, exponent=2.0):
     load_pct : float or array_like
         Load during the measurement, % of full load, in (0, 150].
     exponent : float or array_like
-        Exponent n, in [1, 3]; 2 (I²R heating) by default, some practice uses 1.6.
+        Exponent n, any value from 1 to 3 inclusive (1.5, 1.6, 1.8 … are all accepted);
+        2 (I²R heating) by default, some practice uses 1.6. Store the n used with the
+        rise and print that value wherever the full-load rise appears.
 
     Returns
     -------
     float or ndarray
-        Rise expected at full load, K.
+        Rise expected at full load, K, unrounded: print it to 0.1 K with
+        :func:`round_rise_c`, beside the measured rise, never with more digits.
+
+    Raises
+    ------
+    ValueError
+        Naming ``exponent`` outside [1, 3], ``load_pct`` outside (0, 150] or ``rise_c``
+        when it is not a finite number.
 
     Notes
     -----
@@ -184,6 +285,8 @@ def load_corrected_rise(rise_c, load_pct, exponent=2.0):
     62.5
     >>> round(load_corrected_rise(10.0, 40.0, exponent=1.6), 2)
     43.32
+    >>> round_rise_c(load_corrected_rise(10.0, 80.0, exponent=1.5))
+    14.0
     """
     rise = _checks.as_array(rise_c, "rise_c")
     load = _check_load(load_pct)
@@ -203,7 +306,7 @@ def classify_rise(rise_c, basis, *, table=None):
     rise_c : float
         Temperature rise, K: over a similar component under similar load (``basis
         "similar"``) or over the ambient air (``"ambient"``); load-correct it first if
-        needed.
+        needed. It is rounded to 0.1 K (:func:`round_rise_c`) before it is compared.
     basis : {"similar", "ambient"}
         What the rise is measured against.
     table : dict, optional
@@ -214,31 +317,36 @@ def classify_rise(rise_c, basis, *, table=None):
     Returns
     -------
     RiseClassification
-        level (1–4 or None), action, row label, basis and table name.
+        level (1–4 or None), action, row label, basis, table name, the rise as classified
+        (0.1 K), the row's index and its limits in numbers; ``as_dict()`` for JSON.
 
     Notes
     -----
-    Rows are read in order as documented at :data:`DEFAULT_CRITERIA`; the default bands
-    are recalled from memory of the NETA thermographic survey table [NETA-MTS].
+    The rise is classified at the resolution it is shown, so the printed number and the
+    band always agree: 4.4 − 1.4 is 3.0 K (in the band up to 3), 1.4 − 0.4 is 1.0 K (from
+    1 up). Rows are read in order as documented at :data:`DEFAULT_CRITERIA`; the default
+    bands are recalled from memory of the NETA thermographic survey table [NETA-MTS].
 
     Examples
     --------
     >>> result = classify_rise(16.0, "similar")
-    >>> result.level, result.action
-    (1, 'Major discrepancy; repair immediately.')
-    >>> classify_rise(3.0, "similar").row
+    >>> result.level, result.interval
+    (1, 'over 15 K')
+    >>> classify_rise(4.4 - 1.4, "similar").row
     '1 to 3 °C'
     """
     rise = _checks.as_array(rise_c, "rise_c")
     if rise.ndim != 0:
         raise ValueError("rise_c must be a single number.")
+    shown = round_rise_c(float(rise))
     basis = _checks.choice(basis, "basis", BASES)
     chosen = _basis_table(DEFAULT_CRITERIA if table is None else table, basis)
-    for row in chosen["rows"]:
+    previous = None
+    for index, row in enumerate(chosen["rows"]):
         if "below_c" in row:
-            matches = rise < row["below_c"]
+            matches = shown < row["below_c"]
         elif "up_to_c" in row:
-            matches = rise <= row["up_to_c"]
+            matches = shown <= row["up_to_c"]
         else:
             matches = True
         if matches:
@@ -248,8 +356,31 @@ def classify_rise(rise_c, basis, *, table=None):
                 row=row["label"],
                 basis=basis,
                 table=chosen["name"],
+                rise_c=shown,
+                row_index=index,
+                interval=_interval(row, previous),
             )
+        previous = row
     raise ValueError("table must end with a row without a limit (it matched no row).")
+
+
+def _interval(row: dict, previous: dict | None) -> str:
+    """A row's limits in numbers, read as documented at DEFAULT_CRITERIA."""
+    if "below_c" in row and previous is None:
+        return f"below {row['below_c']:g} K"
+    if previous is None:
+        start = ""
+    elif "below_c" in previous:
+        start = f"{previous['below_c']:g}"
+    else:
+        start = f"over {previous['up_to_c']:g}"
+    if "below_c" in row:
+        return f"{start} to below {row['below_c']:g} K".strip()
+    if "up_to_c" in row:
+        return f"{start} to {row['up_to_c']:g} K" if start else f"up to {row['up_to_c']:g} K"
+    if start.startswith("over"):
+        return f"{start} K"
+    return f"{start} K and above" if start else "any rise"
 
 
 def _basis_table(table, basis: str) -> dict:
