@@ -18,6 +18,7 @@ from survey.services.findings import (
     heat_loss_estimate_create,
 )
 from survey.services.marks import mark_add
+from survey.thermal.electrical import DEFAULT_CRITERIA
 from tests.factories import make_thermogram
 from tests.survey.findings_data import block_field, equipment_survey, hot_and_reference
 
@@ -138,7 +139,7 @@ def test_it_records_the_suggested_level_table_and_row(full_load_survey):
     assert finding.criteria_row == "over 3 to 15 °C"
     assert finding.corrected_rise_c == pytest.approx(10.0, abs=1e-3)
     assert list(finding.marks.all()) == [hot]
-    assert finding.recommendation == "Probable deficiency; repair as time permits."
+    assert finding.recommendation == DEFAULT_CRITERIA["similar"]["rows"][2]["action"]
 
 
 def test_it_requires_a_reason_to_override_and_keeps_it(full_load_survey):
