@@ -7,6 +7,18 @@ alone; the file name only makes messages easier to act on. Every refusal raises
 Limits are checked before a full decode so that a decompression bomb or a huge text file
 is refused cheaply: the byte size first (from the file system or the buffer length), then
 the pixel count read from the image header.
+
+Two cases are refused rather than guessed:
+
+- A file named as a binary image (``.tif``, ``.png``, ``.jpg``, ``.npy``) whose first bytes
+  are not that format's signature (text, or unknown bytes) is "not a TIFF" (or PNG, …): a
+  broken export is more likely than a matrix with the wrong name, and reading it as text
+  would give a confusing message. A binary format under another name is still read by its
+  content.
+- A comma-separated text whose every row is exactly two whole numbers with one or two
+  digits after the comma (``20,5``) is ambiguous: a single column written with a decimal
+  comma, or two columns of whole numbers. It is refused with the fix: semicolons between
+  values, or a decimal point.
 """
 
 from __future__ import annotations
@@ -58,6 +70,39 @@ class ThermogramFormatError(ValueError):
     """A thermogram file that cannot be read; the message tells the user what to do."""
 
 
+class _UnknownContentError(ThermogramFormatError):
+    """The first bytes match no accepted format."""
+
+
+_CLAIMED_FORMATS = {
+    ".tif": "tiff",
+    ".tiff": "tiff",
+    ".png": "png",
+    ".jpg": "jpeg",
+    ".jpeg": "jpeg",
+    ".npy": "npy",
+}
+
+
+def _claimed_format(filename: str) -> str | None:
+    """The binary format a file name claims by its extension, if any."""
+    return _CLAIMED_FORMATS.get(Path(filename).suffix.lower()) if filename else None
+
+
+def _not_the_claimed_format(name: str, claimed: str, holds_text: bool) -> ThermogramFormatError:
+    label = _FORMAT_NAMES[claimed]
+    if holds_text:
+        return ThermogramFormatError(
+            f"{name} is not a {label}: it starts with text, not the {label} signature. "
+            f"If it is a temperature matrix, save it with a .csv name; otherwise export the "
+            f"thermogram again as a {label}."
+        )
+    return ThermogramFormatError(
+        f"{name} is not a {label}: its first bytes are not the {label} signature (damaged "
+        f"or another kind of file). Accepted: {ACCEPTED_FORMATS}."
+    )
+
+
 def detect_format(data: bytes) -> str:
     """Name the format of `data` from its first bytes.
 
@@ -94,7 +139,7 @@ def detect_format(data: bytes) -> str:
                 return "text"
             except UnicodeDecodeError:
                 pass
-    raise ThermogramFormatError(
+    raise _UnknownContentError(
         f"This file is not in a format we can read. Accepted: {ACCEPTED_FORMATS}."
     )
 
@@ -159,7 +204,15 @@ def read_temperatures(
     offset = _optional_number(offset, "offset")
     if scale is not None and scale == 0:
         raise ThermogramFormatError("The scale must be a finite number other than 0.")
-    kind, data = _read_bytes(source, name, max_bytes, max_text_bytes)
+    claimed = _claimed_format(filename)
+    try:
+        kind, data = _read_bytes(source, name, max_bytes, max_text_bytes)
+    except _UnknownContentError:
+        if claimed:
+            raise _not_the_claimed_format(name, claimed, holds_text=False) from None
+        raise
+    if claimed and kind == "text":
+        raise _not_the_claimed_format(name, claimed, holds_text=True)
     if palette_image:
         if kind not in ("png", "jpeg"):
             raise ThermogramFormatError(
@@ -516,6 +569,8 @@ def _read_text(data: bytes, name: str, max_pixels: int) -> tuple[np.ndarray, str
     if not data_lines:
         raise ThermogramFormatError(f"{name} holds a header but no rows of numbers.")
     width = len(_split_line(data_lines[0][1], delimiter))
+    if delimiter == "," and width == 2:
+        _refuse_ambiguous_decimal_comma(body, name)
     if width * (body.count("\n") + 1) > max_pixels:
         height = sum(1 for line in body.splitlines() if line.strip())
         _check_pixels(name, width, height, max_pixels)
@@ -540,6 +595,25 @@ def _read_text(data: bytes, name: str, max_pixels: int) -> tuple[np.ndarray, str
 
 
 _NOT_BLANK = re.compile(r"\S")
+
+# One whole number, a comma, one or two digits (an optional trailing comma): "20,5".
+_DECIMAL_COMMA_OR_TWO_COLUMNS = re.compile(r"[ \t]*[+-]?\d+[ \t]*,[ \t]*\d{1,2}[ \t]*,?[ \t]*")
+
+
+def _refuse_ambiguous_decimal_comma(body: str, name: str) -> None:
+    """Refuse a comma text whose every row reads both as 20.5 and as the pair 20 and 5."""
+    example = None
+    for line in body.split("\n"):
+        if not line.strip():
+            continue
+        if not _DECIMAL_COMMA_OR_TWO_COLUMNS.fullmatch(line):
+            return
+        example = example or line.strip()
+    raise ThermogramFormatError(
+        f"{name}: every row is two whole numbers separated by a comma (like {example!r}), "
+        "which reads both as one column with a decimal comma and as two columns. Use "
+        "semicolons between values, or a decimal point in the numbers, and upload it again."
+    )
 
 
 def _first_lines(text: str, count: int) -> list[tuple[int, str]]:

@@ -511,3 +511,58 @@ def test_detect_format_names_each_format():
     assert detect_format(png_bytes(np.zeros((2, 2), np.uint16))) == "png"
     assert detect_format(npy_bytes(field(2, 2))) == "npy"
     assert detect_format("température;20,5\n".encode("cp1252")) == "text"
+
+
+# --- ambiguous text and names that do not match the content ----------------------------------
+
+
+@pytest.mark.parametrize(
+    "text",
+    [
+        "20,5\n21,3\n",  # the issue's case
+        "20,5\r\n21,35\r\n-3,5\r\n",
+        "Temperature\n20,5\n21,3\n",  # behind a header
+        "20,5,\n21,3,\n",  # with a trailing delimiter
+        "20,21\n22,23\n",  # two columns of whole numbers read the same way
+    ],
+)
+def test_read_temperatures_refuses_a_decimal_comma_that_could_be_two_columns(text):
+    """Rows like 20,5 are refused, naming the fix, instead of read as two columns."""
+    # Source: the decode module's documented rule (the reading is ambiguous by construction).
+    with pytest.raises(ThermogramFormatError, match="semicolons between values.*decimal point"):
+        read_temperatures(text.encode(), "column.csv")
+
+
+@pytest.mark.parametrize(
+    ("text", "expected"),
+    [
+        # Unambiguous comma texts still read: a decimal point, a third column, 3 digits.
+        ("20.5,21.3\n", [[20.5, 21.3]]),
+        ("20,5,7\n21,3,8\n", [[20.0, 5.0, 7.0], [21.0, 3.0, 8.0]]),
+        ("300,301\n", [[300.0, 301.0]]),
+        ("20,5\n21.5,3\n", [[20.0, 5.0], [21.5, 3.0]]),
+        ("20,5;21,3\n", [[20.5, 21.3]]),  # semicolons: the decimal comma is clear
+    ],
+)
+def test_read_temperatures_reads_comma_texts_that_are_not_ambiguous(text, expected):
+    """Only rows that read both ways are refused."""
+    # Source: the decode module's documented rule; values by hand.
+    result = read_temperatures(text.encode(), "matrix.csv")
+    np.testing.assert_allclose(result, expected, atol=1e-5)
+
+
+@pytest.mark.parametrize("name", ["wall.tif", "wall.TIFF", "wall.png", "wall.npy", "wall.jpg"])
+def test_read_temperatures_says_a_text_file_with_an_image_name_is_not_that_image(name):
+    """A fake .tif holding text says it is not a TIFF, not "a header but no rows"."""
+    # Source: TIFF signatures II*\0 / MM\0* (TIFF 6.0 §2, from memory) and the PNG, .npy
+    # and JPEG signatures in detect_format.
+    with pytest.raises(ThermogramFormatError, match=r"is not a .*signature") as caught:
+        read_temperatures(b"a;b;c\n", name)
+    assert "header but no rows" not in str(caught.value)
+
+
+def test_read_temperatures_says_unknown_bytes_named_tif_are_not_a_tiff():
+    """Unknown binary content named .tif says it is not a TIFF, and lists what we accept."""
+    # Source: TIFF signatures (TIFF 6.0 §2, from memory); GIF89a is no TIFF.
+    with pytest.raises(ThermogramFormatError, match="wall.tif is not a TIFF.*Accepted"):
+        read_temperatures(b"GIF89a\x01\x00\x01\x00\x00\xff\x00" + bytes(50), "wall.tif")
