@@ -277,7 +277,7 @@ def frost_point(t_air_c, rh_pct):
     return _checks.result(_saturation_point(e, "ice", "rh_pct"))
 
 
-def surface_rh(t_air_c, rh_pct, t_surface_c):
+def surface_rh(t_air_c, rh_pct, t_surface_c, *, out_of_range="raise"):
     """Relative humidity that room air reaches in the thin layer touching a surface.
 
     Parameters
@@ -289,6 +289,11 @@ def surface_rh(t_air_c, rh_pct, t_surface_c):
     t_surface_c : float or array_like
         Surface temperature, °C, within −100…+100 °C, for example a corrected
         thermogram. NaN pixels give NaN.
+    out_of_range : {"raise", "nan"}
+        ``"raise"`` (default) refuses surface temperatures outside −100…+100 °C with a
+        ``ValueError`` naming ``t_surface_c``; ``"nan"`` gives NaN for those pixels only,
+        for whole images that also show a flue or a lamp (a surface above 100 °C is far
+        from any humidity limit).
 
     Returns
     -------
@@ -310,9 +315,16 @@ def surface_rh(t_air_c, rh_pct, t_surface_c):
     83.4
     """
     e = _vapour_pressure(t_air_c, rh_pct, allow_dry=True)
-    t_surface = _checks.temperature(
-        t_surface_c, "t_surface_c", allow_nan=True, within=WATER_RANGE_C
-    )
+    if _checks.choice(out_of_range, "out_of_range", ("raise", "nan")) == "nan":
+        t_surface = _checks.temperature(t_surface_c, "t_surface_c", allow_nan=True)
+        with np.errstate(invalid="ignore"):
+            outside = (t_surface < WATER_RANGE_C[0]) | (t_surface > WATER_RANGE_C[1])
+        if outside.any():
+            t_surface = np.where(outside, np.nan, t_surface)
+    else:
+        t_surface = _checks.temperature(
+            t_surface_c, "t_surface_c", allow_nan=True, within=WATER_RANGE_C
+        )
     return _checks.result(100.0 * e / _saturation(t_surface, "auto"))
 
 

@@ -523,3 +523,16 @@ def test_surface_rh_flag_and_margin_always_agree(t_air_c, rh_pct, t_surface_c, l
     margin = surface_margin_k(t_air_c, rh_pct, t_surface_c, limit_pct)
     assume(abs(margin) > 1e-9)
     assert (surface_rh(t_air_c, rh_pct, t_surface_c) >= limit_pct) == (margin < 0.0)
+
+
+def test_surface_rh_can_leave_out_of_range_pixels_as_nan():
+    """With out_of_range="nan" a 150 °C flue pixel gives NaN and the others their value."""
+    # Source: docs/references.md § Psychrometrics, air 20 °C 50 % at 12 °C → 83.4 %.
+    pixels = np.array([12.0, 150.0, np.nan])
+    result = surface_rh(20.0, 50.0, pixels, out_of_range="nan")
+    assert result[0] == pytest.approx(83.4, abs=0.05)
+    assert np.isnan(result[1]) and np.isnan(result[2])
+    with pytest.raises(ValueError, match="t_surface_c"):
+        surface_rh(20.0, 50.0, pixels)
+    with pytest.raises(ValueError, match="out_of_range"):
+        surface_rh(20.0, 50.0, pixels, out_of_range="clip")
