@@ -472,7 +472,7 @@ def test_surface_below_the_frost_point_is_flagged_and_margined_alike():
     # = e / e_i(−2.86 °C) (GetSatVapPres, eq. 5). ISO 13788 reads the surface over ice.
     e_pa = 0.8 * hyland_wexler_water_pa(0.0)
     frost_c = psychrolib.GetTDewPointFromVapPres(0.0, e_pa)  # about −2.68 °C
-    expected_rh = 100.0 * e_pa / psychrolib.GetSatVapPres(-2.86)  # about 101.8 %
+    expected_rh = 100.0 * e_pa / psychrolib.GetSatVapPres(-2.86)  # about 101.5 %
     expected_margin = -2.86 - frost_c  # about −0.18 K
 
     rh = surface_rh(0.0, 80.0, -2.86)
