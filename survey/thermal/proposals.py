@@ -1121,7 +1121,9 @@ def propose_hot_spots(
     bounding box and median temperature are like components (the phases of a breaker) and
     are compared hottest to hottest, against the lower median of the others' maxima so
     that one other faulty phase does not hide a fault [NETA-MTS]. A lone object is
-    compared with its own median (a hot terminal on a motor or a contactor).
+    compared with its own median (a hot terminal on a motor or a contactor). A component
+    warm as a whole, with no spot of its own, is not proposed: without its body
+    temperature it could not be told from a like component under another load.
 
     Examples
     --------
@@ -1138,7 +1140,6 @@ def propose_hot_spots(
     floor = float(_checks.positive(min_rise_c, "min_rise_c", " K"))
     _checks.choice(shape, "shape", ("ellipse", "point"))
     size = _pixel_size(pixel_size_m)
-    height, width = t.shape
     smooth = _box_mean(t, 1)
     filled = np.where(np.isfinite(smooth), smooth, -np.inf)
     peaks = (filled == _max_filter(filled, _PEAK_RADIUS)) & np.isfinite(smooth)
@@ -1146,76 +1147,19 @@ def propose_hot_spots(
     with np.errstate(invalid="ignore"):
         peaks &= smooth - _box_mean(t, 2 * _RING_OUTER) >= 0.3 * floor
     rows, cols = np.nonzero(peaks)
-    if len(rows) == 0:
-        return []
-    ring_dy, ring_dx = _ring_offsets()
-    ring_rows = np.clip(rows[:, None] + ring_dy[None, :], 0, height - 1)
-    ring_cols = np.clip(cols[:, None] + ring_dx[None, :], 0, width - 1)
-    ring = t[ring_rows, ring_cols]
-    # nanpercentile works row by row; most thermograms have no NaN and take the fast path.
-    percentile = np.percentile if np.isfinite(ring).all() else np.nanpercentile
-    surroundings = percentile(ring, _RING_PERCENTILE, axis=1)
-    values = smooth[rows, cols]
-    local_rise = values - surroundings
-    keep = local_rise >= floor
-    rows, cols, values, surroundings, local_rise = (
-        rows[keep],
-        cols[keep],
-        values[keep],
-        surroundings[keep],
-        local_rise[keep],
-    )
-    if len(rows) == 0:
-        return []
     labels, components = _warm_components(t, smooth)
-    by_label = {component.label: component for component in components}
     groups: dict[int, list[_Component]] = {}
     for component in components:
         if component.group >= 0:
             groups.setdefault(component.group, []).append(component)
-    found = []
-    for row, col, value, around, rise in zip(
-        rows.tolist(),
-        cols.tolist(),
-        values.tolist(),
-        surroundings.tolist(),
-        local_rise.tolist(),
-        strict=True,
-    ):
-        spot = {"surroundings_c": around, "surroundings_rise_k": rise}
-        component = by_label.get(int(labels[row, col]))
-        used = rise
-        if component is not None and component.group >= 0:
-            others = sorted(
-                (other for other in groups[component.group] if other is not component),
-                key=lambda other: other.hottest_c,
-            )
-            reference = others[(len(others) - 1) // 2]
-            like_rise = value - reference.hottest_c
-            if like_rise < floor:
-                continue
-            used = like_rise
-            spot.update(
-                like_count=len(others) + 1,
-                like_reference_c=reference.hottest_c,
-                like_rise_k=like_rise,
-                _reference=reference,
-            )
-        elif component is not None:
-            body = component.body_c
-            if value - body < floor:
-                continue
-            used = min(used, value - body)
-            spot.update(body_c=body, body_rise_k=value - body)
-        found.append((used, row, col, value, spot))
+    found = _local_spots(t, smooth, rows, cols, floor, labels, components, groups)
     found.sort(key=lambda item: -item[0])
     accepted: list[tuple] = []
     for item in found:
         _, row, col, _, _ = item
         if all(math.hypot(row - other[1], col - other[2]) > 2 * _PEAK_RADIUS for other in accepted):
             accepted.append(item)
-        if len(accepted) >= max_proposals:
-            break
+    accepted = accepted[: max(int(max_proposals), 0)]
     # References follow the hot spots in the list: the first sits at len(accepted).
     spots, references, reference_positions = [], [], {}
     for used, row, col, value, spot in accepted:
@@ -1243,6 +1187,62 @@ def propose_hot_spots(
         reason = proposal_reason("reference", stats)
         spots.append(Proposal("reference", "point", [[col, row]], reason, 0.0, stats))
     return spots
+
+
+def _like_reference(component: _Component, members: list[_Component]) -> tuple:
+    """The like component a member is compared with, and the group's size: the lower
+    median of the others' maxima, hottest to hottest."""
+    others = sorted((m for m in members if m is not component), key=lambda m: m.hottest_c)
+    return others[(len(others) - 1) // 2], len(others) + 1
+
+
+def _local_spots(t, smooth, rows, cols, floor, labels, components, groups) -> list[tuple]:
+    """(rise used, row, col, value, stats) of the maxima that pass the rise tests."""
+    if len(rows) == 0:
+        return []
+    height, width = t.shape
+    ring_dy, ring_dx = _ring_offsets()
+    ring_rows = np.clip(rows[:, None] + ring_dy[None, :], 0, height - 1)
+    ring_cols = np.clip(cols[:, None] + ring_dx[None, :], 0, width - 1)
+    ring = t[ring_rows, ring_cols]
+    # nanpercentile works row by row; most thermograms have no NaN and take the fast path.
+    percentile = np.percentile if np.isfinite(ring).all() else np.nanpercentile
+    surroundings = percentile(ring, _RING_PERCENTILE, axis=1)
+    values = smooth[rows, cols]
+    keep = values - surroundings >= floor
+    by_label = {component.label: component for component in components}
+    found = []
+    for row, col, value, around in zip(
+        rows[keep].tolist(),
+        cols[keep].tolist(),
+        values[keep].tolist(),
+        surroundings[keep].tolist(),
+        strict=True,
+    ):
+        rise = value - around
+        spot = {"surroundings_c": around, "surroundings_rise_k": rise}
+        component = by_label.get(int(labels[row, col]))
+        used = rise
+        if component is not None and component.group >= 0:
+            reference, count = _like_reference(component, groups[component.group])
+            like_rise = value - reference.hottest_c
+            if like_rise < floor:
+                continue
+            used = like_rise
+            spot.update(
+                like_count=count,
+                like_reference_c=reference.hottest_c,
+                like_rise_k=like_rise,
+                _reference=reference,
+            )
+        elif component is not None:
+            body = component.body_c
+            if value - body < floor:
+                continue
+            used = min(used, value - body)
+            spot.update(body_c=body, body_rise_k=value - body)
+        found.append((used, row, col, value, spot))
+    return found
 
 
 def _spot_mark(t, smooth, row, col, level, shape):
