@@ -253,7 +253,9 @@ def region_outline(
     Returns
     -------
     list of [x, y]
-        Corners, clockwise on screen. Holes are not traced: the polygon covers them.
+        Corners, clockwise on screen. Holes are not traced: the polygon covers them. A
+        region so thin that its simplification would cover none of it keeps its exact
+        outline (or, beyond ``max_corners``, its bounding box).
 
     Notes
     -----
@@ -278,13 +280,22 @@ def region_outline(
     top = int(rows[0])
     cols = np.flatnonzero(array.any(axis=0))
     crop = array[top : rows[-1] + 1, cols[0] : cols[-1] + 1]
-    corners = _crack_outline(crop, connectivity)
-    corners = corners + np.array([cols[0] - 0.5, top - 0.5])
-    return _simplify_bounded(corners, tolerance_px, max_corners)
+    labels, _ = label_regions(crop, connectivity=connectivity)
+    region = labels == labels[0, np.flatnonzero(crop[0])[0]]
+    return _covering_polygon(region, top, int(cols[0]), connectivity, tolerance_px, max_corners)
 
 
 # Directions, clockwise on screen (y down): east, south, west, north.
 _STEPS = np.array([[1, 0], [0, 1], [-1, 0], [0, -1]])
+
+
+def _without_holes(mask: np.ndarray, connectivity: int) -> np.ndarray:
+    """The region with its holes filled: everything the outside cannot reach."""
+    padded = np.zeros((mask.shape[0] + 2, mask.shape[1] + 2), dtype=bool)
+    padded[1:-1, 1:-1] = mask
+    # The background connects the other way round: 4 around an 8-connected region.
+    outside, _ = label_regions(~padded, connectivity=12 - connectivity)
+    return (outside != outside[0, 0])[1:-1, 1:-1]
 
 
 def _crack_outline(mask: np.ndarray, connectivity: int) -> np.ndarray:
@@ -631,8 +642,30 @@ def _regions(flagged: np.ndarray, min_area_px: int, limit: int) -> list[_Region]
 
 
 def _outline(region: _Region, max_corners: int) -> list:
-    corners = _crack_outline(region.mask, 8) + np.array([region.left - 0.5, region.top - 0.5])
-    return _simplify_bounded(corners, SIMPLIFY_TOLERANCE_PX, max_corners)
+    return _covering_polygon(
+        region.mask, region.top, region.left, 8, SIMPLIFY_TOLERANCE_PX, max_corners
+    )
+
+
+def _covering_polygon(
+    mask: np.ndarray, top: int, left: int, connectivity: int, tolerance: float, max_corners: int
+) -> list:
+    """Simplified outline of the region holding the crop's first pixel, in image
+    coordinates, that still covers the region (IoU ≥ 0.5 with its pixels).
+
+    A thin region (a line of pixels) can simplify to a sliver that covers no pixel centre;
+    then the exact outline is used, or when that has too many corners the bounding box.
+    """
+    crack = _crack_outline(mask, connectivity) - 0.5  # pixel-centre coordinates of the crop
+    filled = _without_holes(mask, connectivity)
+    for tried in (tolerance, 0.0):
+        points = _simplify_bounded(crack, tried, max_corners)
+        if 3 <= len(points) <= max_corners:
+            if iou(mark_mask(mask.shape, "polygon", points), filled) >= 0.5:
+                return [[_coordinate(x + left), _coordinate(y + top)] for x, y in points]
+    height, width = mask.shape
+    box = [[-0.5, -0.5], [width - 0.5, -0.5], [width - 0.5, height - 0.5], [-0.5, height - 0.5]]
+    return [[_coordinate(x + left), _coordinate(y + top)] for x, y in box]
 
 
 def _extreme(t: np.ndarray, region: _Region, coldest: bool) -> tuple[float, list[int]]:
@@ -774,7 +807,7 @@ def propose_envelope(
     elif t_outside_c is not None:
         _checks.temperature(t_outside_c, "t_outside_c")
     with np.errstate(invalid="ignore"):
-        flagged = _majority(t <= threshold)
+        flagged = _majority(t <= threshold) & np.isfinite(t)
     proposals = []
     for region in _regions(flagged, smallest, max_proposals):
         coldest_c, coldest_at = _extreme(t, region, coldest=True)
@@ -950,7 +983,7 @@ def propose_roof(
         flagged = raw_rise >= rise_floor
     if field_mask is not None:
         flagged &= np.asarray(field_mask, dtype=bool)
-    flagged = _majority(flagged)
+    flagged = _majority(flagged) & np.isfinite(t)
     proposals = []
     for region in _regions(flagged, smallest, max_proposals):
         warmest_c, warmest_at = _extreme(t, region, coldest=False)
@@ -1142,7 +1175,8 @@ def propose_hot_spots(
     size = _pixel_size(pixel_size_m)
     smooth = _box_mean(t, 1)
     filled = np.where(np.isfinite(smooth), smooth, -np.inf)
-    peaks = (filled == _max_filter(filled, _PEAK_RADIUS)) & np.isfinite(smooth)
+    # A maximum must be a measured pixel: the mean of its neighbours is not enough.
+    peaks = (filled == _max_filter(filled, _PEAK_RADIUS)) & np.isfinite(t)
     # Cheap first cut: a hot spot stands well above the mean of a wide window around it.
     with np.errstate(invalid="ignore"):
         peaks &= smooth - _box_mean(t, 2 * _RING_OUTER) >= 0.3 * floor
@@ -1255,8 +1289,9 @@ def _spot_mark(t, smooth, row, col, level, shape):
     labels, _ = label_regions(hot)
     area = labels == labels[row - top, col - left]
     ys, xs = np.nonzero(area)
-    crop = np.where(area, t[top:bottom, left:right], -np.inf)
-    index = int(np.nanargmax(crop))
+    values = t[top:bottom, left:right]
+    crop = np.where(area & np.isfinite(values), values, -np.inf)
+    index = int(np.argmax(crop))
     hot_row, hot_col = divmod(index, crop.shape[1])
     hottest_c = float(crop.flat[index])
     hottest_at = [left + hot_col, top + hot_row]

@@ -9,7 +9,7 @@ import pytest
 from scipy import ndimage
 from scipy.optimize import brentq
 
-from survey.thermal.marks import mark_mask
+from survey.thermal.marks import mark_mask, mark_statistics
 from survey.thermal.proposals import (
     TUNING_SEED,
     Proposal,
@@ -370,3 +370,35 @@ def test_score_counts_misses_and_false_alarms():
     assert perfect.true_positives == len(scene.regions) and perfect.false_positives == 0
     assert min(perfect.ious) == pytest.approx(1.0)
     assert not math.isnan(perfect.precision)
+
+
+def test_proposals_on_random_arrays_are_marks_the_app_accepts():
+    """On random fields, with missing data and thin regions, every detector returns marks
+    that mark_statistics reads (inside the image, covering pixels) with finite numbers.
+    (Regression: a region of NaN pixels only, and a thin region simplified to a sliver.)"""
+    rng = np.random.default_rng(0)
+    detectors = (
+        (propose_envelope, {"t_inside_c": 20.0, "rh_inside_pct": 60.0, "min_area_px": 1}),
+        (propose_roof, {"min_area_px": 1, "min_rise_c": 0.3}),
+        (propose_hot_spots, {"min_rise_c": 0.5}),
+    )
+    checked = 0
+    for _ in range(150):
+        height, width = rng.integers(3, 90, size=2)
+        field = rng.normal(15.0, rng.uniform(0, 5), (height, width))
+        if rng.random() < 0.5:
+            field = ndimage.gaussian_filter(field, rng.uniform(0.5, 4)) * rng.uniform(1, 20)
+        if rng.random() < 0.3:
+            field[rng.random((height, width)) < rng.uniform(0, 0.9)] = np.nan
+        if rng.random() < 0.1:
+            field[:] = 12.0
+        field.flat[0] = 1.0 if np.isnan(field).all() else field.flat[0]
+        for detector, settings in detectors:
+            for proposal in detector(field, **settings):
+                statistics = mark_statistics(field, proposal.kind, proposal.points)
+                assert statistics["count"] > 0
+                assert all(
+                    math.isfinite(v) for v in proposal.stats.values() if isinstance(v, float)
+                )
+                checked += 1
+    assert checked > 1000
