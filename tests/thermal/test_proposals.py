@@ -1,6 +1,7 @@
 """Proposal detectors against scipy.ndimage, psychrolib, hand-built scenes and the
 generated benchmark scenes of tests/scenes.py (docs/references.md § Anomaly proposals)."""
 
+import json
 import math
 
 import numpy as np
@@ -374,7 +375,8 @@ def test_score_counts_misses_and_false_alarms():
 
 def test_proposals_on_random_arrays_are_marks_the_app_accepts():
     """On random fields, with missing data and thin regions, every detector returns marks
-    that mark_statistics reads (inside the image, covering pixels) with finite numbers.
+    that mark_statistics reads (inside the image, covering pixels) with finite numbers,
+    as strict JSON.
     (Regression: a region of NaN pixels only, and a thin region simplified to a sliver.)"""
     rng = np.random.default_rng(0)
     detectors = (
@@ -400,5 +402,6 @@ def test_proposals_on_random_arrays_are_marks_the_app_accepts():
                 assert all(
                     math.isfinite(v) for v in proposal.stats.values() if isinstance(v, float)
                 )
+                json.dumps(proposal.as_dict(), allow_nan=False)  # what the API will send
                 checked += 1
     assert checked > 1000
