@@ -31,7 +31,9 @@ from survey.thermal.geometry import (
     pixel_footprint_m,
 )
 from survey.thermal.heat_transfer import surface_heat_flux
+from survey.thermal.logger import LoggerFileError, LoggerSeries, RowError, read_logger_csv
 from survey.thermal.marks import mark_statistics
+from survey.thermal.proposals import Proposal, drop_rejected, proposal_reason, propose, same_place
 from survey.thermal.psychrometrics import (
     condensation_margin_k,
     critical_temperature_factor,
@@ -49,26 +51,37 @@ from survey.thermal.radiometry import (
     object_temperature,
     object_temperature_uncertainty,
 )
+from survey.thermal.registration import Registration, Transform, register, transform_from_points
 from survey.thermal.render import PALETTES, auto_span, invert_palette, render
+from survey.thermal.timeseries import conditions_at, held_difference, outdoor_extremes
 
 __all__ = [
     "MaskedArea",
     "PALETTES",
     "RISE_METHODS",
+    "LoggerFileError",
+    "LoggerSeries",
+    "Proposal",
+    "Registration",
     "RiseClassification",
+    "RowError",
     "ThermogramFormatError",
+    "Transform",
     "apparent_temperature",
     "auto_span",
     "classify_rise",
     "condensation_margin_k",
+    "conditions_at",
     "critical_temperature_factor",
     "decide",
     "decide_interval",
     "dew_point",
+    "drop_rejected",
     "emissivity_warning",
     "expanded_from_limit",
     "frost_point",
     "ifov_from_fov_mrad",
+    "held_difference",
     "invert_palette",
     "like_component_rise_c",
     "load_corrected_rise",
@@ -77,12 +90,18 @@ __all__ = [
     "masked_area_m2",
     "object_temperature",
     "object_temperature_uncertainty",
+    "outdoor_extremes",
     "pixel_area_m2",
     "pixel_footprint_from_fov_m",
     "pixel_footprint_m",
+    "proposal_reason",
+    "propose",
+    "read_logger_csv",
     "read_temperatures",
+    "register",
     "render",
     "round_rise_c",
+    "same_place",
     "saturation_vapor_pressure",
     "surface_heat_flux",
     "surface_limit_temperature",
@@ -92,4 +111,5 @@ __all__ = [
     "surface_rh_interval",
     "temperature_factor",
     "temperature_factor_interval",
+    "transform_from_points",
 ]

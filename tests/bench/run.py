@@ -1,7 +1,7 @@
 """`make bench`: measure every hot path, print the table, write bench-results.json.
 
-    .venv/bin/python -m tests.bench.run [--only thermal,ingest,web,report,load] [--output F]
-                                        [--profile]
+    .venv/bin/python -m tests.bench.run [--only thermal,proposals,ingest,web,report,load]
+                                        [--output F] [--profile]
 
 Runs on the embedded default (SQLite, tasks in-process). With DATABASE_URL (PostgreSQL) and
 REDIS_URL set it runs there instead, in a database and a Redis db of its own, and also
@@ -21,9 +21,10 @@ from collections.abc import Callable
 from pathlib import Path
 
 from tests.bench import environment as bench_environment
+from tests.bench import figures_proposals
 from tests.bench.timing import Row, not_run, table
 
-GROUPS = ("thermal", "ingest", "web", "report", "load")
+GROUPS = ("thermal", "proposals", "ingest", "web", "report", "load")
 REPORT_SIZES = (10, 50)
 REPORT_REPEATS = (3, 2)
 SURVEY_PAGE_SIZE = 200
@@ -213,6 +214,7 @@ def main(argv: list[str] | None = None) -> int:
     try:
         floors: dict = {}
         thermal_figures(runner, floors)
+        figures_proposals.figures(runner)
         ingest_figures(runner, environment, floors)
         surveys = None
         if args.groups & {"web", "report", "load"}:
