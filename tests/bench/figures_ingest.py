@@ -126,7 +126,7 @@ def start_worker(environment: BenchEnvironment) -> subprocess.Popen:
         "-m",
         "celery",
         "-A",
-        "survey",
+        "survey.celery",
         "worker",
         "--pool=solo",
         "--loglevel=WARNING",

@@ -80,7 +80,17 @@ def _start_worker(
     env.update(extra)
     celery = Path(sys.executable).with_name("celery")
     log = open(log_path, "ab")
-    command = [str(celery), "-A", "survey", "worker", f"--pool={pool}", "-c", "1", "-l", "INFO"]
+    command = [
+        str(celery),
+        "-A",
+        "survey.celery",
+        "worker",
+        f"--pool={pool}",
+        "-c",
+        "1",
+        "-l",
+        "INFO",
+    ]
     command += ["--without-gossip", "--without-mingle", "--without-heartbeat"]
     return subprocess.Popen(command, cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT)
 

@@ -87,7 +87,7 @@ def test_it_defines_the_four_services_with_health_checks():
         assert service["healthcheck"]["test"], name
         assert service["restart"] == "unless-stopped", name
     assert "gunicorn" in services["web"]["command"]
-    assert "celery -A survey worker" in services["worker"]["command"]
+    assert "celery -A survey.celery worker" in services["worker"]["command"]
     assert "--max-tasks-per-child" in services["worker"]["command"]
 
 

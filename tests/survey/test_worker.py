@@ -55,7 +55,7 @@ def test_it_processes_an_upload_in_a_real_worker(
             [
                 str(celery),
                 "-A",
-                "survey",
+                "survey.celery",
                 "worker",
                 "--pool=solo",
                 "-c",
