@@ -250,6 +250,28 @@ def report_retry(*, version: ReportVersion, user: AbstractBaseUser) -> ReportVer
     return version
 
 
+# --- what the reports app keeps of a survey (registered in ReportsConfig.ready) -----------
+
+
+def survey_report_hold(survey: Survey) -> str | None:
+    """Why a survey must stay: an issued report the client holds, or None."""
+    issued = ReportVersion.objects.filter(report__survey=survey, status=ReportVersion.Status.ISSUED)
+    if issued.exists():
+        return (
+            "This survey has an issued report: the client holds a copy that must stay "
+            "traceable to its data."
+        )
+    return None
+
+
+def survey_reports_release(survey: Survey) -> list[str]:
+    """Delete the reports of a survey being purged; the PDF paths to remove afterwards."""
+    versions = ReportVersion.objects.filter(report__survey=survey)
+    paths = [path for path in versions.values_list("pdf", flat=True) if path]
+    survey.reports.all().delete()
+    return paths
+
+
 # --- sharing and downloads -----------------------------------------------------------------
 
 

@@ -15,16 +15,15 @@ from django.utils.http import content_disposition_header
 from django.views.decorators.http import require_GET, require_POST
 
 from reports import services
-from reports.forms import IssueForm, ShareLinkForm
-from reports.models import ReportVersion
-from reports.pdf import content_digest
-from survey.access import (
-    get_member,
+from reports.access import (
     get_report_for_user,
     get_report_version_for_user,
     get_share_link_for_user,
-    get_survey_for_user,
 )
+from reports.forms import IssueForm, ShareLinkForm
+from reports.models import ReportVersion
+from reports.pdf import content_digest
+from survey.access import get_member, get_survey_for_user
 from survey.views.media import serve_file
 
 

@@ -100,47 +100,6 @@ def get_finding_for_user(request: HttpRequest, pk: int) -> Finding:
     return get_object_or_404(findings_for(get_member(request)).select_related("survey"), pk=pk)
 
 
-# --- reports (reports helper) ---
-def reports_for(member: Member) -> QuerySet:
-    from reports.models import Report
-
-    return Report.objects.filter(
-        organization=member.organization, survey__status=Survey.Status.ACTIVE
-    )
-
-
-def get_report_for_user(request: HttpRequest, pk: int):
-    return get_object_or_404(
-        reports_for(get_member(request)).select_related("survey__site__client"), pk=pk
-    )
-
-
-def get_report_version_for_user(request: HttpRequest, pk: int):
-    from reports.models import ReportVersion
-
-    member = get_member(request)
-    return get_object_or_404(
-        ReportVersion.objects.select_related("report__survey__site__client").filter(
-            report__organization=member.organization,
-            report__survey__status=Survey.Status.ACTIVE,
-        ),
-        pk=pk,
-    )
-
-
-def get_share_link_for_user(request: HttpRequest, pk: int):
-    from reports.models import ShareLink
-
-    member = get_member(request)
-    return get_object_or_404(
-        ShareLink.objects.select_related("version__report").filter(
-            version__report__organization=member.organization,
-            version__report__survey__status=Survey.Status.ACTIVE,
-        ),
-        pk=pk,
-    )
-
-
 # --- pages (web-core helper) ---
 def members_for(member: Member) -> QuerySet[Member]:
     return Member.objects.filter(organization=member.organization).select_related("user")

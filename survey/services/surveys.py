@@ -29,6 +29,7 @@ from django.db import transaction
 from django.db.models import Max
 from django.utils import timezone
 
+from survey.dependents import survey_hold
 from survey.models import (
     Asset,
     Client,
@@ -217,22 +218,12 @@ def conditions_update(
     return conditions
 
 
-def survey_has_issued_report(survey: Survey) -> bool:
-    from reports.models import ReportVersion
-
-    return ReportVersion.objects.filter(
-        report__survey=survey, status=ReportVersion.Status.ISSUED
-    ).exists()
-
-
 @transaction.atomic
 def survey_soft_delete(*, survey: Survey, user: AbstractBaseUser | None) -> Survey:
-    """Hide a survey (recoverable); refused once a report of it was issued to a client."""
-    if survey_has_issued_report(survey):
-        raise ValidationError(
-            "This survey has an issued report, so it cannot be deleted: the client holds a "
-            "copy that must stay traceable to its data."
-        )
+    """Hide a survey (recoverable); refused while an app keeps it (an issued report)."""
+    reason = survey_hold(survey)
+    if reason:
+        raise ValidationError(f"{reason} It cannot be deleted.")
     survey.status = Survey.Status.DELETED
     survey.deleted_at = timezone.now()
     survey.save(update_fields=["status", "deleted_at", "updated_at"])

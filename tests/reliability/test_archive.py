@@ -20,6 +20,7 @@ from django.core.management import CommandError, call_command
 from django.utils import timezone
 from PIL import Image
 
+from reports.archive import survey_export, survey_import
 from reports.models import Report, ReportVersion
 from reports.services import report_create, report_issue, survey_results
 from survey.models import (
@@ -30,7 +31,6 @@ from survey.models import (
     Survey,
     Thermogram,
 )
-from survey.services.archive import survey_export, survey_import
 from survey.services.marks import mark_add
 from survey.services.surveys import thermogram_ingest
 from tests.factories import make_thermogram, synthetic_field
