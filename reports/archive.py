@@ -27,7 +27,7 @@ from django.db import models, transaction
 from django.utils import timezone
 
 from reports.models import Report, ReportVersion
-from reports.services import survey_results
+from reports.results import survey_results
 from survey.models import (
     Asset,
     Client,

@@ -22,7 +22,8 @@ from PIL import Image
 
 from reports.archive import survey_export, survey_import
 from reports.models import Report, ReportVersion
-from reports.services import report_create, report_issue, survey_results
+from reports.results import survey_results
+from reports.services import report_create, report_issue
 from survey.models import (
     AuditEvent,
     Finding,
