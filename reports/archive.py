@@ -496,7 +496,7 @@ def survey_import(
     username; a thermographer or reviewer unknown here is left empty. Raises ValidationError
     with the reason, writing nothing, when the archive is damaged or does not fit.
     """
-    from survey.services.surveys import thermogram_enqueue
+    from survey.services.ingest import thermogram_enqueue
 
     manifest, files = _open_archive(data)
     importer = _Importer(organization, user, manifest, files)

@@ -41,7 +41,7 @@ from survey.forms import (
     UploadForm,
 )
 from survey.models import Survey, Thermogram
-from survey.services import surveys as services
+from survey.services import ingest, members, processing, surveys
 
 
 def _data(request: HttpRequest):
@@ -81,7 +81,7 @@ def preferences(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
     form = PreferenceForm(_data(request), initial={"temperature_unit": member.temperature_unit})
     if request.method == "POST" and form.is_valid():
-        services.member_update_preferences(member=member, **form.cleaned_data)
+        members.member_update_preferences(member=member, **form.cleaned_data)
         messages.success(request, "Preferences saved.")
         return redirect("survey:preferences")
     return render(request, "survey/preferences.html", {"form": form})
@@ -95,7 +95,7 @@ def client_list(request: HttpRequest) -> HttpResponse:
         require_editor(member)
         if form.is_valid():
             try:
-                client = services.client_create(
+                client = surveys.client_create(
                     organization=member.organization, user=request.user, **form.cleaned_data
                 )
             except ValidationError as error:
@@ -115,7 +115,7 @@ def site_list(request: HttpRequest) -> HttpResponse:
         require_editor(member)
         if form.is_valid():
             try:
-                site = services.site_create(user=request.user, **form.cleaned_data)
+                site = surveys.site_create(user=request.user, **form.cleaned_data)
             except ValidationError as error:
                 _add_service_error(form, error)
             else:
@@ -146,7 +146,7 @@ def survey_create(request: HttpRequest) -> HttpResponse:
     form = _survey_form(request, member, initial=initial)
     if request.method == "POST" and form.is_valid():
         try:
-            survey = services.survey_create(
+            survey = surveys.survey_create(
                 organization=member.organization,
                 user=request.user,
                 conditions=form.conditions_values(),
@@ -169,7 +169,7 @@ def survey_edit(request: HttpRequest, pk: int) -> HttpResponse:
     form = _survey_form(request, member, initial=initial)
     if request.method == "POST" and form.is_valid():
         try:
-            services.survey_update(
+            surveys.survey_update(
                 survey=survey,
                 user=request.user,
                 conditions=form.conditions_values(),
@@ -202,7 +202,7 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
     )
     thermograms = list(survey.thermograms.all())
     for thermogram in thermograms:
-        thermogram.stalled = services.thermogram_is_stalled(thermogram)
+        thermogram.stalled = processing.thermogram_is_stalled(thermogram)
     context = {
         "survey": survey,
         "thermograms": thermograms,
@@ -227,7 +227,7 @@ def survey_upload(request: HttpRequest, pk: int) -> HttpResponse:
     if not form.is_valid():
         messages.error(request, f"Nothing was uploaded. {_form_errors(form)}")
         return redirect("survey:survey", pk=survey.pk)
-    result = services.thermograms_ingest_batch(
+    result = ingest.thermograms_ingest_batch(
         survey=survey,
         files=form.cleaned_data["files"],
         photos=form.cleaned_data["photos"],
@@ -253,7 +253,7 @@ def survey_status(request: HttpRequest, pk: int) -> JsonResponse:
                 "id": thermogram.pk,
                 "status": thermogram.status,
                 "status_display": thermogram.get_status_display(),
-                "stalled": services.thermogram_is_stalled(thermogram),
+                "stalled": processing.thermogram_is_stalled(thermogram),
                 "error": thermogram.error,
                 "thumbnail": reverse("survey:thermogram_thumbnail", args=[thermogram.pk])
                 if thermogram.thumbnail
@@ -272,7 +272,7 @@ def survey_delete(request: HttpRequest, pk: int) -> HttpResponse:
     form = DeleteForm(_data(request))
     if request.method == "POST" and form.is_valid():
         try:
-            services.survey_soft_delete(survey=survey, user=request.user)
+            surveys.survey_soft_delete(survey=survey, user=request.user)
         except ValidationError as error:
             messages.error(request, " ".join(error.messages))
             return redirect("survey:survey", pk=survey.pk)
@@ -294,7 +294,7 @@ def survey_restore(request: HttpRequest, pk: int) -> HttpResponse:
     member = get_member(request)
     survey = get_deleted_survey_for_user(request, pk)
     require_reviewer(member)
-    services.survey_restore(survey=survey, user=request.user)
+    surveys.survey_restore(survey=survey, user=request.user)
     messages.success(request, f"{survey} restored.")
     return redirect("survey:survey", pk=survey.pk)
 
@@ -312,7 +312,7 @@ def thermogram_settings(request: HttpRequest, pk: int) -> HttpResponse:
     )
     if request.method == "POST" and form.is_valid():
         try:
-            services.thermogram_update_settings(
+            surveys.thermogram_update_settings(
                 thermogram=thermogram, user=request.user, **form.cleaned_data
             )
         except ValidationError as error:
@@ -354,7 +354,7 @@ def thermogram_reprocess(request: HttpRequest, pk: int) -> HttpResponse:
         messages.error(request, f"Not re-processed. {_form_errors(form)}")
         return redirect("survey:thermogram_settings", pk=thermogram.pk)
     try:
-        services.thermogram_reprocess(
+        ingest.thermogram_reprocess(
             thermogram=thermogram,
             user=request.user,
             unit=form.cleaned_data["source_unit"],

@@ -32,8 +32,8 @@ from survey.models import (
     Survey,
     Thermogram,
 )
+from survey.services.ingest import thermogram_ingest
 from survey.services.marks import mark_add
-from survey.services.surveys import thermogram_ingest
 from tests.factories import make_thermogram, synthetic_field
 
 

@@ -197,7 +197,7 @@ def test_it_answers_a_csv_with_a_million_columns(
     """One row of a million numbers: stored, then refused as not an image, in seconds."""
     from django.core.files.uploadedfile import SimpleUploadedFile
 
-    from survey.services.surveys import thermogram_ingest
+    from survey.services.ingest import thermogram_ingest
 
     CASES["million columns"] += 1
     data = (",".join(["20.5"] * 1_000_000) + "\n").encode()

@@ -40,8 +40,8 @@ from django.core.files.uploadedfile import SimpleUploadedFile
 from reports.models import ReportVersion
 from reports.services import report_create, report_issue, report_request_draft
 from survey.models import AuditEvent, Thermogram
+from survey.services.ingest import thermogram_ingest
 from survey.services.marks import mark_add
-from survey.services.surveys import thermogram_ingest
 from tests.factories import make_thermogram, synthetic_field
 from tests.survey.brokers import broker_at
 

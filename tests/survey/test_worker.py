@@ -14,7 +14,7 @@ from django.conf import settings as django_settings
 from django.core.files.uploadedfile import SimpleUploadedFile
 
 from survey.models import Thermogram
-from survey.services.surveys import thermogram_ingest
+from survey.services.ingest import thermogram_ingest
 from tests.survey.brokers import broker_at
 
 ROOT = Path(__file__).resolve().parents[2]

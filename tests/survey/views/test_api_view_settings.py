@@ -13,7 +13,7 @@ from hypothesis import strategies as st
 from PIL import Image
 
 from survey.models import AuditEvent
-from survey.services.surveys import thermogram_process
+from survey.services.processing import thermogram_process
 from survey.thermal.render import render
 from tests.factories import make_thermogram, synthetic_field
 

@@ -166,7 +166,7 @@ def test_it_refuses_a_bad_scale_bar_box_given_to_the_service(envelope_survey, th
     """Callers other than the form (imports, scripts) get the same clear refusal, nothing stored."""
     from django.core.exceptions import ValidationError
 
-    from survey.services.surveys import thermogram_ingest
+    from survey.services.ingest import thermogram_ingest
 
     _, png = picture_with_scale_bar()
     with pytest.raises(ValidationError, match="scale bar box"):
