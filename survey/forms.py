@@ -11,31 +11,12 @@ from django import forms
 from django.core.exceptions import ValidationError
 
 from survey.models import Asset, Conditions, Member, Survey
+from survey.thermal import units
 
 C, F = Member.TemperatureUnit.CELSIUS, Member.TemperatureUnit.FAHRENHEIT
 # Free text is printed in reports: ten pages is plenty, a megabyte is a mistake.
 TEXT_LIMIT = 20_000
 FIRST_SURVEY_DATE = datetime.date(1950, 1, 1)
-
-
-def c_to_unit(value_c: float | None, unit: str) -> float | None:
-    if value_c is None:
-        return None
-    return value_c * 9 / 5 + 32 if unit == F else value_c
-
-
-def unit_to_c(value: float | None, unit: str) -> float | None:
-    if value is None:
-        return None
-    return (value - 32) * 5 / 9 if unit == F else value
-
-
-def unit_symbol(unit: str) -> str:
-    return "°F" if unit == F else "°C"
-
-
-def _round(value: float | None) -> float | None:
-    return None if value is None else round(value, 2)
 
 
 class UnitFormMixin:
@@ -55,14 +36,18 @@ class UnitFormMixin:
         super().__init__(*args, **kwargs)
         for name, (label, low, high, required) in self.temperatures.items():
             self.fields[name] = self._number(
-                label, c_to_unit(low, unit), c_to_unit(high, unit), required
+                label, units.from_celsius(low, unit), units.from_celsius(high, unit), required
             )
-        factor = 9 / 5 if unit == F else 1.0
         for name, (label, low, high, required) in self.differences.items():
-            self.fields[name] = self._number(label, low * factor, high * factor, required)
+            self.fields[name] = self._number(
+                label,
+                units.difference_from_kelvin(low, unit),
+                units.difference_from_kelvin(high, unit),
+                required,
+            )
 
     def _number(self, label: str, low: float, high: float, required: bool) -> forms.FloatField:
-        symbol = unit_symbol(self.unit)
+        symbol = units.symbol(self.unit)
         return forms.FloatField(
             label=f"{label} ({symbol})",
             required=required,
@@ -76,24 +61,19 @@ class UnitFormMixin:
         )
 
     def _temperature_c(self, name: str) -> float | None:
-        return unit_to_c(self.cleaned_data.get(name), self.unit)
+        return units.to_celsius(self.cleaned_data.get(name), self.unit)
 
     def _difference_c(self, name: str) -> float | None:
-        value = self.cleaned_data.get(name)
-        if value is None:
-            return None
-        return value * 5 / 9 if self.unit == F else value
+        return units.difference_to_kelvin(self.cleaned_data.get(name), self.unit)
 
     @classmethod
     def initial_in_unit(cls, values_c: dict, unit: str) -> dict:
         """Turn stored °C values into the initial values of the form for `unit`."""
         initial = dict(values_c)
-        factor = 9 / 5 if unit == F else 1.0
         for name in cls.temperatures:
-            initial[name] = _round(c_to_unit(values_c.get(name), unit))
+            initial[name] = units.rounded(units.from_celsius(values_c.get(name), unit))
         for name in cls.differences:
-            value = values_c.get(name)
-            initial[name] = None if value is None else _round(value * factor)
+            initial[name] = units.rounded(units.difference_from_kelvin(values_c.get(name), unit))
         return initial
 
 

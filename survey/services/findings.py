@@ -27,6 +27,7 @@ from survey.models import (
     Thermogram,
 )
 from survey.services.audit import audit_record
+from survey.thermal.units import rounded
 
 # Below this load a load-corrected rise extrapolates too far to be trusted (common practice;
 # NFPA 70B asks for at least 40 % of normal load); the physics holds the number.
@@ -167,13 +168,6 @@ def _conditions(survey: Survey) -> Conditions | None:
         return survey.conditions
     except Conditions.DoesNotExist:
         return None
-
-
-def _round(value, digits: int = 2):
-    if value is None:
-        return None
-    value = float(value)
-    return round(value, digits) if math.isfinite(value) else None
 
 
 # --- suggestion ---
@@ -317,14 +311,14 @@ def _suggest_rise(survey, basis, marks, thermogram, reference, exponent, table) 
         )
         level, row, action = classification.level, classification.row, classification.action
     values = {
-        "hot_c": _round(hot_c),
-        "reference_c": _round(ref_c),
-        "rise_c": _round(rise),
-        "corrected_rise_c": _round(corrected),
+        "hot_c": rounded(hot_c),
+        "reference_c": rounded(ref_c),
+        "rise_c": rounded(rise),
+        "corrected_rise_c": rounded(corrected),
         "load_pct": load,
         "load_exponent": exponent,
-        "max_corrected_c": _round(hot_c),
-        "uncertainty_c": _round(uncertainty),
+        "max_corrected_c": rounded(hot_c),
+        "uncertainty_c": rounded(uncertainty),
     }
     result = _with_level(level, row, action, "K", reasons)
     if uncertainty:
@@ -385,10 +379,10 @@ def _suggest_envelope(survey, marks, thermogram, design, table) -> dict:
         flags.append("mould")
         reasons.append("Mould risk: surface RH at or above 80 % (ISO 13788).")
     values = {
-        "surface_c": _round(surface_c),
-        "surface_rh_pct": _round(rh_s, 1),
-        "dew_point_c": _round(dew_c),
-        "condensation_margin_k": _round(surface_c - dew_c) if dew_c is not None else None,
+        "surface_c": rounded(surface_c),
+        "surface_rh_pct": rounded(rh_s, 1),
+        "dew_point_c": rounded(dew_c),
+        "condensation_margin_k": rounded(surface_c - dew_c) if dew_c is not None else None,
         "max_corrected_c": None,
     }
     row = criteria.classify_value(rh_s, table.rows)
@@ -400,9 +394,9 @@ def _suggest_envelope(survey, marks, thermogram, design, table) -> dict:
         margin = (factor - f_min) * (t_in - t_out)
         values.update(
             {
-                "temperature_factor": _round(factor, 3),
-                "critical_factor": _round(f_min, 3),
-                "margin_k": _round(margin),
+                "temperature_factor": rounded(factor, 3),
+                "critical_factor": rounded(f_min, 3),
+                "margin_k": rounded(margin),
             }
         )
         reasons.append(
@@ -451,10 +445,10 @@ def _envelope_design(design, factor, table, values, reasons, flags, worst):
             "design_inside_c": t_in,
             "design_inside_rh_pct": rh_in,
             "design_outside_c": t_out,
-            "design_critical_factor": _round(f_min, 3),
-            "design_surface_c": _round(surface_design),
-            "design_surface_rh_pct": _round(rh_design, 1),
-            "design_margin_k": _round(margin),
+            "design_critical_factor": rounded(f_min, 3),
+            "design_surface_c": rounded(surface_design),
+            "design_surface_rh_pct": rounded(rh_design, 1),
+            "design_margin_k": rounded(margin),
         }
     )
     reasons.append(
@@ -507,8 +501,8 @@ def _suggest_roof(survey, marks, view_angle_deg, table) -> dict:
         "distance_m": thermogram.distance_m,
         "ifov_mrad": survey.ifov_mrad,
         "view_angle_deg": angle,
-        "wet_area_square_on_m2": _round(square_on, 4),
-        "wet_area_m2": _round(area, 4),
+        "wet_area_square_on_m2": rounded(square_on, 4),
+        "wet_area_m2": rounded(area, 4),
         "max_corrected_c": None,
     }
     row = criteria.classify_value(area, table.rows)

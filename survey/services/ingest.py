@@ -26,11 +26,10 @@ from survey.models import Asset, Survey, Thermogram
 from survey.services.audit import audit_record
 from survey.services.surveys import check_same_org
 from survey.tasks import process_thermogram
+from survey.thermal import units
 from survey.thermal.decode import detect_format
 
 logger = logging.getLogger(__name__)
-
-UNITS = {"C", "F", "K"}
 
 
 def sniff_format(head: bytes, name: str) -> str:
@@ -163,7 +162,7 @@ def thermogram_ingest(
     format, or already in this survey.
     """
     name = _file_name(uploaded_file)
-    if unit not in UNITS:
+    if unit not in units.UNITS:
         raise ValidationError(f"Unknown temperature unit {unit!r}; use C, F or K.")
     palette_source = _validate_false_colour(palette_source)
     data = _read_upload(uploaded_file)
@@ -310,7 +309,7 @@ def thermogram_reprocess(
         raise ValidationError("The original is damaged; upload the file again.")
     decode_settings = dict(thermogram.decode_settings)
     if unit is not None:
-        if unit not in UNITS:
+        if unit not in units.UNITS:
             raise ValidationError(f"Unknown temperature unit {unit!r}; use C, F or K.")
         decode_settings["unit"] = unit
     decode_settings["scale"] = scale
