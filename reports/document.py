@@ -21,8 +21,8 @@ from reports.models import ReportVersion
 from reports.pictures import Pictures, draft_watermark_png, draw_thermogram, trend_chart
 from reports.results import content_digest, readings_by_thermogram, survey_results
 from survey.cautions import cautions_for
-from survey.criteria import category_label
 from survey.models import Finding, Survey, Thermogram
+from survey.severity import category_label
 
 TOP_FINDINGS = 5
 DRAWING_THREADS = 2

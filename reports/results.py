@@ -7,7 +7,7 @@ import hashlib
 import json
 import math
 
-from survey.criteria import conditions_check
+from survey.conditions import conditions_check
 from survey.models import Finding, Survey, Thermogram
 from survey.services.readings import mark_readings
 

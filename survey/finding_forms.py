@@ -5,7 +5,7 @@ import json
 from django import forms
 from django.core.exceptions import ValidationError
 
-from survey import criteria
+from survey import severity
 from survey.models import Asset, Finding, Mark, Survey, Thermogram
 
 LEVEL_CHOICES = [("", "Use the suggested level")] + [
@@ -100,8 +100,8 @@ class FindingForm(forms.Form):
         marks = thermogram.marks.all()
         self.fields["marks"].queryset = marks
         self.fields["reference"].queryset = marks
-        self.fields["basis"].choices = criteria.BASES[survey.kind]
-        self.fields["category"].choices = criteria.FINDING_CATEGORIES[survey.kind]
+        self.fields["basis"].choices = severity.BASES[survey.kind]
+        self.fields["category"].choices = severity.FINDING_CATEGORIES[survey.kind]
         self.fields["asset"].queryset = Asset.objects.filter(
             organization=survey.organization, site=survey.site
         )
@@ -196,7 +196,7 @@ class FindingEditForm(forms.Form):
             },
         )
         super().__init__(*args, **kwargs)
-        self.fields["category"].choices = criteria.FINDING_CATEGORIES[finding.survey.kind]
+        self.fields["category"].choices = severity.FINDING_CATEGORIES[finding.survey.kind]
         self.fields["asset"].queryset = Asset.objects.filter(
             organization=finding.organization, site=finding.survey.site
         )

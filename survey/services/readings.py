@@ -341,3 +341,26 @@ def condensation_overlay(thermogram: Thermogram) -> dict:
         "emissivity": thermogram.emissivity,
         "reflected_c": thermogram.reflected_c,
     }
+
+
+def thermogram_corrected_range(thermogram: Thermogram) -> tuple[float, float]:
+    """Corrected min and max of a whole thermogram from its stored apparent extremes."""
+    from django.core.exceptions import ValidationError
+
+    from survey.thermal import object_temperature
+
+    if thermogram.min_c is None or thermogram.max_c is None:
+        raise ValidationError("The thermogram has not been processed yet.")
+    values = [
+        float(
+            object_temperature(
+                t,
+                thermogram.emissivity,
+                thermogram.reflected_c,
+                thermogram.transmittance,
+                thermogram.atmosphere_c,
+            )
+        )
+        for t in (thermogram.min_c, thermogram.max_c)
+    ]
+    return values[0], values[1]

@@ -28,7 +28,7 @@ from survey.access import (
     sites_for,
     surveys_for,
 )
-from survey.criteria import conditions_check
+from survey.conditions import conditions_check
 from survey.forms import (
     SCALE_BAR_FIELDS,
     ClientForm,

@@ -8,9 +8,8 @@ import pytest
 from django.core.exceptions import ValidationError
 
 from survey.models import AuditEvent, Conditions, CriteriaTable, Finding, Survey
+from survey.services.criteria_tables import criteria_table_copy_defaults, criteria_table_update
 from survey.services.findings import (
-    criteria_table_copy_defaults,
-    criteria_table_update,
     finding_create,
     finding_set_status,
     finding_suggest,

@@ -51,7 +51,7 @@ def test_symbol_and_difference_symbol():
 
 
 def test_rounded_drops_what_is_not_a_number():
-    """NaN, infinities and None become None; numbers round half to even like round()."""
+    """NaN, infinities and None become None; numbers come back as rounded Python floats."""
     assert units.rounded(float("inf")) is None
     assert units.rounded(np.float32(1.23456), 3) == 1.235
     assert type(units.rounded(np.float64(2.0))) is float
