@@ -20,7 +20,7 @@ from survey.charts import trend_svg
 from survey.models import Thermogram
 from survey.services.arrays import thermogram_temperatures
 from survey.services.assets import asset_history, trend_points
-from survey.thermal.render import font, render_picture
+from survey.thermal.drawing import font, render_picture
 
 PRINT_DPI = 170
 THERMOGRAM_WIDTH_MM = 100

@@ -24,7 +24,7 @@ from PIL import Image
 from survey import thermal
 from survey.models import Thermogram
 from survey.services.audit import audit_record
-from survey.thermal.render import encode_png
+from survey.thermal.drawing import encode_png
 
 logger = logging.getLogger(__name__)
 

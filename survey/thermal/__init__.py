@@ -5,10 +5,12 @@ Units are in the parameter names (_c °C, _pct percent, _m metres, _mrad, _w_m2)
 """
 
 from survey.thermal.decode import ThermogramFormatError, read_temperatures
+from survey.thermal.drawing import render_picture
 from survey.thermal.electrical import RiseClassification, classify_rise, load_corrected_rise
 from survey.thermal.geometry import pixel_area_m2, pixel_footprint_m
 from survey.thermal.heat_transfer import surface_heat_flux
 from survey.thermal.marks import mark_statistics
+from survey.thermal.palettes import PALETTES, auto_span, invert_palette, render
 from survey.thermal.psychrometrics import (
     critical_temperature_factor,
     dew_point,
@@ -23,7 +25,6 @@ from survey.thermal.radiometry import (
     object_temperature,
     object_temperature_uncertainty,
 )
-from survey.thermal.render import PALETTES, auto_span, invert_palette, render
 
 __all__ = [
     "PALETTES",
@@ -45,6 +46,7 @@ __all__ = [
     "pixel_footprint_m",
     "read_temperatures",
     "render",
+    "render_picture",
     "saturation_vapor_pressure",
     "surface_heat_flux",
     "surface_rh",

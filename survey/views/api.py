@@ -243,12 +243,8 @@ def _palettes() -> dict:
 
 
 def _colours() -> dict:
-    from survey.thermal.render import (
-        CONDENSATION_COLOUR,
-        ISOTHERM_COLOUR,
-        MOULD_RISK_COLOUR,
-        NO_DATA_COLOUR,
-    )
+    from survey.thermal.drawing import CONDENSATION_COLOUR, ISOTHERM_COLOUR, MOULD_RISK_COLOUR
+    from survey.thermal.palettes import NO_DATA_COLOUR
 
     return {
         "no_data": list(NO_DATA_COLOUR),

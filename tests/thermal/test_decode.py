@@ -17,7 +17,7 @@ from survey.thermal.decode import (
     detect_format,
     read_temperatures,
 )
-from survey.thermal.render import PALETTES, render
+from survey.thermal.palettes import PALETTES, render
 
 
 def field(height=48, width=64, low=-5.0, high=85.0, seed=0):

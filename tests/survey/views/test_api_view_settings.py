@@ -14,7 +14,7 @@ from PIL import Image
 
 from survey.models import AuditEvent
 from survey.services.processing import thermogram_process
-from survey.thermal.render import render
+from survey.thermal.palettes import render
 from tests.factories import make_thermogram, synthetic_field
 
 

@@ -10,7 +10,7 @@ from PIL import Image
 
 from survey.models import Thermogram
 from survey.services.arrays import thermogram_temperatures
-from survey.thermal.render import render
+from survey.thermal.palettes import render
 from tests.factories import synthetic_field
 
 LOW_C, HIGH_C = 15.0, 45.0
