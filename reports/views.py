@@ -24,7 +24,7 @@ from reports.forms import IssueForm, ShareLinkForm
 from reports.models import ReportVersion
 from reports.results import content_digest, survey_results
 from survey.access import get_member, get_survey_for_user
-from survey.views.media import serve_file
+from survey.files import serve_file
 
 
 def _fail(request: HttpRequest, error: ValidationError) -> None:

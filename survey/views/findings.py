@@ -24,13 +24,13 @@ from survey.access import (
 from survey.cautions import cautions_for, cautions_for_kinds
 from survey.charts import trend_svg
 from survey.conditions import conditions_check
-from survey.finding_forms import (
+from survey.forms.fields import add_service_error
+from survey.forms.findings import (
     CriteriaRowsForm,
     FindingEditForm,
     FindingForm,
     FindingStatusForm,
     HeatLossForm,
-    add_service_error,
 )
 from survey.models import CriteriaTable, Finding
 from survey.services import assets as asset_services

@@ -29,40 +29,16 @@ from survey.access import (
     surveys_for,
 )
 from survey.conditions import conditions_check
-from survey.forms import (
+from survey.forms.fields import add_service_error, form_errors_text, submitted
+from survey.forms.surveys import ClientForm, DeleteForm, PreferenceForm, SiteForm, SurveyForm
+from survey.forms.thermograms import (
     SCALE_BAR_FIELDS,
-    ClientForm,
-    DeleteForm,
-    PreferenceForm,
     ReprocessForm,
-    SiteForm,
-    SurveyForm,
     ThermogramSettingsForm,
     UploadForm,
 )
 from survey.models import Survey, Thermogram
 from survey.services import ingest, members, processing, surveys
-
-
-def _data(request: HttpRequest):
-    """The submitted data of a POST (even an empty one), None for a GET."""
-    return request.POST if request.method == "POST" else None
-
-
-def _form_errors(form) -> str:
-    parts = []
-    for field, errors in form.errors.items():
-        label = form.fields[field].label if field in form.fields else ""
-        parts.append(f"{label}: {' '.join(errors)}" if label else " ".join(errors))
-    return " ".join(parts)
-
-
-def _add_service_error(form, error: ValidationError) -> None:
-    if hasattr(error, "error_dict"):
-        for field, errors in error.error_dict.items():
-            form.add_error(field if field in form.fields else None, errors)
-    else:
-        form.add_error(None, error)
 
 
 @login_required
@@ -79,7 +55,7 @@ def home(request: HttpRequest) -> HttpResponse:
 @login_required
 def preferences(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
-    form = PreferenceForm(_data(request), initial={"temperature_unit": member.temperature_unit})
+    form = PreferenceForm(submitted(request), initial={"temperature_unit": member.temperature_unit})
     if request.method == "POST" and form.is_valid():
         members.member_update_preferences(member=member, **form.cleaned_data)
         messages.success(request, "Preferences saved.")
@@ -90,7 +66,7 @@ def preferences(request: HttpRequest) -> HttpResponse:
 @login_required
 def client_list(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
-    form = ClientForm(_data(request))
+    form = ClientForm(submitted(request))
     if request.method == "POST":
         require_editor(member)
         if form.is_valid():
@@ -99,7 +75,7 @@ def client_list(request: HttpRequest) -> HttpResponse:
                     organization=member.organization, user=request.user, **form.cleaned_data
                 )
             except ValidationError as error:
-                _add_service_error(form, error)
+                add_service_error(form, error)
             else:
                 messages.success(request, f"Client {client} added.")
                 return redirect("survey:clients")
@@ -110,14 +86,14 @@ def client_list(request: HttpRequest) -> HttpResponse:
 @login_required
 def site_list(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
-    form = SiteForm(_data(request), clients=clients_for(member))
+    form = SiteForm(submitted(request), clients=clients_for(member))
     if request.method == "POST":
         require_editor(member)
         if form.is_valid():
             try:
                 site = surveys.site_create(user=request.user, **form.cleaned_data)
             except ValidationError as error:
-                _add_service_error(form, error)
+                add_service_error(form, error)
             else:
                 messages.success(request, f"Site {site} added.")
                 return redirect("survey:sites")
@@ -127,7 +103,7 @@ def site_list(request: HttpRequest) -> HttpResponse:
 
 def _survey_form(request: HttpRequest, member, **kwargs) -> SurveyForm:
     return SurveyForm(
-        _data(request),
+        submitted(request),
         unit=member.temperature_unit,
         sites=sites_for(member).select_related("client"),
         members=members_for(member),
@@ -153,7 +129,7 @@ def survey_create(request: HttpRequest) -> HttpResponse:
                 **form.survey_values(),
             )
         except ValidationError as error:
-            _add_service_error(form, error)
+            add_service_error(form, error)
         else:
             messages.success(request, "Survey created. Upload its thermograms below.")
             return redirect("survey:survey", pk=survey.pk)
@@ -176,7 +152,7 @@ def survey_edit(request: HttpRequest, pk: int) -> HttpResponse:
                 **form.survey_values(),
             )
         except ValidationError as error:
-            _add_service_error(form, error)
+            add_service_error(form, error)
         else:
             messages.success(request, "Survey saved.")
             return redirect("survey:survey", pk=survey.pk)
@@ -225,7 +201,7 @@ def survey_upload(request: HttpRequest, pk: int) -> HttpResponse:
         assets=assets_for(member).filter(site=survey.site_id),
     )
     if not form.is_valid():
-        messages.error(request, f"Nothing was uploaded. {_form_errors(form)}")
+        messages.error(request, f"Nothing was uploaded. {form_errors_text(form)}")
         return redirect("survey:survey", pk=survey.pk)
     result = ingest.thermograms_ingest_batch(
         survey=survey,
@@ -269,7 +245,7 @@ def survey_delete(request: HttpRequest, pk: int) -> HttpResponse:
     member = get_member(request)
     survey = get_survey_for_user(request, pk)
     require_reviewer(member)
-    form = DeleteForm(_data(request))
+    form = DeleteForm(submitted(request))
     if request.method == "POST" and form.is_valid():
         try:
             surveys.survey_soft_delete(survey=survey, user=request.user)
@@ -305,7 +281,7 @@ def thermogram_settings(request: HttpRequest, pk: int) -> HttpResponse:
     thermogram = get_thermogram_for_user(request, pk)
     require_editor(member)
     form = ThermogramSettingsForm(
-        _data(request),
+        submitted(request),
         unit=member.temperature_unit,
         assets=assets_for(member).filter(site=thermogram.survey.site_id),
         initial=ThermogramSettingsForm.initial_for(thermogram, member.temperature_unit),
@@ -316,7 +292,7 @@ def thermogram_settings(request: HttpRequest, pk: int) -> HttpResponse:
                 thermogram=thermogram, user=request.user, **form.cleaned_data
             )
         except ValidationError as error:
-            _add_service_error(form, error)
+            add_service_error(form, error)
         else:
             messages.success(request, f"Settings of {thermogram} saved.")
             return redirect("survey:survey", pk=thermogram.survey_id)
@@ -351,7 +327,7 @@ def thermogram_reprocess(request: HttpRequest, pk: int) -> HttpResponse:
     require_editor(member)
     form = ReprocessForm(request.POST, unit=member.temperature_unit)
     if not form.is_valid():
-        messages.error(request, f"Not re-processed. {_form_errors(form)}")
+        messages.error(request, f"Not re-processed. {form_errors_text(form)}")
         return redirect("survey:thermogram_settings", pk=thermogram.pk)
     try:
         ingest.thermogram_reprocess(

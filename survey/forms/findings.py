@@ -13,15 +13,6 @@ LEVEL_CHOICES = [("", "Use the suggested level")] + [
 ]
 
 
-def add_service_error(form: forms.Form, error: ValidationError) -> None:
-    """Show a service's ValidationError on the form: on its field when the form has one."""
-    if hasattr(error, "error_dict"):
-        for field, errors in error.message_dict.items():
-            form.add_error(field if field in form.fields else None, errors)
-    else:
-        form.add_error(None, error.messages)
-
-
 def _optional_float(label, low, high, **kwargs):
     return forms.FloatField(
         label=label,
