@@ -9,7 +9,18 @@ from django.db.models import QuerySet
 from django.http import Http404, HttpRequest
 from django.shortcuts import get_object_or_404
 
-from survey.models import Asset, Client, Finding, Mark, Member, Site, Survey, Thermogram
+from survey.models import (
+    Asset,
+    AuditEvent,
+    Client,
+    CriteriaTable,
+    Finding,
+    Mark,
+    Member,
+    Site,
+    Survey,
+    Thermogram,
+)
 
 
 def get_member(request: HttpRequest) -> Member:
@@ -116,3 +127,17 @@ def get_deleted_survey_for_user(request: HttpRequest, pk: int) -> Survey:
 def get_member_for_user(request: HttpRequest, pk: int) -> Member:
     """A member of the signed-in user's organization (admins manage them)."""
     return get_object_or_404(members_for(get_member(request)), pk=pk)
+
+
+# --- judgement and audit ---
+def criteria_tables_for(member: Member) -> QuerySet[CriteriaTable]:
+    """The organization's own (editable) severity tables; the product defaults are not."""
+    return CriteriaTable.objects.filter(organization=member.organization)
+
+
+def get_criteria_table_for_user(request: HttpRequest, pk: int) -> CriteriaTable:
+    return get_object_or_404(criteria_tables_for(get_member(request)), pk=pk)
+
+
+def audit_events_for(member: Member) -> QuerySet[AuditEvent]:
+    return AuditEvent.objects.filter(organization=member.organization)

@@ -6,13 +6,14 @@ from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.core.exceptions import ValidationError
 from django.http import HttpRequest, HttpResponse
-from django.shortcuts import get_object_or_404, redirect, render
+from django.shortcuts import redirect, render
 from django.views.decorators.http import require_POST
 
 from survey import severity
 from survey.access import (
     findings_for,
     get_asset_for_user,
+    get_criteria_table_for_user,
     get_finding_for_user,
     get_member,
     get_site_for_user,
@@ -32,7 +33,7 @@ from survey.forms.findings import (
     FindingStatusForm,
     HeatLossForm,
 )
-from survey.models import CriteriaTable, Finding
+from survey.models import Finding
 from survey.services import assets as asset_services
 from survey.services import criteria_tables as table_services
 from survey.services import findings as finding_services
@@ -267,7 +268,7 @@ def criteria_copy(request: HttpRequest) -> HttpResponse:
 def criteria_edit(request: HttpRequest, pk: int) -> HttpResponse:
     member = get_member(request)
     require_admin(member)
-    table = get_object_or_404(CriteriaTable, pk=pk, organization=member.organization)
+    table = get_criteria_table_for_user(request, pk)
     form = CriteriaRowsForm(
         request.POST or None,
         initial={
