@@ -4,6 +4,7 @@ Every public name is re-exported here so a notebook can `from survey import ther
 Units are in the parameter names (_c °C, _pct percent, _m metres, _mrad, _w_m2).
 """
 
+from survey.thermal.alignment import affine_from_pairs
 from survey.thermal.decode import ThermogramFormatError, read_temperatures
 from survey.thermal.drawing import render_picture
 from survey.thermal.electrical import RiseClassification, classify_rise, load_corrected_rise
@@ -30,6 +31,7 @@ __all__ = [
     "PALETTES",
     "RiseClassification",
     "ThermogramFormatError",
+    "affine_from_pairs",
     "apparent_temperature",
     "auto_span",
     "classify_rise",
