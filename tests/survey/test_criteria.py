@@ -11,11 +11,6 @@ from survey.charts import trend_svg
 from survey.models import Conditions, Survey
 
 
-@pytest.fixture(autouse=True)
-def _fast_passwords(settings):
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
-
-
 def _by_key(checks):
     return {check["key"]: check for check in checks}
 

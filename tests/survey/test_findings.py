@@ -23,12 +23,6 @@ from tests.survey.findings_data import block_field, equipment_survey, hot_and_re
 psychrolib.SetUnitSystem(psychrolib.SI)
 
 
-@pytest.fixture(autouse=True)
-def _fast_passwords(settings):
-    """Personas are created per test; a fast hasher keeps the module quick."""
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
-
-
 @pytest.fixture
 def full_load_survey(org, site, thermographer):
     return equipment_survey(org, site, thermographer, ambient_air_c=24.0, load_pct=100.0)

@@ -17,7 +17,7 @@ from survey.models import Conditions, Survey, Thermogram
 from survey.services import ingest as ingest_services
 from survey.services import processing, surveys
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
-from tests.survey.brokers import broker_at
+from tests.workers import broker_at
 
 # The field every test file is made from; the expected values are these numbers themselves
 # (written by the test), converted with exact unit definitions: T[°C] = T[K] − 273.15 and

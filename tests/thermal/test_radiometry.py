@@ -1,19 +1,17 @@
 """Radiometric correction against an independent Planck integration with scipy.
 
-The reference solver below integrates Planck's law over 8–14 µm with scipy.integrate.quad and
-solves the measurement equation with scipy.optimize.brentq, using scipy.constants: it shares
-no code and no table with the project.
+The reference solver (tests/thermal/planck.py) integrates Planck's law over 8–14 µm with
+scipy.integrate.quad and solves the measurement equation with scipy.optimize.brentq, using
+scipy.constants: it shares no code and no table with the project.
 """
 
 import math
-from functools import cache
 
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import constants
-from scipy.integrate import quad
 from scipy.optimize import brentq
 
 from survey.thermal.radiometry import (
@@ -24,41 +22,7 @@ from survey.thermal.radiometry import (
     object_temperature,
     object_temperature_uncertainty,
 )
-
-C1 = 2.0 * constants.h * constants.c**2
-C2 = constants.h * constants.c / constants.k
-
-
-@cache
-def reference_radiance(t_c: float, band: str) -> float:
-    """Band radiance by adaptive quadrature (lwir) or σT⁴ (total), scipy only."""
-    t_k = t_c + 273.15
-    if band == "total":
-        return constants.sigma * t_k**4
-    value, _ = quad(
-        lambda wavelength: C1 / wavelength**5 / math.expm1(C2 / (wavelength * t_k)),
-        8e-6,
-        14e-6,
-        epsabs=0.0,
-        epsrel=1e-12,
-    )
-    return value
-
-
-def reference_object_c(apparent, eps, reflected, tau=1.0, atmosphere=None, band="lwir"):
-    """Solve the measurement equation for the object temperature with brentq."""
-    atmosphere = reflected if atmosphere is None else atmosphere
-    measured = reference_radiance(apparent, band)
-    background = (1 - eps) * tau * reference_radiance(reflected, band) + (
-        1 - tau
-    ) * reference_radiance(atmosphere, band)
-    return brentq(
-        lambda t: eps * tau * reference_radiance(t, band) + background - measured,
-        -99.0,
-        999.0,
-        xtol=1e-9,
-    )
-
+from tests.thermal.planck import reference_object_c, reference_radiance
 
 CASES = [
     # apparent, emissivity, reflected, transmittance, atmosphere
