@@ -47,7 +47,7 @@ test-js:
 	node --test tests/js/
 
 fuzz: venv
-	HYPOTHESIS_PROFILE=fuzz $(PYTEST) tests/reliability/test_fuzz.py $(PYTEST_ARGS)
+	HYPOTHESIS_PROFILE=fuzz $(PYTEST) tests -m hypothesis $(PYTEST_ARGS)
 
 bench: venv
 	$(BIN)/python -m tests.bench.run

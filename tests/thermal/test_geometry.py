@@ -8,6 +8,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from survey.thermal.geometry import instantaneous_fov_mrad, pixel_area_m2, pixel_footprint_m
+from tests.hypothesis_profiles import examples
 
 
 def test_instantaneous_fov_of_a_24_degree_320_pixel_camera():
@@ -57,7 +58,7 @@ def test_geometry_invalid_input_raises_naming_the_parameter(call, parameter):
         call()
 
 
-@settings(max_examples=50, deadline=None)
+@settings(max_examples=examples(50), deadline=None)
 @given(
     distances=st.lists(st.floats(min_value=0.1, max_value=100.0), min_size=1, max_size=5),
     ifov_mrad=st.floats(min_value=0.1, max_value=10.0),

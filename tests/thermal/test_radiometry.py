@@ -22,6 +22,7 @@ from survey.thermal.radiometry import (
     object_temperature,
     object_temperature_uncertainty,
 )
+from tests.hypothesis_profiles import examples
 from tests.thermal.planck import reference_object_c, reference_radiance
 
 CASES = [
@@ -229,7 +230,7 @@ emissivities = st.floats(min_value=0.5, max_value=1.0)
 reflected_temperatures = st.floats(min_value=-40.0, max_value=60.0)
 
 
-@settings(max_examples=80, deadline=None)
+@settings(max_examples=examples(80), deadline=None)
 @given(
     object_c=temperatures,
     eps=emissivities,
@@ -245,7 +246,7 @@ def test_apparent_and_object_temperature_round_trip(object_c, eps, reflected, ta
     assert back == pytest.approx(object_c, abs=1e-3)
 
 
-@settings(max_examples=80, deadline=None)
+@settings(max_examples=examples(80), deadline=None)
 @given(
     a=st.floats(min_value=0.0, max_value=300.0),
     b=st.floats(min_value=0.0, max_value=300.0),
@@ -259,7 +260,7 @@ def test_object_temperature_rises_with_apparent_temperature(a, b, eps, reflected
     assert object_temperature(low, eps, reflected) <= object_temperature(high, eps, reflected)
 
 
-@settings(max_examples=30, deadline=None)
+@settings(max_examples=examples(30), deadline=None)
 @given(
     apparent=st.lists(st.floats(min_value=0.0, max_value=200.0), min_size=1, max_size=4),
     emissivity=st.lists(emissivities, min_size=1, max_size=3),
@@ -276,7 +277,7 @@ def test_object_temperature_broadcasts_like_numpy(apparent, emissivity):
             assert grid[i, j] == pytest.approx(object_temperature(t, e, 10.0), abs=1e-9)
 
 
-@settings(max_examples=40, deadline=None)
+@settings(max_examples=examples(40), deadline=None)
 @given(eps=st.one_of(st.floats(max_value=0.0), st.floats(min_value=1.000001)))
 def test_object_temperature_refuses_emissivity_outside_0_to_1(eps):
     """Any emissivity outside (0, 1] (or NaN) raises ValueError naming emissivity."""
