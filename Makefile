@@ -2,19 +2,19 @@
 PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
-STAMP := $(VENV)/.installed-$(shell sha256sum requirements.txt | cut -c1-12)
+STAMP := $(VENV)/.installed-$(shell cat requirements.txt requirements-dev.txt | sha256sum | cut -c1-12)
 HOST ?= 127.0.0.1
 PORT ?= 8000
 
-.PHONY: demo test bench lint format check-system venv clean
+.PHONY: demo test test-js fuzz bench lint format check-system venv clean
 
-$(STAMP): requirements.txt
+$(STAMP): requirements.txt requirements-dev.txt
 	@$(PYTHON) -c 'import sys; sys.exit(0 if sys.version_info[:2] >= (3, 11) else 1)' || \
 		{ echo "Python 3.11 or newer is needed (found: $$($(PYTHON) --version 2>&1))."; exit 1; }
 	@test -x $(BIN)/python || $(PYTHON) -m venv $(VENV) || \
 		{ echo "Could not create a virtual environment: install python3-venv."; exit 1; }
 	$(BIN)/python -m pip install --quiet --upgrade pip
-	$(BIN)/python -m pip install --quiet -r requirements.txt
+	$(BIN)/python -m pip install --quiet -r requirements-dev.txt
 	@rm -f $(VENV)/.installed-*
 	@touch $@
 
@@ -35,8 +35,19 @@ demo: venv
 	@echo ""
 	$(BIN)/python manage.py runserver $(HOST):$(PORT)
 
-test: venv
-	$(BIN)/python -m pytest -c tests/pytest.ini --rootdir=. tests survey/thermal --doctest-modules -p no:cacheprovider $(PYTEST_ARGS)
+PYTEST := $(BIN)/python -m pytest -c tests/pytest.ini --rootdir=. -p no:cacheprovider
+
+# The deterministic "ci" Hypothesis profile runs here; `make fuzz` runs the heavy one.
+test: venv test-js
+	$(PYTEST) tests survey/thermal --doctest-modules --durations=25 $(PYTEST_ARGS)
+
+# The workspace's pure JavaScript (coordinates, readouts, hit tests) with node's own runner.
+test-js:
+	@command -v node >/dev/null || { echo "node is needed for the JavaScript tests"; exit 1; }
+	node --test tests/js/
+
+fuzz: venv
+	HYPOTHESIS_PROFILE=fuzz $(PYTEST) tests -m hypothesis $(PYTEST_ARGS)
 
 bench: venv
 	$(BIN)/python -m tests.bench.run

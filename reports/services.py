@@ -1,4 +1,4 @@
-"""Report life cycle: create, draft, render, issue, share, download, export.
+"""Report life cycle: create, draft, issue, share, download, export.
 
 An issued version is frozen: its PDF is rendered once, stored with its sha256 and never
 rendered or written again. A correction is a new version with its own number and a note.
@@ -6,24 +6,18 @@ rendered or written again. A correction is a new version with its own number and
 
 import csv
 import datetime
-import hashlib
 import io
-import logging
 import secrets
 
-from django.conf import settings
 from django.contrib.auth.models import AbstractBaseUser
 from django.core.exceptions import PermissionDenied, ValidationError
-from django.core.files.base import ContentFile
 from django.db import IntegrityError, transaction
-from django.db.models import Max, Q
+from django.db.models import Max
 from django.utils import timezone
 
 from reports.models import DownloadLog, Report, ReportVersion, ShareLink
-from survey.models import Finding, Member, Survey
+from survey.models import Member, Survey
 from survey.services.audit import audit_record
-
-logger = logging.getLogger(__name__)
 
 SHARE_DAYS_MIN, SHARE_DAYS_MAX = 1, 365
 
@@ -146,97 +140,6 @@ def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "
     return version
 
 
-def _progress(version_id: int):
-    last = {"pct": -1}
-
-    def tell(stage: str, pct: int) -> None:
-        if pct - last["pct"] < 3 and pct < 100:
-            return
-        last["pct"] = pct
-        ReportVersion.objects.filter(pk=version_id, status=ReportVersion.Status.RENDERING).update(
-            stage=stage[:100], progress_pct=min(pct, 100), heartbeat_at=timezone.now()
-        )
-
-    return tell
-
-
-def render_stalled_after() -> datetime.timedelta:
-    """A render silent this long has lost its worker (REPORT_STALLED_AFTER_SECONDS)."""
-    return datetime.timedelta(seconds=settings.REPORT_STALLED_AFTER_SECONDS)
-
-
-def report_render_is_held(version_id: int) -> bool:
-    """True while another delivery of this render may still be running."""
-    return ReportVersion.objects.filter(
-        pk=version_id, status=ReportVersion.Status.RENDERING, sha256=""
-    ).exists()
-
-
-def report_render(version_id: int) -> bool:
-    """Render a queued version; returns False when there was nothing to do.
-
-    Claimed with a conditional update, so a repeated or duplicated task is harmless. An
-    issued version never matches the claim again, so its file is never rewritten.
-    """
-    from reports.pdf import render_pdf
-
-    stale = timezone.now() - render_stalled_after()
-    claimed = ReportVersion.objects.filter(
-        Q(status=ReportVersion.Status.QUEUED)
-        | Q(status=ReportVersion.Status.RENDERING, heartbeat_at__lt=stale),
-        pk=version_id,
-        sha256="",
-    ).update(
-        status=ReportVersion.Status.RENDERING,
-        stage="Starting",
-        progress_pct=1,
-        heartbeat_at=timezone.now(),
-    )
-    if not claimed:
-        return False
-    version = ReportVersion.objects.select_related("report__survey", "issued_by").get(pk=version_id)
-    try:
-        rendered = render_pdf(version, progress=_progress(version_id))
-    except Exception as exc:  # noqa: BLE001 - any failure is recorded for the user to see
-        logger.exception("Report version %s failed to render", version_id)
-        ReportVersion.objects.filter(pk=version_id).update(
-            status=ReportVersion.Status.FAILED,
-            stage="Failed",
-            error=f"The PDF could not be made: {exc}"[:2000],
-            finished_at=timezone.now(),
-        )
-        return False
-    return _store_pdf(version, rendered)
-
-
-def _store_pdf(version: ReportVersion, rendered) -> bool:
-    report = version.report
-    kind = "draft" if version.is_draft else "v"
-    name = f"{report.number}-{kind}{version.version}-{secrets.token_hex(4)}.pdf"
-    stored = version.pdf.storage.save(
-        version.pdf.field.generate_filename(version, name), ContentFile(rendered.pdf)
-    )
-    now = timezone.now()
-    final = not version.is_draft
-    written = ReportVersion.objects.filter(
-        pk=version.pk, status=ReportVersion.Status.RENDERING, sha256=""
-    ).update(
-        pdf=stored,
-        sha256=hashlib.sha256(rendered.pdf).hexdigest(),
-        content_sha256=rendered.content_sha256,
-        page_count=rendered.page_count,
-        status=ReportVersion.Status.ISSUED if final else ReportVersion.Status.READY,
-        stage="Done",
-        progress_pct=100,
-        finished_at=now,
-        issued_at=now if final else None,
-    )
-    if not written:
-        version.pdf.storage.delete(stored)
-        return False
-    return True
-
-
 def report_retry(*, version: ReportVersion, user: AbstractBaseUser) -> ReportVersion:
     """Queue a failed draft again (a failed final version is retried by issuing again)."""
     _member_of(user, version.report.organization)
@@ -248,6 +151,28 @@ def report_retry(*, version: ReportVersion, user: AbstractBaseUser) -> ReportVer
         )
         _enqueue_render(version)
     return version
+
+
+# --- what the reports app keeps of a survey (registered in ReportsConfig.ready) -----------
+
+
+def survey_report_hold(survey: Survey) -> str | None:
+    """Why a survey must stay: an issued report the client holds, or None."""
+    issued = ReportVersion.objects.filter(report__survey=survey, status=ReportVersion.Status.ISSUED)
+    if issued.exists():
+        return (
+            "This survey has an issued report: the client holds a copy that must stay "
+            "traceable to its data."
+        )
+    return None
+
+
+def survey_reports_release(survey: Survey) -> list[str]:
+    """Delete the reports of a survey being purged; the PDF paths to remove afterwards."""
+    versions = ReportVersion.objects.filter(report__survey=survey)
+    paths = [path for path in versions.values_list("pdf", flat=True) if path]
+    survey.reports.all().delete()
+    return paths
 
 
 # --- sharing and downloads -----------------------------------------------------------------
@@ -403,97 +328,3 @@ def findings_csv(survey: Survey) -> str:
             ]
         )
     return buffer.getvalue()
-
-
-def _finding_dict(finding: Finding) -> dict:
-    return {
-        "id": finding.pk,
-        "thermogram_id": finding.thermogram_id,
-        "asset": finding.asset.name if finding.asset else None,
-        "asset_tag": finding.asset.tag if finding.asset else None,
-        "marks": sorted(mark.label for mark in finding.marks.all()),
-        "category": finding.category,
-        "location": finding.location,
-        "description": finding.description,
-        "basis": finding.basis,
-        "level": finding.level,
-        "level_name": finding.get_level_display() if finding.level else None,
-        "suggested_level": finding.suggested_level,
-        "override_reason": finding.override_reason,
-        "criteria_table": finding.criteria_table.name if finding.criteria_table else None,
-        "criteria_row": finding.criteria_row,
-        "rise_c": finding.rise_c,
-        "corrected_rise_c": finding.corrected_rise_c,
-        "max_corrected_c": finding.max_corrected_c,
-        "recommendation": finding.recommendation,
-        "status": finding.status,
-    }
-
-
-def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = None) -> dict:
-    """The survey's results as plain data: marks with corrected values, findings, conditions.
-
-    The same dictionary is what a report's content digest is computed from.
-    """
-    from reports.pdf import conditions_check_rows, json_safe, readings_by_thermogram
-
-    thermograms = survey.thermograms.filter(status="ready").select_related("asset")
-    if readings is None:
-        thermograms = list(thermograms.prefetch_related("marks"))
-        readings = readings_by_thermogram(survey, thermograms)
-    conditions = getattr(survey, "conditions", None)
-    conditions_data = {}
-    if conditions is not None:
-        for model_field in conditions._meta.concrete_fields:
-            if model_field.name != "survey":
-                conditions_data[model_field.name] = getattr(conditions, model_field.name)
-    results = json_safe(
-        {
-            "format": "heatmark-survey-results",
-            "format_version": 1,
-            "temperature_unit": "°C",
-            "survey": {
-                "id": survey.pk,
-                "kind": survey.kind,
-                "title": str(survey),
-                "date": survey.date.isoformat(),
-                "client": survey.site.client.name,
-                "site": survey.site.name,
-                "instrument": survey.instrument,
-                "thermographer": str(survey.thermographer) if survey.thermographer else None,
-                "reviewer": str(survey.reviewer) if survey.reviewer else None,
-            },
-            "conditions": conditions_data,
-            "conditions_check": conditions_check_rows(survey),
-            "thermograms": [
-                {
-                    "id": t.pk,
-                    "sequence": t.sequence,
-                    "title": t.title,
-                    "original_name": t.original_name,
-                    "original_sha256": t.original_sha256,
-                    "estimated": t.estimated,
-                    "asset": t.asset.name if t.asset else None,
-                    "emissivity": t.emissivity,
-                    "reflected_c": t.reflected_c,
-                    "transmittance": t.transmittance,
-                    "distance_m": t.distance_m,
-                }
-                for t in thermograms
-            ],
-            "findings": [
-                _finding_dict(f)
-                for f in survey.findings.select_related("asset", "criteria_table")
-                .prefetch_related("marks")
-                .order_by("id")
-            ],
-            "heat_loss": [
-                {"label": e.label, "inputs": e.inputs, "results": e.results}
-                for e in survey.heat_loss_estimates.all()
-            ],
-        }
-    )
-    # The readings are JSON-safe already (readings_by_thermogram): not walked a second time.
-    for thermogram in results["thermograms"]:
-        thermogram["marks"] = readings.get(thermogram["id"], [])
-    return results

@@ -23,7 +23,7 @@ def render_report(self, version_id: int) -> bool:
     still says `rendering`; that delivery waits until the claim is stale instead of being
     dropped, so the version cannot stay `rendering` for ever.
     """
-    from reports.services import render_stalled_after, report_render, report_render_is_held
+    from reports.rendering import render_stalled_after, report_render, report_render_is_held
 
     rendered = report_render(version_id)
     if not rendered and report_render_is_held(version_id):

@@ -15,17 +15,16 @@ from django.utils.http import content_disposition_header
 from django.views.decorators.http import require_GET, require_POST
 
 from reports import services
-from reports.forms import IssueForm, ShareLinkForm
-from reports.models import ReportVersion
-from reports.pdf import content_digest
-from survey.access import (
-    get_member,
+from reports.access import (
     get_report_for_user,
     get_report_version_for_user,
     get_share_link_for_user,
-    get_survey_for_user,
 )
-from survey.views.media import serve_file
+from reports.forms import IssueForm, ShareLinkForm
+from reports.models import ReportVersion
+from reports.results import content_digest, survey_results
+from survey.access import get_member, get_survey_for_user
+from survey.files import serve_file
 
 
 def _fail(request: HttpRequest, error: ValidationError) -> None:
@@ -223,7 +222,7 @@ def findings_csv(request: HttpRequest, survey_id: int) -> HttpResponse:
 @require_GET
 def results_json(request: HttpRequest, survey_id: int) -> HttpResponse:
     survey = get_survey_for_user(request, survey_id)
-    results = services.survey_results(survey)
+    results = survey_results(survey)
     # The digest of everything else, as printed in reports made from the same data.
     results["content_sha256"] = content_digest(results)
     response = JsonResponse(results, json_dumps_params={"ensure_ascii": False, "indent": 1})

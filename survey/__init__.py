@@ -1,3 +1,5 @@
-from survey.celery import app as celery_app
+"""The project package and the survey domain.
 
-__all__ = ["celery_app"]
+Importing it loads nothing: the Celery app is loaded by SurveyConfig.ready() once Django
+starts, so `import survey.thermal` stays free of Django and Celery.
+"""

@@ -9,7 +9,18 @@ from django.db.models import QuerySet
 from django.http import Http404, HttpRequest
 from django.shortcuts import get_object_or_404
 
-from survey.models import Asset, Client, Finding, Mark, Member, Site, Survey, Thermogram
+from survey.models import (
+    Asset,
+    AuditEvent,
+    Client,
+    CriteriaTable,
+    Finding,
+    Mark,
+    Member,
+    Site,
+    Survey,
+    Thermogram,
+)
 
 
 def get_member(request: HttpRequest) -> Member:
@@ -100,47 +111,6 @@ def get_finding_for_user(request: HttpRequest, pk: int) -> Finding:
     return get_object_or_404(findings_for(get_member(request)).select_related("survey"), pk=pk)
 
 
-# --- reports (reports helper) ---
-def reports_for(member: Member) -> QuerySet:
-    from reports.models import Report
-
-    return Report.objects.filter(
-        organization=member.organization, survey__status=Survey.Status.ACTIVE
-    )
-
-
-def get_report_for_user(request: HttpRequest, pk: int):
-    return get_object_or_404(
-        reports_for(get_member(request)).select_related("survey__site__client"), pk=pk
-    )
-
-
-def get_report_version_for_user(request: HttpRequest, pk: int):
-    from reports.models import ReportVersion
-
-    member = get_member(request)
-    return get_object_or_404(
-        ReportVersion.objects.select_related("report__survey__site__client").filter(
-            report__organization=member.organization,
-            report__survey__status=Survey.Status.ACTIVE,
-        ),
-        pk=pk,
-    )
-
-
-def get_share_link_for_user(request: HttpRequest, pk: int):
-    from reports.models import ShareLink
-
-    member = get_member(request)
-    return get_object_or_404(
-        ShareLink.objects.select_related("version__report").filter(
-            version__report__organization=member.organization,
-            version__report__survey__status=Survey.Status.ACTIVE,
-        ),
-        pk=pk,
-    )
-
-
 # --- pages (web-core helper) ---
 def members_for(member: Member) -> QuerySet[Member]:
     return Member.objects.filter(organization=member.organization).select_related("user")
@@ -157,3 +127,17 @@ def get_deleted_survey_for_user(request: HttpRequest, pk: int) -> Survey:
 def get_member_for_user(request: HttpRequest, pk: int) -> Member:
     """A member of the signed-in user's organization (admins manage them)."""
     return get_object_or_404(members_for(get_member(request)), pk=pk)
+
+
+# --- judgement and audit ---
+def criteria_tables_for(member: Member) -> QuerySet[CriteriaTable]:
+    """The organization's own (editable) severity tables; the product defaults are not."""
+    return CriteriaTable.objects.filter(organization=member.organization)
+
+
+def get_criteria_table_for_user(request: HttpRequest, pk: int) -> CriteriaTable:
+    return get_object_or_404(criteria_tables_for(get_member(request)), pk=pk)
+
+
+def audit_events_for(member: Member) -> QuerySet[AuditEvent]:
+    return AuditEvent.objects.filter(organization=member.organization)

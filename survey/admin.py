@@ -10,7 +10,7 @@ class CriteriaTableAdminForm(forms.ModelForm):
         fields = ["organization", "key", "name", "source", "rows", "copied_from"]
 
     def clean(self):
-        from survey.services.findings import validate_table_rows
+        from survey.services.criteria_tables import validate_table_rows
 
         data = super().clean()
         if "rows" in data and data.get("key"):

@@ -5,3 +5,8 @@ class SurveyConfig(AppConfig):
     default_auto_field = "django.db.models.BigAutoField"
     name = "survey"
     verbose_name = "Thermal surveys"
+
+    def ready(self) -> None:
+        # The Celery app is loaded where Django starts (web, worker, commands, tests), so
+        # shared tasks bind to it and `import survey.thermal` stays free of both.
+        import survey.celery  # noqa: F401

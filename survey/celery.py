@@ -1,3 +1,6 @@
+"""The Celery app. Workers start with `celery -A survey.celery worker`; web processes and
+management commands load it through SurveyConfig.ready()."""
+
 import os
 
 from celery import Celery

@@ -10,21 +10,13 @@ import datetime
 import math
 from html import escape
 
+from survey.thermal.drawing import nice_step, nice_ticks
+
 INK = "#1d2430"
 MUTED = "#5b6472"
 GRID = "#d5dae1"
 LINE = "#0b5c8a"
 THRESHOLD = "#a1162b"
-
-
-def _nice_step(span: float, target_ticks: int = 5) -> float:
-    """A 1-2-5 step giving about `target_ticks` ticks over `span`."""
-    raw = span / max(target_ticks, 1)
-    magnitude = 10 ** math.floor(math.log10(raw))
-    for factor in (1, 2, 5, 10):
-        if raw <= factor * magnitude:
-            return factor * magnitude
-    return 10 * magnitude
 
 
 def _x_positions(xs: list, left: float, right: float) -> list[float]:
@@ -97,17 +89,14 @@ def trend_svg(
     low, high = min(scale_values + [0.0]), max(scale_values)
     if high - low < 1e-9:
         high = low + 1.0
-    step = _nice_step(high - low)
+    step = nice_step(low, high)
     low = math.floor(low / step) * step
     high = math.ceil(high / step) * step
 
     def y_of(value: float) -> float:
         return bottom - (value - low) / (high - low) * (bottom - top)
 
-    tick = low
-    for _ in range(50):  # bounded: a 1-2-5 step gives at most about 10 ticks
-        if tick > high + step / 2:
-            break
+    for tick in nice_ticks(low, high, step=step):
         y = y_of(tick)
         parts.append(
             f'<line x1="{left}" y1="{y:.1f}" x2="{right}" y2="{y:.1f}" stroke="{GRID}" '
@@ -116,7 +105,6 @@ def trend_svg(
         parts.append(
             f'<text x="{left - 6}" y="{y + 4:.1f}" text-anchor="end" fill="{MUTED}">{tick:g}</text>'
         )
-        tick += step
     parts.append(
         f'<text x="12" y="{(top + bottom) / 2:.1f}" fill="{MUTED}" text-anchor="middle" '
         f'transform="rotate(-90 12 {(top + bottom) / 2:.1f})">{escape(unit)}</text>'

@@ -15,7 +15,7 @@ def process_thermogram(self, thermogram_id: int) -> str | None:
     delivery would lose the job.
     """
     from survey.models import Thermogram
-    from survey.services.surveys import STALLED_AFTER, thermogram_process
+    from survey.services.processing import STALLED_AFTER, thermogram_process
 
     status = thermogram_process(thermogram_id)
     held = Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING)

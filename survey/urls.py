@@ -4,8 +4,8 @@ from django.contrib import admin
 from django.contrib.auth import views as auth_views
 from django.urls import include, path
 
-from survey.throttle import ThrottledLoginView
 from survey.views import api, audit, findings, media, members, pages
+from survey.views.signin import ThrottledLoginView
 
 # --- pages: home, clients, sites, surveys, upload (survey/views/pages.py) ---
 page_patterns = [

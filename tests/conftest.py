@@ -14,6 +14,7 @@ import pytest
 from django.contrib.auth import get_user_model
 
 from survey.models import Client, Member, Organization, Site, Survey
+from tests import hypothesis_profiles  # noqa: F401  (loads the Hypothesis profile)
 
 PASSWORD = "correct-horse-battery-staple"
 
@@ -40,6 +41,21 @@ def require_service(name: str, url: str | None, default_port: int) -> None:
         if os.environ.get("REQUIRE_SERVICES") == "1":
             pytest.fail(f"{reason}, and REQUIRE_SERVICES=1")
         pytest.skip(reason)
+
+
+DB_FIXTURES = {"db", "transactional_db", "django_db_setup"}
+
+
+def pytest_collection_modifyitems(config, items):
+    """Mark every test that touches the database or the task runner as `db_backend`.
+
+    CI runs the whole suite on PostgreSQL + Redis, then only `-m db_backend` again on the
+    embedded default (SQLite, tasks in-process): the rest does not depend on the backend.
+    """
+    for item in items:
+        fixtures = set(getattr(item, "fixturenames", ()))
+        if fixtures & DB_FIXTURES or item.get_closest_marker("django_db"):
+            item.add_marker(pytest.mark.db_backend)
 
 
 @pytest.fixture

@@ -7,12 +7,14 @@ thermogram (its array rewritten by rename) is never served stale.
 import os
 import threading
 from collections import OrderedDict
+from dataclasses import dataclass
 
 import numpy as np
 
 from survey.models import Thermogram
 
 CACHE_ENTRIES = 8
+ENCODINGS = ("float32", "float16")
 
 _cache: OrderedDict[tuple[str, int, int], np.ndarray] = OrderedDict()
 _lock = threading.Lock()
@@ -56,3 +58,38 @@ def thermogram_temperatures(thermogram: Thermogram) -> np.ndarray:
 def clear_cache() -> None:
     with _lock:
         _cache.clear()
+
+
+@dataclass(frozen=True)
+class EncodedTemperatures:
+    """A thermogram's °C array as little-endian bytes: value = stored × scale + offset."""
+
+    data: bytes
+    width: int
+    height: int
+    dtype: str
+    scale: float
+    offset: float
+
+
+def thermogram_temperatures_encoded(thermogram: Thermogram, dtype: str) -> EncodedTemperatures:
+    """The °C array row by row as float32, or as float16 around the middle of its range
+    (half the bytes; the offset keeps the precision where the values are)."""
+    if dtype not in ENCODINGS:
+        raise ValueError(f"dtype must be one of {', '.join(ENCODINGS)}.")
+    array = thermogram_temperatures(thermogram)
+    scale, offset = 1.0, 0.0
+    if dtype == "float16":
+        finite = array[np.isfinite(array)]
+        offset = float((finite.min() + finite.max()) / 2) if finite.size else 0.0
+        data = (array - offset).astype("<f2")
+    else:
+        data = array.astype("<f4")
+    return EncodedTemperatures(
+        data=data.tobytes(),
+        width=int(array.shape[1]),
+        height=int(array.shape[0]),
+        dtype=dtype,
+        scale=scale,
+        offset=offset,
+    )

@@ -26,7 +26,7 @@ import math
 from django.contrib.auth.models import AbstractBaseUser
 from django.core.exceptions import ValidationError
 
-from survey import criteria
+from survey import severity
 from survey.models import Asset, Conditions, Finding, Survey
 from survey.services.findings import finding_set_status
 
@@ -51,8 +51,7 @@ def _max(values):
 
 
 def _thermogram_key(thermogram) -> dict:
-    from survey.services.findings import _thermogram_corrected
-    from survey.services.readings import thermogram_readings
+    from survey.services.readings import thermogram_corrected_range, thermogram_readings
 
     readings = []
     if thermogram.is_ready:
@@ -63,7 +62,7 @@ def _thermogram_key(thermogram) -> dict:
     max_c = _max([r["corrected"]["max"] for r in readings])
     if max_c is None and thermogram.is_ready and not readings:
         try:
-            max_c = _thermogram_corrected(thermogram)[1]
+            max_c = thermogram_corrected_range(thermogram)[1]
         except (ValidationError, ValueError):
             max_c = None
     rises: dict[str, list[float]] = {"similar": [], "ambient": []}
@@ -149,7 +148,7 @@ def trend_points(visits: list[dict], basis: str | None = None) -> list[tuple]:
 def _threshold(finding: Finding) -> float | None:
     rows = finding.criteria_table.rows if finding.criteria_table else []
     try:
-        return criteria.no_finding_below(rows)
+        return severity.no_finding_below(rows)
     except (TypeError, KeyError):
         return None
 

@@ -14,7 +14,8 @@ from django.core.exceptions import ValidationError
 from django.db import transaction
 from django.utils import timezone
 
-from survey import criteria
+from survey import judgement, severity
+from survey.judgement import JudgementError
 from survey.models import (
     Asset,
     Conditions,
@@ -22,144 +23,27 @@ from survey.models import (
     Finding,
     HeatLossEstimate,
     Mark,
-    Organization,
     Survey,
     Thermogram,
 )
 from survey.services.audit import audit_record
+from survey.services.criteria_tables import criteria_table_for
+from survey.services.readings import mark_readings, thermogram_corrected_range
+from survey.thermal import pixel_area_m2, surface_heat_flux
+from survey.thermal.units import rounded
 
-# Below this load a load-corrected rise extrapolates too far to be trusted (common practice;
-# NFPA 70B asks for at least 40 % of normal load); the physics holds the number.
-LOW_LOAD_PCT = 40.0  # survey.thermal.electrical.MIN_RELIABLE_LOAD_PCT
 RISE_BASES = {"similar", "ambient"}
 AREA_KINDS = {Mark.Kind.RECTANGLE, Mark.Kind.ELLIPSE, Mark.Kind.POLYGON}
-
-
-# --- criteria tables ---
-
-
-def default_tables() -> dict[str, dict]:
-    """Every default severity table as data, by key: electrical ones from the physics."""
-    from survey.thermal import electrical
-
-    tables = {table["key"]: table for table in electrical.default_criteria().values()}
-    for table in (criteria.ENVELOPE_TABLE, criteria.ROOF_TABLE):
-        tables[table["key"]] = {k: v for k, v in table.items()}
-    return tables
-
-
-def validate_table_rows(*, key: str, rows) -> list:
-    """Check the rows of the table `key`; ValidationError with a readable message.
-
-    Rise tables use the shape of survey.thermal.electrical.DEFAULT_CRITERIA; the building
-    tables the bands of survey.criteria.
-    """
-    try:
-        if key in criteria.RISE_TABLE_KEYS:
-            return criteria.validate_rise_rows(rows, criteria.RISE_TABLE_KEYS[key])
-        return criteria.validate_rows(rows)
-    except ValueError as error:
-        raise ValidationError({"rows": str(error)}) from None
-
-
-def _default_table_row(key: str) -> CriteriaTable:
-    data = default_tables()[key]
-    table, _ = CriteriaTable.objects.get_or_create(
-        organization=None,
-        key=key,
-        defaults={"name": data["name"], "source": data["source"], "rows": data["rows"]},
-    )
-    return table
-
-
-def criteria_table_for(*, organization: Organization, basis: str) -> CriteriaTable:
-    """The table that judges `basis` for an organization: its own copy, else the default."""
-    key = criteria.TABLE_KEY_FOR_BASIS[basis]
-    own = CriteriaTable.objects.filter(organization=organization, key=key).first()
-    return own or _default_table_row(key)
-
-
-@transaction.atomic
-def criteria_table_copy_defaults(*, organization: Organization, user=None) -> list[CriteriaTable]:
-    """Give an organization its own editable copy of every default table (idempotent)."""
-    copies = []
-    for key in default_tables():
-        existing = CriteriaTable.objects.filter(organization=organization, key=key).first()
-        if existing:
-            copies.append(existing)
-            continue
-        default = _default_table_row(key)
-        table = CriteriaTable(
-            organization=organization,
-            key=key,
-            name=default.name,
-            source=default.source,
-            rows=[dict(row) for row in default.rows],
-            copied_from=default,
-        )
-        table.full_clean()
-        table.save()
-        copies.append(table)
-    audit_record(
-        organization=organization,
-        actor=user,
-        action="criteria_copied",
-        object_type="CriteriaTable",
-        detail={"keys": [t.key for t in copies]},
-    )
-    return copies
-
-
-def criteria_table_update(*, table: CriteriaTable, user, rows, source: str | None = None):
-    """Replace an organization's table rows after checking their shape."""
-    if table.organization_id is None:
-        raise ValidationError("The product's default tables cannot be edited; copy them first.")
-    table.rows = validate_table_rows(key=table.key, rows=rows)
-    if source is not None:
-        table.source = source
-    table.full_clean()
-    table.save()
-    audit_record(
-        organization=table.organization,
-        actor=user,
-        action="criteria_updated",
-        obj=table,
-        detail={"rows": table.rows},
-    )
-    return table
 
 
 # --- readings ---
 
 
 def _readings(mark: Mark) -> dict:
-    from survey.services.readings import mark_readings
-
     try:
         return mark_readings(mark)
     except (ValueError, RuntimeError) as error:
         raise ValidationError(f"Mark {mark.label} cannot be read: {error}") from None
-
-
-def _thermogram_corrected(thermogram: Thermogram) -> tuple[float, float]:
-    """Corrected min and max of a whole thermogram from its stored apparent extremes."""
-    from survey.thermal import object_temperature
-
-    if thermogram.min_c is None or thermogram.max_c is None:
-        raise ValidationError("The thermogram has not been processed yet.")
-    values = [
-        float(
-            object_temperature(
-                t,
-                thermogram.emissivity,
-                thermogram.reflected_c,
-                thermogram.transmittance,
-                thermogram.atmosphere_c,
-            )
-        )
-        for t in (thermogram.min_c, thermogram.max_c)
-    ]
-    return values[0], values[1]
 
 
 def _conditions(survey: Survey) -> Conditions | None:
@@ -167,13 +51,6 @@ def _conditions(survey: Survey) -> Conditions | None:
         return survey.conditions
     except Conditions.DoesNotExist:
         return None
-
-
-def _round(value, digits: int = 2):
-    if value is None:
-        return None
-    value = float(value)
-    return round(value, digits) if math.isfinite(value) else None
 
 
 # --- suggestion ---
@@ -208,7 +85,7 @@ def finding_suggest(
         raise ValidationError("The thermogram must belong to this survey.")
     if not marks and thermogram is None:
         raise ValidationError("Pick one or more marks, or a whole thermogram.")
-    allowed = {b for b, _ in criteria.BASES.get(survey.kind, [])}
+    allowed = {b for b, _ in severity.BASES.get(survey.kind, [])}
     if basis not in allowed:
         raise ValidationError(f"Choose how to judge a {survey.get_kind_display().lower()} finding.")
     table = criteria_table_for(organization=survey.organization, basis=basis)
@@ -232,10 +109,14 @@ def finding_suggest(
     return result
 
 
-def _suggest_rise(survey, basis, marks, thermogram, reference, exponent, table) -> dict:
-    from survey.thermal import classify_rise, load_corrected_rise
+def _judged(rule, **numbers) -> dict:
+    try:
+        return rule(**numbers)
+    except JudgementError as error:
+        raise ValidationError(str(error)) from None
 
-    reasons, flags = [], []
+
+def _suggest_rise(survey, basis, marks, thermogram, reference, exponent, table) -> dict:
     subject = marks[0] if marks else None
     if subject is not None:
         subject_readings = _readings(subject)
@@ -246,7 +127,7 @@ def _suggest_rise(survey, basis, marks, thermogram, reference, exponent, table) 
         warnings = [subject_readings.get("emissivity_warning")]
         where = f"mark {subject.label}"
     else:
-        hot_c = _thermogram_corrected(thermogram)[1]
+        hot_c = thermogram_corrected_range(thermogram)[1]
         uncertainty = None
         warnings = []
         where = "the thermogram"
@@ -273,87 +154,23 @@ def _suggest_rise(survey, basis, marks, thermogram, reference, exponent, table) 
                 "judging a rise over ambient."
             )
         against = "the ambient air"
-    if hot_c is None or ref_c is None or not math.isfinite(hot_c) or not math.isfinite(ref_c):
-        raise ValidationError("The marked places hold no valid temperatures.")
-    rise = hot_c - ref_c
-    reasons.append(
-        f"Hottest corrected temperature of {where}: {hot_c:.1f} °C; "
-        f"{against}: {ref_c:.1f} °C; rise {rise:.1f} K."
-    )
     conditions = _conditions(survey)
-    load = conditions.load_pct if conditions else None
-    corrected = rise
-    if load is None:
-        flags.append("load_not_recorded")
-        reasons.append("The load was not recorded, so the rise is not load-corrected.")
-    elif load <= 0:
-        flags.append("low_load")
-        reasons.append("The load was recorded as 0 %: the rise cannot be corrected to full load.")
-    elif rise > 0:
-        corrected = float(load_corrected_rise(rise, load, exponent=exponent))
-        reasons.append(
-            f"At {load:.0f} % load, the rise expected at full load is {corrected:.1f} K "
-            f"(rise × (100 / load)^{exponent:g})."
-        )
-    if load is not None and 0 < load < LOW_LOAD_PCT:
-        flags.append("low_load")
-        reasons.append(
-            f"Low load: {load:.0f} % is below {LOW_LOAD_PCT:.0f} % of rating. The "
-            "correction extrapolates far; re-survey at higher load when possible."
-        )
-    if "not_quantitative" in warnings:
-        flags.append("not_quantitative")
-        reasons.append(
-            "The emissivity is too low for a quantitative rise: judge this place by its "
-            "pattern, or cover it with a high-emissivity target and re-measure."
-        )
-        level, row, action = None, None, ""
-    else:
-        if "uncertain" in warnings:
-            flags.append("emissivity_uncertain")
-            reasons.append("Low emissivity: the corrected temperatures are uncertain.")
-        classification = classify_rise(
-            corrected, basis, table={"name": table.name, "rows": table.rows}
-        )
-        level, row, action = classification.level, classification.row, classification.action
-    values = {
-        "hot_c": _round(hot_c),
-        "reference_c": _round(ref_c),
-        "rise_c": _round(rise),
-        "corrected_rise_c": _round(corrected),
-        "load_pct": load,
-        "load_exponent": exponent,
-        "max_corrected_c": _round(hot_c),
-        "uncertainty_c": _round(uncertainty),
-    }
-    result = _with_level(level, row, action, "K", reasons)
-    if uncertainty:
-        reasons.append(
-            f"Each corrected temperature is uncertain by about ±{uncertainty:.1f} K (camera "
-            "accuracy, emissivity, reflected temperature); a difference within one image is "
-            "usually better than that."
-        )
-    result.update({"values": values, "flags": flags})
-    return result
-
-
-def _with_level(level, row, action, unit, reasons) -> dict:
-    if level is None:
-        reasons.append("No severity band of the table applies: no level is suggested.")
-        return {"level": None, "action": "", "row": "", "reasons": reasons}
-    row_text = criteria.row_text(row, unit) if isinstance(row, dict) else str(row or "")
-    reasons.append(f"Table row {row_text} → level {level}. {action}".strip())
-    return {"level": level, "action": action, "row": row_text, "reasons": reasons}
+    return _judged(
+        judgement.judge_rise,
+        hot_c=hot_c,
+        reference_c=ref_c,
+        where=where,
+        against=against,
+        load_pct=conditions.load_pct if conditions else None,
+        exponent=exponent,
+        warnings=warnings,
+        uncertainty_c=uncertainty,
+        rows=table.rows,
+        basis=basis,
+    )
 
 
 def _suggest_envelope(survey, marks, thermogram, design, table) -> dict:
-    from survey.thermal import (
-        critical_temperature_factor,
-        dew_point,
-        surface_rh,
-        temperature_factor,
-    )
-
     conditions = _conditions(survey)
     t_in = conditions.indoor_air_c if conditions else None
     rh_in = conditions.indoor_rh_pct if conditions else None
@@ -366,113 +183,21 @@ def _suggest_envelope(survey, marks, thermogram, design, table) -> dict:
         surface_c = _readings(marks[0])["corrected"]["min"]
         where = f"mark {marks[0].label}"
     else:
-        surface_c = _thermogram_corrected(thermogram)[0]
+        surface_c = thermogram_corrected_range(thermogram)[0]
         where = "the thermogram"
-    if surface_c is None or not math.isfinite(surface_c):
-        raise ValidationError("The marked place holds no valid temperatures.")
-    reasons, flags = [], []
-    rh_s = float(surface_rh(t_in, rh_in, surface_c))
-    dew_c = float(dew_point(t_in, rh_in)) if rh_in > 0 else None
-    reasons.append(
-        f"Coldest corrected temperature of {where}: {surface_c:.1f} °C. Indoor air "
-        f"{t_in:.1f} °C at {rh_in:.0f} % gives {rh_s:.0f} % RH at that surface"
-        + (f" (dew point {dew_c:.1f} °C)." if dew_c is not None else ".")
+    return _judged(
+        judgement.judge_envelope,
+        surface_c=surface_c,
+        where=where,
+        indoor_c=t_in,
+        indoor_rh_pct=rh_in,
+        outdoor_c=t_out,
+        design=design,
+        rows=table.rows,
     )
-    if rh_s >= 100:
-        flags.append("condensation")
-        reasons.append("Condensation expected: surface RH at or above 100 %.")
-    elif rh_s >= 80:
-        flags.append("mould")
-        reasons.append("Mould risk: surface RH at or above 80 % (ISO 13788).")
-    values = {
-        "surface_c": _round(surface_c),
-        "surface_rh_pct": _round(rh_s, 1),
-        "dew_point_c": _round(dew_c),
-        "condensation_margin_k": _round(surface_c - dew_c) if dew_c is not None else None,
-        "max_corrected_c": None,
-    }
-    row = criteria.classify_value(rh_s, table.rows)
-    worst = row
-    factor = None
-    if t_out is not None and t_in - t_out >= 1.0 and rh_in > 0:
-        factor = float(temperature_factor(surface_c, t_in, t_out))
-        f_min = float(critical_temperature_factor(t_in, rh_in, t_out))
-        margin = (factor - f_min) * (t_in - t_out)
-        values.update(
-            {
-                "temperature_factor": _round(factor, 3),
-                "critical_factor": _round(f_min, 3),
-                "margin_k": _round(margin),
-            }
-        )
-        reasons.append(
-            f"Temperature factor fRsi {factor:.2f} against {f_min:.2f} needed for the "
-            f"recorded conditions (outdoor {t_out:.1f} °C): margin {margin:+.1f} K at the "
-            "surface (ISO 13788). Measured factors hold only near steady state."
-        )
-    else:
-        flags.append("factor_not_computed")
-        reasons.append(
-            "No temperature factor: the outdoor temperature is missing or not at least "
-            "1 K below the indoor temperature."
-        )
-    if any(v is not None for v in design):
-        worst = _envelope_design(design, factor, table, values, reasons, flags, worst)
-    level = worst["level"] if worst else None
-    result = _with_level(level, worst, worst["action"] if worst else "", "% RH", reasons)
-    result.update({"values": values, "flags": flags})
-    return result
-
-
-def _envelope_design(design, factor, table, values, reasons, flags, worst):
-    from survey.thermal import critical_temperature_factor, surface_rh
-
-    t_in, rh_in, t_out = design
-    if None in design:
-        raise ValidationError(
-            "For design conditions give the indoor temperature, indoor humidity and "
-            "outdoor temperature."
-        )
-    if t_out >= t_in or rh_in <= 0:
-        raise ValidationError(
-            "Design outdoor temperature must be below the indoor one, and the humidity above 0 %."
-        )
-    if factor is None:
-        raise ValidationError(
-            "A design check needs the temperature factor, which needs the recorded "
-            "outdoor temperature at least 1 K below the indoor one."
-        )
-    f_min = float(critical_temperature_factor(t_in, rh_in, t_out))
-    surface_design = t_out + factor * (t_in - t_out)
-    rh_design = float(surface_rh(t_in, rh_in, surface_design))
-    margin = (factor - f_min) * (t_in - t_out)
-    values.update(
-        {
-            "design_inside_c": t_in,
-            "design_inside_rh_pct": rh_in,
-            "design_outside_c": t_out,
-            "design_critical_factor": _round(f_min, 3),
-            "design_surface_c": _round(surface_design),
-            "design_surface_rh_pct": _round(rh_design, 1),
-            "design_margin_k": _round(margin),
-        }
-    )
-    reasons.append(
-        f"Design conditions {t_in:.1f} °C / {rh_in:.0f} % inside, {t_out:.1f} °C outside: "
-        f"fRsi needed {f_min:.2f}, surface would be {surface_design:.1f} °C at "
-        f"{rh_design:.0f} % RH; margin {margin:+.1f} K."
-    )
-    if factor < f_min:
-        flags.append("below_design_factor")
-    row = criteria.classify_value(rh_design, table.rows)
-    if row and (worst is None or row["level"] < worst["level"]):
-        return row
-    return worst
 
 
 def _suggest_roof(survey, marks, view_angle_deg, table) -> dict:
-    from survey.thermal import pixel_area_m2
-
     area_marks = [m for m in marks if m.kind in AREA_KINDS]
     if not area_marks:
         raise ValidationError("Mark the wet area with a rectangle, ellipse or polygon.")
@@ -507,14 +232,11 @@ def _suggest_roof(survey, marks, view_angle_deg, table) -> dict:
         "distance_m": thermogram.distance_m,
         "ifov_mrad": survey.ifov_mrad,
         "view_angle_deg": angle,
-        "wet_area_square_on_m2": _round(square_on, 4),
-        "wet_area_m2": _round(area, 4),
+        "wet_area_square_on_m2": rounded(square_on, 4),
+        "wet_area_m2": rounded(area, 4),
         "max_corrected_c": None,
     }
-    row = criteria.classify_value(area, table.rows)
-    result = _with_level(
-        row["level"] if row else None, row, row["action"] if row else "", "m²", reasons
-    )
+    result = judgement.with_level(severity.classify(area, table.rows, unit="m²"), reasons)
     result.update({"values": values, "flags": flags})
     return result
 
@@ -552,7 +274,7 @@ def finding_create(
 ) -> Finding:
     """Record a finding judged by `suggestion` (from finding_suggest) and the inspector."""
     marks = list(marks)
-    if category not in dict(criteria.FINDING_CATEGORIES.get(survey.kind, [])):
+    if category not in dict(severity.FINDING_CATEGORIES.get(survey.kind, [])):
         raise ValidationError({"category": "Choose a category for this kind of survey."})
     if thermogram is None and marks:
         thermogram = marks[0].thermogram
@@ -631,7 +353,7 @@ def finding_update(*, finding: Finding, user: AbstractBaseUser, **changes) -> Fi
     if unknown:
         raise ValueError(f"Cannot change {', '.join(sorted(unknown))} of a finding.")
     if "category" in changes and changes["category"] not in dict(
-        criteria.FINDING_CATEGORIES.get(finding.survey.kind, [])
+        severity.FINDING_CATEGORIES.get(finding.survey.kind, [])
     ):
         raise ValidationError({"category": "Choose a category for this kind of survey."})
     asset = changes.get("asset")
@@ -710,8 +432,6 @@ def heat_loss_estimate_create(
     excess lost because of the defect: flux(surface) − flux(reference). Without a surface
     temperature or emissivity, the mark's corrected mean and emissivity are used.
     """
-    from survey.thermal import surface_heat_flux
-
     if mark is not None and mark.thermogram.survey_id != survey.pk:
         raise ValidationError("The mark must belong to this survey.")
     if mark is not None and t_surface_c is None:

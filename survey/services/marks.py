@@ -15,6 +15,7 @@ from django.db import transaction
 from survey.models import Mark, Thermogram, mark_label
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.audit import audit_record
+from survey.thermal.alignment import affine_from_pairs
 
 MAX_MARKS_PER_THERMOGRAM = 200
 MAX_POLYGON_VERTICES = 500
@@ -268,33 +269,11 @@ def mark_delete(*, mark: Mark, user: AbstractBaseUser | None) -> None:
     )
 
 
-def affine_from_pairs(pairs: list) -> list[list[float]]:
-    """The 2×3 matrix taking photo pixels to thermogram pixels, fitted to 2 or 3 pairs.
-
-    Each pair is [[photo_x, photo_y], [thermogram_x, thermogram_y]]. Two pairs fix a
-    similarity (scale, rotation, shift: x' = a·x − b·y + c, y' = b·x + a·y + d); three
-    pairs fix a full affine transform, solved by least squares.
-    """
-    photo = np.array([pair[0] for pair in pairs], dtype=float)
-    target = np.array([pair[1] for pair in pairs], dtype=float)
-    if len(pairs) == 2:
-        rows, rhs = [], []
-        for (x, y), (u, v) in zip(photo, target, strict=True):
-            rows += [[x, -y, 1.0, 0.0], [y, x, 0.0, 1.0]]
-            rhs += [u, v]
-        system = np.array(rows)
-        if np.linalg.matrix_rank(system) < 4:
-            raise ValidationError({"pairs": "The two photo points must be different places."})
-        a, b, c, d = np.linalg.lstsq(system, np.array(rhs), rcond=None)[0]
-        matrix = np.array([[a, -b, c], [b, a, d]])
-    else:
-        design = np.column_stack([photo, np.ones(len(photo))])
-        if np.linalg.matrix_rank(design) < 3:
-            raise ValidationError({"pairs": "The three points must not lie on one straight line."})
-        solution = np.linalg.lstsq(design, target, rcond=None)[0]  # (3, 2)
-        matrix = solution.T
-    if abs(np.linalg.det(matrix[:, :2])) < 1e-9:
-        raise ValidationError({"pairs": "These points do not define a usable alignment."})
+def _alignment_matrix(pairs: list) -> list[list[float]]:
+    try:
+        matrix = affine_from_pairs([pair[0] for pair in pairs], [pair[1] for pair in pairs])
+    except ValueError as error:
+        raise ValidationError({"pairs": str(error)}) from None
     return [[round(float(v), 8) for v in row] for row in matrix]
 
 
@@ -330,7 +309,7 @@ def thermogram_set_alignment(
         if not thermogram.photo:
             raise ValidationError({"pairs": "This thermogram has no paired photo to align."})
         pairs = _clean_pairs(thermogram, pairs)
-        thermogram.photo_alignment = {"matrix": affine_from_pairs(pairs), "pairs": pairs}
+        thermogram.photo_alignment = {"matrix": _alignment_matrix(pairs), "pairs": pairs}
     # created_by is null once its user is deleted; that must not block an alignment.
     thermogram.full_clean()
     thermogram.save(update_fields=["photo_alignment"])

@@ -157,3 +157,10 @@ def member_reactivate(*, member: Member, actor: AbstractBaseUser | None) -> Memb
             detail={"username": member.user.username},
         )
     return member
+
+
+def member_update_preferences(*, member: Member, temperature_unit: str) -> Member:
+    member.temperature_unit = temperature_unit
+    member.full_clean()
+    member.save(update_fields=["temperature_unit"])
+    return member

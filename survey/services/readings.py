@@ -28,18 +28,12 @@ from typing import Any
 import numpy as np
 
 from survey.models import Mark, Survey, Thermogram
+from survey.thermal.units import rounded
 
 EMISSIVITY_U = 0.02
 REFLECTED_U_K = 2.0
 MOULD_SURFACE_RH_PCT = 80.0
 NOT_QUANTITATIVE_BELOW = 0.3
-
-
-def _round(value: float | None, digits: int = 2) -> float | None:
-    if value is None:
-        return None
-    value = float(value)
-    return round(value, digits) if math.isfinite(value) else None
 
 
 def _conditions(survey: Survey):
@@ -122,7 +116,7 @@ def correction_table(thermogram: Thermogram, samples: int = 129) -> dict | None:
     )
     return {
         "apparent_c": [round(float(v), 3) for v in apparent],
-        "corrected_c": [_round(v, 3) for v in corrected],
+        "corrected_c": [rounded(v, 3) for v in corrected],
     }
 
 
@@ -152,7 +146,7 @@ def _uncertainty(mark: Mark, apparent_values: list[float], emissivity: float, re
             )
         )
     finite = [v for v in values if math.isfinite(v)]
-    return _round(max(finite), 1) if finite else None
+    return rounded(max(finite), 1) if finite else None
 
 
 def _stats(mark: Mark, temperatures: np.ndarray | None) -> dict:
@@ -177,7 +171,7 @@ def _corrected(mark: Mark, stats: dict) -> tuple[dict, str | None]:
     except ValueError as error:
         message = f"No corrected value at ε {emissivity:g}, reflected {reflected_c:g} °C: {error}"
         return dict.fromkeys(keys), message
-    return {key: _round(value) for key, value in zip(keys, values, strict=True)}, None
+    return {key: rounded(value) for key, value in zip(keys, values, strict=True)}, None
 
 
 def _humidity(survey: Survey, coldest_c: float | None) -> dict:
@@ -195,15 +189,15 @@ def _humidity(survey: Survey, coldest_c: float | None) -> dict:
         mould_c = surface_limit_c(t_air_c, rh_pct, MOULD_SURFACE_RH_PCT)
     except ValueError:
         return empty
-    result = empty | {"dew_point_c": _round(dew_c)}
+    result = empty | {"dew_point_c": rounded(dew_c)}
     if coldest_c is None:
         return result
     try:
-        result["surface_rh_pct"] = _round(surface_rh(t_air_c, rh_pct, coldest_c), 1)
+        result["surface_rh_pct"] = rounded(surface_rh(t_air_c, rh_pct, coldest_c), 1)
     except ValueError:
         pass
-    result["condensation_margin_k"] = _round(coldest_c - dew_c)
-    result["mould_margin_k"] = _round(coldest_c - mould_c)
+    result["condensation_margin_k"] = rounded(coldest_c - dew_c)
+    result["mould_margin_k"] = rounded(coldest_c - mould_c)
     return result
 
 
@@ -228,7 +222,7 @@ def _reference(mark: Mark, corrected: dict, by_id: dict[int, dict]) -> dict:
         result["reference"] = "ambient"
         air_c = reference_air_c(survey)
         if air_c is not None and corrected["max"] is not None:
-            result["delta_t_c"] = _round(corrected["max"] - air_c)
+            result["delta_t_c"] = rounded(corrected["max"] - air_c)
         quantitative = mark.effective_emissivity >= NOT_QUANTITATIVE_BELOW
     elif mark.reference_kind == Mark.ReferenceKind.MARK and mark.reference_mark_id:
         other = mark.reference_mark
@@ -238,7 +232,7 @@ def _reference(mark: Mark, corrected: dict, by_id: dict[int, dict]) -> dict:
         else:
             other_mean = _corrected(other, _stats(other, None))[0]["mean"]
         if other_mean is not None and corrected["max"] is not None:
-            result["delta_t_c"] = _round(corrected["max"] - other_mean)
+            result["delta_t_c"] = rounded(corrected["max"] - other_mean)
         quantitative = min(mark.effective_emissivity, other.effective_emissivity) >= (
             NOT_QUANTITATIVE_BELOW
         )
@@ -347,3 +341,26 @@ def condensation_overlay(thermogram: Thermogram) -> dict:
         "emissivity": thermogram.emissivity,
         "reflected_c": thermogram.reflected_c,
     }
+
+
+def thermogram_corrected_range(thermogram: Thermogram) -> tuple[float, float]:
+    """Corrected min and max of a whole thermogram from its stored apparent extremes."""
+    from django.core.exceptions import ValidationError
+
+    from survey.thermal import object_temperature
+
+    if thermogram.min_c is None or thermogram.max_c is None:
+        raise ValidationError("The thermogram has not been processed yet.")
+    values = [
+        float(
+            object_temperature(
+                t,
+                thermogram.emissivity,
+                thermogram.reflected_c,
+                thermogram.transmittance,
+                thermogram.atmosphere_c,
+            )
+        )
+        for t in (thermogram.min_c, thermogram.max_c)
+    ]
+    return values[0], values[1]

@@ -2,7 +2,7 @@
 
 Deleting a survey only hides it (survey_soft_delete); `manage.py purge_deleted` removes
 those deleted more than N days ago, rows and media, and leaves a line in the audit log.
-A survey with an issued report is never deleted in the first place.
+A survey an app keeps (one with an issued report) is never deleted in the first place.
 """
 
 import datetime
@@ -14,9 +14,9 @@ from django.db import transaction
 from django.db.models import QuerySet
 from django.utils import timezone
 
+from survey.dependents import survey_hold, survey_release
 from survey.models import Survey
 from survey.services.audit import audit_record
-from survey.services.surveys import survey_has_issued_report
 
 THERMOGRAM_FILES = ("original", "photo", "array", "preview", "thumbnail")
 
@@ -31,21 +31,18 @@ def surveys_due_for_purge(*, days: int) -> QuerySet[Survey]:
 
 def survey_purge(*, survey: Survey, user: AbstractBaseUser | None) -> int:
     """Delete a deleted survey for good, with its thermograms' files; returns files removed."""
-    from reports.models import ReportVersion
-
     if survey.status != Survey.Status.DELETED:
         raise ValidationError("Only a deleted survey can be purged; delete it first.")
-    if survey_has_issued_report(survey):
-        raise ValidationError("A survey with an issued report is kept for good.")
+    reason = survey_hold(survey)
+    if reason:
+        raise ValidationError(f"{reason} It is kept for good.")
     paths = []
     for thermogram in survey.thermograms.all():
         paths += [getattr(thermogram, name).name for name in THERMOGRAM_FILES]
-    versions = ReportVersion.objects.filter(report__survey=survey)
-    paths += list(versions.values_list("pdf", flat=True))
-    paths = [path for path in paths if path]
-    detail = {"title": str(survey), "date": survey.date.isoformat(), "files": len(paths)}
     with transaction.atomic():
-        survey.reports.all().delete()
+        paths += survey_release(survey)
+        paths = [path for path in paths if path]
+        detail = {"title": str(survey), "date": survey.date.isoformat(), "files": len(paths)}
         audit_record(
             organization=survey.organization, actor=user, action="purge", obj=survey, detail=detail
         )

@@ -2,7 +2,7 @@
 
 from django import template
 
-from survey import criteria
+from survey import severity
 
 register = template.Library()
 
@@ -10,4 +10,4 @@ register = template.Library()
 @register.filter
 def category_label(finding) -> str:
     """The readable category of a finding, e.g. 'Missing or displaced insulation'."""
-    return criteria.category_label(finding.survey.kind, finding.category)
+    return severity.category_label(finding.survey.kind, finding.category)

@@ -2,13 +2,15 @@
 
 from django import template
 
+from survey.thermal import units
+
 register = template.Library()
 
 
 def _unit(member_or_unit) -> str:
     if isinstance(member_or_unit, str):
-        return member_or_unit or "C"
-    return getattr(member_or_unit, "temperature_unit", "C") or "C"
+        return member_or_unit or units.CELSIUS
+    return getattr(member_or_unit, "temperature_unit", units.CELSIUS) or units.CELSIUS
 
 
 @register.filter
@@ -16,9 +18,8 @@ def temp(value_c, member_or_unit="C") -> str:
     """An absolute temperature, e.g. 21.5 °C or 70.7 °F; empty when not recorded."""
     if value_c is None or value_c == "":
         return "—"
-    if _unit(member_or_unit) == "F":
-        return f"{float(value_c) * 9 / 5 + 32:.1f} °F"
-    return f"{float(value_c):.1f} °C"
+    unit = _unit(member_or_unit)
+    return f"{units.from_celsius(float(value_c), unit):.1f} {units.symbol(unit)}"
 
 
 @register.filter
@@ -26,11 +27,12 @@ def tdiff(value_k, member_or_unit="C") -> str:
     """A temperature difference, e.g. 12.0 K or 21.6 °F."""
     if value_k is None or value_k == "":
         return "—"
-    if _unit(member_or_unit) == "F":
-        return f"{float(value_k) * 9 / 5:.1f} °F"
-    return f"{float(value_k):.1f} K"
+    unit = _unit(member_or_unit)
+    return (
+        f"{units.difference_from_kelvin(float(value_k), unit):.1f} {units.difference_symbol(unit)}"
+    )
 
 
 @register.filter
 def unit_symbol(member_or_unit="C") -> str:
-    return "°F" if _unit(member_or_unit) == "F" else "°C"
+    return units.symbol(_unit(member_or_unit))

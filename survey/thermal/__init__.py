@@ -4,6 +4,7 @@ Every public name is re-exported here so a notebook can `from survey import ther
 Units are in the parameter names (_c °C, _pct percent, _m metres, _mrad, _w_m2).
 """
 
+from survey.thermal.alignment import affine_from_pairs
 from survey.thermal.decision import (
     decide,
     decide_interval,
@@ -13,6 +14,7 @@ from survey.thermal.decision import (
     temperature_factor_interval,
 )
 from survey.thermal.decode import ThermogramFormatError, read_temperatures
+from survey.thermal.drawing import render_picture
 from survey.thermal.electrical import (
     RISE_METHODS,
     RiseClassification,
@@ -33,6 +35,7 @@ from survey.thermal.geometry import (
 from survey.thermal.heat_transfer import surface_heat_flux
 from survey.thermal.logger import LoggerFileError, LoggerSeries, RowError, read_logger_csv
 from survey.thermal.marks import mark_statistics
+from survey.thermal.palettes import PALETTES, auto_span, invert_palette, render
 from survey.thermal.proposals import Proposal, drop_rejected, proposal_reason, propose, same_place
 from survey.thermal.psychrometrics import (
     condensation_margin_k,
@@ -52,7 +55,6 @@ from survey.thermal.radiometry import (
     object_temperature_uncertainty,
 )
 from survey.thermal.registration import Registration, Transform, register, transform_from_points
-from survey.thermal.render import PALETTES, auto_span, invert_palette, render
 from survey.thermal.timeseries import conditions_at, held_difference, outdoor_extremes
 
 __all__ = [
@@ -67,6 +69,7 @@ __all__ = [
     "RowError",
     "ThermogramFormatError",
     "Transform",
+    "affine_from_pairs",
     "apparent_temperature",
     "auto_span",
     "classify_rise",
@@ -102,6 +105,7 @@ __all__ = [
     "render",
     "round_rise_c",
     "same_place",
+    "render_picture",
     "saturation_vapor_pressure",
     "surface_heat_flux",
     "surface_limit_temperature",

@@ -176,7 +176,7 @@ def read_temperatures(
         optional for float data; `offset` defaults to 0.
     palette_image : bool
         Treat a JPEG/PNG as a false-colour picture and estimate temperatures by palette
-        inversion (see `survey.thermal.render.invert_palette`). Needs `low_c` and `high_c`
+        inversion (see `survey.thermal.palettes.invert_palette`). Needs `low_c` and `high_c`
         (the picture's scale range, in °C whatever `unit` says) and either `palette` (a
         name of `PALETTES` or an N×3 ramp) or `scale_bar_box`, the (left, top, right,
         bottom) pixel box of the scale bar in the picture (right and bottom exclusive).
@@ -481,7 +481,7 @@ def _read_picture(data: bytes, name: str, kind: str, max_pixels: int) -> np.ndar
 
 
 def _read_palette_picture(data, name, palette, low_c, high_c, box, max_pixels) -> np.ndarray:
-    from survey.thermal.render import PALETTES, invert_palette, ramp_from_scale_bar
+    from survey.thermal.palettes import PALETTES, invert_palette, ramp_from_scale_bar
 
     kind = detect_format(data)
     if low_c is None or high_c is None:

@@ -9,7 +9,6 @@ import json
 import math
 from functools import wraps
 
-import numpy as np
 from django import forms
 from django.contrib.auth.decorators import login_required
 from django.core.exceptions import PermissionDenied, ValidationError
@@ -26,8 +25,13 @@ from survey.access import (
     thermograms_for,
 )
 from survey.models import Mark, Thermogram
+from survey.services import display
 from survey.services import marks as mark_services
-from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
+from survey.services.arrays import (
+    ENCODINGS,
+    ThermogramNotReady,
+    thermogram_temperatures_encoded,
+)
 from survey.services.readings import (
     condensation_overlay,
     correction_table,
@@ -235,38 +239,6 @@ def _neighbours(request: HttpRequest, thermogram: Thermogram) -> dict:
     }
 
 
-def _palettes() -> dict:
-    """The server's colour ramps (256 × RGB each), so the page renders exactly like it."""
-    from survey.thermal import PALETTES
-
-    return {name: np.asarray(ramp, dtype=int).tolist() for name, ramp in PALETTES.items()}
-
-
-def _colours() -> dict:
-    from survey.thermal.render import (
-        CONDENSATION_COLOUR,
-        ISOTHERM_COLOUR,
-        MOULD_RISK_COLOUR,
-        NO_DATA_COLOUR,
-    )
-
-    return {
-        "no_data": list(NO_DATA_COLOUR),
-        "isotherm": list(ISOTHERM_COLOUR),
-        "mould_risk": list(MOULD_RISK_COLOUR),
-        "condensation": list(CONDENSATION_COLOUR),
-    }
-
-
-def _auto_span(thermogram: Thermogram) -> list[float] | None:
-    from survey.thermal import auto_span
-
-    if not thermogram.is_ready:
-        return None
-    low, high = auto_span(thermogram_temperatures(thermogram))
-    return [round(float(low), 2), round(float(high), 2)]
-
-
 def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
     member = get_member(request)
     survey = thermogram.survey
@@ -295,10 +267,10 @@ def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
             "palette": thermogram.palette,
             "span_low_c": thermogram.span_low_c,
             "span_high_c": thermogram.span_high_c,
-            "auto_span": _auto_span(thermogram),
+            "auto_span": display.thermogram_auto_span(thermogram),
         },
-        "palettes": _palettes(),
-        "colours": _colours(),
+        "palettes": display.palette_ramps(),
+        "colours": display.overlay_colours(),
         "unit": member.temperature_unit,
         "can_edit": member.can_edit,
         "survey": {
@@ -355,8 +327,7 @@ VIEW_SPAN_LIMITS_C = (-100.0, 2000.0)  # as the thermogram settings form
 
 def _view_settings(data: dict) -> dict:
     """Validate {"palette", "span_low_c", "span_high_c"} (null span = automatic)."""
-    from survey.thermal import PALETTES
-
+    palettes = display.palette_names()
     unknown = sorted(set(data) - {"palette", "span_low_c", "span_high_c"})
     if unknown:
         raise ValidationError(
@@ -366,8 +337,8 @@ def _view_settings(data: dict) -> dict:
         raise ValidationError("Give the palette, the span, or both.")
     changes: dict = {}
     if "palette" in data:
-        if not isinstance(data["palette"], str) or data["palette"] not in PALETTES:
-            raise ValidationError({"palette": f"Choose one of: {', '.join(PALETTES)}."})
+        if not isinstance(data["palette"], str) or data["palette"] not in palettes:
+            raise ValidationError({"palette": f"Choose one of: {', '.join(palettes)}."})
         changes["palette"] = data["palette"]
     if "span_low_c" in data or "span_high_c" in data:
         low, high = data.get("span_low_c"), data.get("span_high_c")
@@ -411,26 +382,19 @@ def thermogram_temperatures_binary(request: HttpRequest, pk: int) -> HttpRespons
     """
     thermogram = get_thermogram_for_user(request, pk)
     dtype = request.GET.get("dtype", "float32")
-    if dtype not in {"float32", "float16"}:
+    if dtype not in ENCODINGS:
         return _error(400, "dtype must be float32 or float16.", {"dtype": "float32 or float16"})
     etag = f'"{thermogram.original_sha256[:16]}-{thermogram.array.name}-{dtype}"'
     if request.headers.get("If-None-Match") == etag:
         response = HttpResponse(status=304)
     else:
-        array = thermogram_temperatures(thermogram)
-        scale, offset = 1.0, 0.0
-        if dtype == "float16":
-            finite = array[np.isfinite(array)]
-            offset = float((finite.min() + finite.max()) / 2) if finite.size else 0.0
-            data = (array - offset).astype("<f2")
-        else:
-            data = array.astype("<f4")
-        response = HttpResponse(data.tobytes(), content_type="application/octet-stream")
-        response["X-Width"] = str(array.shape[1])
-        response["X-Height"] = str(array.shape[0])
-        response["X-Dtype"] = dtype
-        response["X-Scale"] = repr(scale)
-        response["X-Offset"] = repr(offset)
+        encoded = thermogram_temperatures_encoded(thermogram, dtype)
+        response = HttpResponse(encoded.data, content_type="application/octet-stream")
+        response["X-Width"] = str(encoded.width)
+        response["X-Height"] = str(encoded.height)
+        response["X-Dtype"] = encoded.dtype
+        response["X-Scale"] = repr(encoded.scale)
+        response["X-Offset"] = repr(encoded.offset)
     response["ETag"] = etag
     response["Cache-Control"] = "private, max-age=86400"
     return response

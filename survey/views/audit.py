@@ -6,8 +6,7 @@ from django.http import HttpRequest, HttpResponse
 from django.shortcuts import render
 from django.views.decorators.http import require_GET
 
-from survey.access import get_member, require_admin
-from survey.models import AuditEvent
+from survey.access import audit_events_for, get_member, require_admin
 
 PAGE_SIZE = 100
 
@@ -17,15 +16,12 @@ PAGE_SIZE = 100
 def audit_log(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
     require_admin(member)
-    events = AuditEvent.objects.filter(organization=member.organization).select_related("actor")
+    events = audit_events_for(member).select_related("actor")
     action = request.GET.get("action", "").strip()[:40]
     if action:
         events = events.filter(action=action)
     actions = (
-        AuditEvent.objects.filter(organization=member.organization)
-        .order_by("action")
-        .values_list("action", flat=True)
-        .distinct()
+        audit_events_for(member).order_by("action").values_list("action", flat=True).distinct()
     )
     page = Paginator(events, PAGE_SIZE).get_page(request.GET.get("page"))
     context = {"page": page, "actions": actions, "action": action}

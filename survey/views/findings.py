@@ -6,13 +6,14 @@ from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.core.exceptions import ValidationError
 from django.http import HttpRequest, HttpResponse
-from django.shortcuts import get_object_or_404, redirect, render
+from django.shortcuts import redirect, render
 from django.views.decorators.http import require_POST
 
-from survey import criteria
+from survey import severity
 from survey.access import (
     findings_for,
     get_asset_for_user,
+    get_criteria_table_for_user,
     get_finding_for_user,
     get_member,
     get_site_for_user,
@@ -23,16 +24,18 @@ from survey.access import (
 )
 from survey.cautions import cautions_for, cautions_for_kinds
 from survey.charts import trend_svg
-from survey.finding_forms import (
+from survey.conditions import conditions_check
+from survey.forms.fields import add_service_error
+from survey.forms.findings import (
     CriteriaRowsForm,
     FindingEditForm,
     FindingForm,
     FindingStatusForm,
     HeatLossForm,
-    add_service_error,
 )
-from survey.models import CriteriaTable, Finding
+from survey.models import Finding
 from survey.services import assets as asset_services
+from survey.services import criteria_tables as table_services
 from survey.services import findings as finding_services
 
 OPEN = [Finding.Status.OPEN, Finding.Status.REPAIRED]
@@ -52,7 +55,7 @@ def _first_suggestion(thermogram, initial: dict) -> dict | None:
     """Coming from the workspace with marks ticked: suggest at once by the first basis."""
     if not initial.get("marks"):
         return None
-    basis = criteria.BASES[thermogram.survey.kind][0][0]
+    basis = severity.BASES[thermogram.survey.kind][0][0]
     marks = sorted(initial["marks"], key=lambda m: (len(m.label), m.label))
     try:
         return finding_services.finding_suggest(
@@ -96,7 +99,7 @@ def finding_detail(request: HttpRequest, pk: int) -> HttpResponse:
     context = {
         "finding": finding,
         "survey": finding.survey,
-        "category": criteria.category_label(finding.survey.kind, finding.category),
+        "category": severity.category_label(finding.survey.kind, finding.category),
         "status_form": FindingStatusForm(initial={"status": finding.status}),
         "verification": asset_services.repair_verification(finding),
         "estimates": finding.heat_loss_estimates.all(),
@@ -162,7 +165,7 @@ def survey_findings(request: HttpRequest, pk: int) -> HttpResponse:
         "survey": survey,
         "findings": findings,
         "thermograms": survey.thermograms.filter(status="ready"),
-        "conditions_checks": criteria.conditions_check(survey),
+        "conditions_checks": conditions_check(survey),
         "estimates": survey.heat_loss_estimates.select_related("mark", "finding"),
         "cautions": cautions_for(survey.kind),
     }
@@ -203,10 +206,8 @@ def _asset_chart(asset, visits) -> str:
     thresholds = []
     for basis in ("similar", "ambient"):
         if any(v["key_rise"] and v["key_rise"]["basis"] == basis for v in visits):
-            table = finding_services.criteria_table_for(
-                organization=asset.organization, basis=basis
-            )
-            threshold = criteria.no_finding_below(table.rows)
+            table = table_services.criteria_table_for(organization=asset.organization, basis=basis)
+            threshold = severity.no_finding_below(table.rows)
             if threshold is not None:
                 thresholds.append((threshold, f"{basis}: no finding below {threshold:g} K"))
     return trend_svg(points, 560, 220, "K", title=f"Rise at {asset}", thresholds=thresholds)
@@ -247,8 +248,8 @@ def heat_loss_create(request: HttpRequest, pk: int) -> HttpResponse:
 def criteria_tables(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
     tables = [
-        finding_services.criteria_table_for(organization=member.organization, basis=basis)
-        for basis in criteria.TABLE_KEY_FOR_BASIS
+        table_services.criteria_table_for(organization=member.organization, basis=basis)
+        for basis in severity.TABLE_KEY_FOR_BASIS
     ]
     return render(request, "survey/findings/criteria_tables.html", {"tables": tables})
 
@@ -258,9 +259,7 @@ def criteria_tables(request: HttpRequest) -> HttpResponse:
 def criteria_copy(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
     require_admin(member)
-    finding_services.criteria_table_copy_defaults(
-        organization=member.organization, user=request.user
-    )
+    table_services.criteria_table_copy_defaults(organization=member.organization, user=request.user)
     messages.success(request, "Your organization now has its own copy of the tables to edit.")
     return redirect("survey:criteria_tables")
 
@@ -269,7 +268,7 @@ def criteria_copy(request: HttpRequest) -> HttpResponse:
 def criteria_edit(request: HttpRequest, pk: int) -> HttpResponse:
     member = get_member(request)
     require_admin(member)
-    table = get_object_or_404(CriteriaTable, pk=pk, organization=member.organization)
+    table = get_criteria_table_for_user(request, pk)
     form = CriteriaRowsForm(
         request.POST or None,
         initial={
@@ -279,7 +278,7 @@ def criteria_edit(request: HttpRequest, pk: int) -> HttpResponse:
     )
     if request.method == "POST" and form.is_valid():
         try:
-            finding_services.criteria_table_update(
+            table_services.criteria_table_update(
                 table=table, user=request.user, **form.cleaned_data
             )
         except ValidationError as error:

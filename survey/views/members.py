@@ -8,17 +8,17 @@ from django.shortcuts import redirect, render
 from django.utils.cache import add_never_cache_headers
 
 from survey.access import get_member, get_member_for_user, members_for, require_admin
-from survey.forms import MemberAddForm, MemberEditForm
+from survey.forms.fields import add_service_error, submitted
+from survey.forms.members import MemberAddForm, MemberEditForm
 from survey.models import Member
 from survey.services import members as services
-from survey.views.pages import _add_service_error, _data
 
 
 @login_required
 def member_list(request: HttpRequest) -> HttpResponse:
     admin = get_member(request)
     require_admin(admin)
-    form = MemberAddForm(_data(request))
+    form = MemberAddForm(submitted(request))
     added, password = None, None
     if request.method == "POST" and form.is_valid():
         try:
@@ -26,7 +26,7 @@ def member_list(request: HttpRequest) -> HttpResponse:
                 organization=admin.organization, actor=request.user, **form.cleaned_data
             )
         except ValidationError as error:
-            _add_service_error(form, error)
+            add_service_error(form, error)
         else:
             if password is None:
                 messages.success(request, f"{added.display_name} added.")
@@ -49,12 +49,12 @@ def member_edit(request: HttpRequest, pk: int) -> HttpResponse:
     if action in {"deactivate", "reactivate"}:
         return _set_active(request, person, action)
     initial = {"role": person.role, "qualification": person.qualification}
-    form = MemberEditForm(_data(request), initial=initial)
+    form = MemberEditForm(submitted(request), initial=initial)
     if action == "save" and form.is_valid():
         try:
             services.member_update(member=person, actor=request.user, **form.cleaned_data)
         except ValidationError as error:
-            _add_service_error(form, error)
+            add_service_error(form, error)
         else:
             messages.success(request, f"{person.display_name} saved.")
             return redirect("survey:members")

@@ -28,41 +28,17 @@ from survey.access import (
     sites_for,
     surveys_for,
 )
-from survey.criteria import conditions_check
-from survey.forms import (
+from survey.conditions import conditions_check
+from survey.forms.fields import add_service_error, form_errors_text, submitted
+from survey.forms.surveys import ClientForm, DeleteForm, PreferenceForm, SiteForm, SurveyForm
+from survey.forms.thermograms import (
     SCALE_BAR_FIELDS,
-    ClientForm,
-    DeleteForm,
-    PreferenceForm,
     ReprocessForm,
-    SiteForm,
-    SurveyForm,
     ThermogramSettingsForm,
     UploadForm,
 )
 from survey.models import Survey, Thermogram
-from survey.services import surveys as services
-
-
-def _data(request: HttpRequest):
-    """The submitted data of a POST (even an empty one), None for a GET."""
-    return request.POST if request.method == "POST" else None
-
-
-def _form_errors(form) -> str:
-    parts = []
-    for field, errors in form.errors.items():
-        label = form.fields[field].label if field in form.fields else ""
-        parts.append(f"{label}: {' '.join(errors)}" if label else " ".join(errors))
-    return " ".join(parts)
-
-
-def _add_service_error(form, error: ValidationError) -> None:
-    if hasattr(error, "error_dict"):
-        for field, errors in error.error_dict.items():
-            form.add_error(field if field in form.fields else None, errors)
-    else:
-        form.add_error(None, error)
+from survey.services import ingest, members, processing, surveys
 
 
 @login_required
@@ -79,9 +55,9 @@ def home(request: HttpRequest) -> HttpResponse:
 @login_required
 def preferences(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
-    form = PreferenceForm(_data(request), initial={"temperature_unit": member.temperature_unit})
+    form = PreferenceForm(submitted(request), initial={"temperature_unit": member.temperature_unit})
     if request.method == "POST" and form.is_valid():
-        services.member_update_preferences(member=member, **form.cleaned_data)
+        members.member_update_preferences(member=member, **form.cleaned_data)
         messages.success(request, "Preferences saved.")
         return redirect("survey:preferences")
     return render(request, "survey/preferences.html", {"form": form})
@@ -90,16 +66,16 @@ def preferences(request: HttpRequest) -> HttpResponse:
 @login_required
 def client_list(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
-    form = ClientForm(_data(request))
+    form = ClientForm(submitted(request))
     if request.method == "POST":
         require_editor(member)
         if form.is_valid():
             try:
-                client = services.client_create(
+                client = surveys.client_create(
                     organization=member.organization, user=request.user, **form.cleaned_data
                 )
             except ValidationError as error:
-                _add_service_error(form, error)
+                add_service_error(form, error)
             else:
                 messages.success(request, f"Client {client} added.")
                 return redirect("survey:clients")
@@ -110,14 +86,14 @@ def client_list(request: HttpRequest) -> HttpResponse:
 @login_required
 def site_list(request: HttpRequest) -> HttpResponse:
     member = get_member(request)
-    form = SiteForm(_data(request), clients=clients_for(member))
+    form = SiteForm(submitted(request), clients=clients_for(member))
     if request.method == "POST":
         require_editor(member)
         if form.is_valid():
             try:
-                site = services.site_create(user=request.user, **form.cleaned_data)
+                site = surveys.site_create(user=request.user, **form.cleaned_data)
             except ValidationError as error:
-                _add_service_error(form, error)
+                add_service_error(form, error)
             else:
                 messages.success(request, f"Site {site} added.")
                 return redirect("survey:sites")
@@ -127,7 +103,7 @@ def site_list(request: HttpRequest) -> HttpResponse:
 
 def _survey_form(request: HttpRequest, member, **kwargs) -> SurveyForm:
     return SurveyForm(
-        _data(request),
+        submitted(request),
         unit=member.temperature_unit,
         sites=sites_for(member).select_related("client"),
         members=members_for(member),
@@ -146,14 +122,14 @@ def survey_create(request: HttpRequest) -> HttpResponse:
     form = _survey_form(request, member, initial=initial)
     if request.method == "POST" and form.is_valid():
         try:
-            survey = services.survey_create(
+            survey = surveys.survey_create(
                 organization=member.organization,
                 user=request.user,
                 conditions=form.conditions_values(),
                 **form.survey_values(),
             )
         except ValidationError as error:
-            _add_service_error(form, error)
+            add_service_error(form, error)
         else:
             messages.success(request, "Survey created. Upload its thermograms below.")
             return redirect("survey:survey", pk=survey.pk)
@@ -169,14 +145,14 @@ def survey_edit(request: HttpRequest, pk: int) -> HttpResponse:
     form = _survey_form(request, member, initial=initial)
     if request.method == "POST" and form.is_valid():
         try:
-            services.survey_update(
+            surveys.survey_update(
                 survey=survey,
                 user=request.user,
                 conditions=form.conditions_values(),
                 **form.survey_values(),
             )
         except ValidationError as error:
-            _add_service_error(form, error)
+            add_service_error(form, error)
         else:
             messages.success(request, "Survey saved.")
             return redirect("survey:survey", pk=survey.pk)
@@ -202,7 +178,7 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
     )
     thermograms = list(survey.thermograms.all())
     for thermogram in thermograms:
-        thermogram.stalled = services.thermogram_is_stalled(thermogram)
+        thermogram.stalled = processing.thermogram_is_stalled(thermogram)
     context = {
         "survey": survey,
         "thermograms": thermograms,
@@ -225,9 +201,9 @@ def survey_upload(request: HttpRequest, pk: int) -> HttpResponse:
         assets=assets_for(member).filter(site=survey.site_id),
     )
     if not form.is_valid():
-        messages.error(request, f"Nothing was uploaded. {_form_errors(form)}")
+        messages.error(request, f"Nothing was uploaded. {form_errors_text(form)}")
         return redirect("survey:survey", pk=survey.pk)
-    result = services.thermograms_ingest_batch(
+    result = ingest.thermograms_ingest_batch(
         survey=survey,
         files=form.cleaned_data["files"],
         photos=form.cleaned_data["photos"],
@@ -253,7 +229,7 @@ def survey_status(request: HttpRequest, pk: int) -> JsonResponse:
                 "id": thermogram.pk,
                 "status": thermogram.status,
                 "status_display": thermogram.get_status_display(),
-                "stalled": services.thermogram_is_stalled(thermogram),
+                "stalled": processing.thermogram_is_stalled(thermogram),
                 "error": thermogram.error,
                 "thumbnail": reverse("survey:thermogram_thumbnail", args=[thermogram.pk])
                 if thermogram.thumbnail
@@ -269,10 +245,10 @@ def survey_delete(request: HttpRequest, pk: int) -> HttpResponse:
     member = get_member(request)
     survey = get_survey_for_user(request, pk)
     require_reviewer(member)
-    form = DeleteForm(_data(request))
+    form = DeleteForm(submitted(request))
     if request.method == "POST" and form.is_valid():
         try:
-            services.survey_soft_delete(survey=survey, user=request.user)
+            surveys.survey_soft_delete(survey=survey, user=request.user)
         except ValidationError as error:
             messages.error(request, " ".join(error.messages))
             return redirect("survey:survey", pk=survey.pk)
@@ -294,7 +270,7 @@ def survey_restore(request: HttpRequest, pk: int) -> HttpResponse:
     member = get_member(request)
     survey = get_deleted_survey_for_user(request, pk)
     require_reviewer(member)
-    services.survey_restore(survey=survey, user=request.user)
+    surveys.survey_restore(survey=survey, user=request.user)
     messages.success(request, f"{survey} restored.")
     return redirect("survey:survey", pk=survey.pk)
 
@@ -305,18 +281,18 @@ def thermogram_settings(request: HttpRequest, pk: int) -> HttpResponse:
     thermogram = get_thermogram_for_user(request, pk)
     require_editor(member)
     form = ThermogramSettingsForm(
-        _data(request),
+        submitted(request),
         unit=member.temperature_unit,
         assets=assets_for(member).filter(site=thermogram.survey.site_id),
         initial=ThermogramSettingsForm.initial_for(thermogram, member.temperature_unit),
     )
     if request.method == "POST" and form.is_valid():
         try:
-            services.thermogram_update_settings(
+            surveys.thermogram_update_settings(
                 thermogram=thermogram, user=request.user, **form.cleaned_data
             )
         except ValidationError as error:
-            _add_service_error(form, error)
+            add_service_error(form, error)
         else:
             messages.success(request, f"Settings of {thermogram} saved.")
             return redirect("survey:survey", pk=thermogram.survey_id)
@@ -351,10 +327,10 @@ def thermogram_reprocess(request: HttpRequest, pk: int) -> HttpResponse:
     require_editor(member)
     form = ReprocessForm(request.POST, unit=member.temperature_unit)
     if not form.is_valid():
-        messages.error(request, f"Not re-processed. {_form_errors(form)}")
+        messages.error(request, f"Not re-processed. {form_errors_text(form)}")
         return redirect("survey:thermogram_settings", pk=thermogram.pk)
     try:
-        services.thermogram_reprocess(
+        ingest.thermogram_reprocess(
             thermogram=thermogram,
             user=request.user,
             unit=form.cleaned_data["source_unit"],

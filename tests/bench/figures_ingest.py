@@ -104,16 +104,16 @@ def _row(label: str, timing: Timing, floor_per_file_s: float | None, note: str =
 
 
 def figure_ingest_eager(floor_per_file_s: float | None, repeat: int = 3) -> Row:
-    from survey.services import surveys
+    from survey.services import processing
 
     _set_eager(True)
     survey = empty_survey("bench ingest (eager)")
     _check_ready(ingest(survey, tiff_files(5, start=0)))  # warm-up
-    with time_calls(surveys, ("decode_original", "_write_images")) as spent:
+    with time_calls(processing, ("decode_original", "write_images")) as spent:
         timing = _batches(survey, repeat, wait=False)
     files = FILES * repeat
     note = (
-        f"per file: preview + thumbnail {spent['_write_images'] / files * 1e3:.0f} ms, "
+        f"per file: preview + thumbnail {spent['write_images'] / files * 1e3:.0f} ms, "
         f"decode {spent['decode_original'] / files * 1e3:.0f} ms; the rest is DB, files, sha256"
     )
     return _row("eager", timing, floor_per_file_s, note)
@@ -126,7 +126,7 @@ def start_worker(environment: BenchEnvironment) -> subprocess.Popen:
         "-m",
         "celery",
         "-A",
-        "survey",
+        "survey.celery",
         "worker",
         "--pool=solo",
         "--loglevel=WARNING",

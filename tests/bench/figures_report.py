@@ -60,7 +60,7 @@ def _reading_cells(reading: dict) -> list:
 
 def write_floor_html(survey, folder: Path) -> Path:
     """index.html + one JPEG per thermogram, pictures made exactly as the report makes them."""
-    from reports.pdf import JPEG_QUALITY, THERMOGRAM_WIDTH_MM, mm_to_px, thermogram_picture
+    from reports.pictures import JPEG_QUALITY, THERMOGRAM_WIDTH_MM, mm_to_px, thermogram_picture
     from survey.services.readings import thermogram_readings
 
     folder.mkdir(parents=True)

@@ -7,7 +7,7 @@ import numpy as np
 from tests.bench.inputs import SIZES, csv_bytes, marks_spec, temperature_field, tiff_bytes
 from tests.bench.timing import Row, Timing, measure, measure_pair
 
-# The upload pipeline's PNG settings for previews (survey.services.surveys: Pillow's default
+# The upload pipeline's PNG settings for previews (survey.services.processing: Pillow's default
 # level 6, optimize off, unless it names its own PNG_COMPRESS_LEVEL); the floor encodes at
 # the same level, so only our own work differs between the two.
 DEFAULT_PNG_LEVEL = 6
@@ -16,7 +16,7 @@ PALETTE = "black-red-yellow"
 
 def png_level() -> int:
     try:
-        from survey.services.surveys import PNG_COMPRESS_LEVEL
+        from survey.services.processing import PNG_COMPRESS_LEVEL
     except ImportError:  # Django not set up, or the pipeline keeps Pillow's default
         return DEFAULT_PNG_LEVEL
     return int(PNG_COMPRESS_LEVEL)

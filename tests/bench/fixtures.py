@@ -66,7 +66,7 @@ def tiff_files(count: int, width: int = 640, height: int = 480, *, start: int = 
 
 def ingest(survey, files: list) -> list[int]:
     """Upload through the service; returns the new thermogram ids."""
-    from survey.services.surveys import thermogram_ingest
+    from survey.services.ingest import thermogram_ingest
 
     member = survey.thermographer
     return [

@@ -3,7 +3,7 @@
     python -m tests.bench.pdf_child floor DIR REPEAT [WARMUP_DIR]
         WeasyPrint on DIR/index.html
     python -m tests.bench.pdf_child app VERSION_ID REPEAT [WARMUP_VERSION_ID]
-        reports.pdf.render_pdf of that report version
+        reports.document.render_pdf of that report version
 
 The untimed warm-up renders the WARMUP target (default: the measured one), so a large
 report can be warmed up with a small one. Prints one JSON line: render times, PDF bytes,
@@ -37,8 +37,8 @@ def _app(version_id: str):
     import django
 
     django.setup()
+    from reports.document import render_pdf
     from reports.models import ReportVersion
-    from reports.pdf import render_pdf
 
     version = ReportVersion.objects.select_related("report__survey").get(pk=int(version_id))
 

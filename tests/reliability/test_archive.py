@@ -20,8 +20,10 @@ from django.core.management import CommandError, call_command
 from django.utils import timezone
 from PIL import Image
 
+from reports.archive import survey_export, survey_import
 from reports.models import Report, ReportVersion
-from reports.services import report_create, report_issue, survey_results
+from reports.results import survey_results
+from reports.services import report_create, report_issue
 from survey.models import (
     AuditEvent,
     Finding,
@@ -30,9 +32,8 @@ from survey.models import (
     Survey,
     Thermogram,
 )
-from survey.services.archive import survey_export, survey_import
+from survey.services.ingest import thermogram_ingest
 from survey.services.marks import mark_add
-from survey.services.surveys import thermogram_ingest
 from tests.factories import make_thermogram, synthetic_field
 
 

@@ -26,10 +26,11 @@ from survey.models import Conditions, Mark, Member, Survey, Thermogram
 from survey.services.marks import MAX_MARKS_PER_THERMOGRAM, MAX_POLYGON_VERTICES
 from survey.thermal import ThermogramFormatError, read_temperatures
 from tests.factories import make_thermogram
+from tests.hypothesis_profiles import examples
 
 CASES: Counter = Counter()
 FUZZ = settings(
-    max_examples=60,
+    max_examples=examples(60),
     deadline=None,
     suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow],
     database=None,
@@ -59,7 +60,7 @@ def _report_case_count(request):
 # --- decoders -------------------------------------------------------------------------------
 
 # Decoding a few kilobytes takes well under a millisecond: many more cases for the same time.
-DECODER_FUZZ = settings(FUZZ, max_examples=400)
+DECODER_FUZZ = settings(FUZZ, max_examples=examples(400))
 
 EXTENSIONS = [".tif", ".tiff", ".png", ".csv", ".tsv", ".txt", ".npy", ".jpg"]
 MAGIC = [b"II*\x00", b"MM\x00*", b"\x89PNG\r\n\x1a\n", b"\x93NUMPY\x01\x00", b"\xff\xd8\xff", b""]
@@ -197,7 +198,7 @@ def test_it_answers_a_csv_with_a_million_columns(
     """One row of a million numbers: stored, then refused as not an image, in seconds."""
     from django.core.files.uploadedfile import SimpleUploadedFile
 
-    from survey.services.surveys import thermogram_ingest
+    from survey.services.ingest import thermogram_ingest
 
     CASES["million columns"] += 1
     data = (",".join(["20.5"] * 1_000_000) + "\n").encode()

@@ -87,7 +87,7 @@ def _add_mark(world):
 
 
 def _ingest(world):
-    from survey.services.surveys import thermogram_ingest
+    from survey.services.ingest import thermogram_ingest
 
     thermogram_ingest(
         survey=world["survey"],

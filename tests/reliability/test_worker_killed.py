@@ -26,24 +26,20 @@ import hashlib
 import io
 import os
 import signal
-import subprocess
-import sys
 import time
 from pathlib import Path
-from urllib.parse import urlparse, urlunparse
 
 import numpy as np
 import pytest
-from django.conf import settings as django_settings
 from django.core.files.uploadedfile import SimpleUploadedFile
 
 from reports.models import ReportVersion
 from reports.services import report_create, report_issue, report_request_draft
 from survey.models import AuditEvent, Thermogram
+from survey.services.ingest import thermogram_ingest
 from survey.services.marks import mark_add
-from survey.services.surveys import thermogram_ingest
 from tests.factories import make_thermogram, synthetic_field
-from tests.survey.brokers import broker_at
+from tests.workers import broker_at, fresh_broker, start_worker, stop_worker
 
 ROOT = Path(__file__).resolve().parents[2]
 STALL_SECONDS = 2
@@ -51,48 +47,20 @@ STALL_SECONDS = 2
 HEIGHT, WIDTH = 2400, 3200
 
 
-def _database_url(postgres_url: str) -> str:
-    parsed = urlparse(postgres_url)
-    return urlunparse(parsed._replace(path="/" + django_settings.DATABASES["default"]["NAME"]))
-
-
-def _broker(redis_url: str, db: int) -> str:
-    url = urlunparse(urlparse(redis_url)._replace(path=f"/{db}"))
-    subprocess.run(["redis-cli", "-u", url, "FLUSHDB"], capture_output=True, timeout=10)
-    return url
-
-
-def _start_worker(
-    broker: str, postgres_url: str, media_root: str, log_path: Path, pool: str, **extra: str
-):
-    env = dict(
-        os.environ,
-        DATABASE_URL=_database_url(postgres_url),
-        REDIS_URL=broker,
-        CELERY_EAGER="0",
-        MEDIA_ROOT=media_root,
-        DJANGO_SETTINGS_MODULE="survey.settings",
+def _start_worker(broker, postgres_url, media_root, log_path, pool, **extra):
+    """A worker that counts a job stalled after STALL_SECONDS and restores unacked tasks fast."""
+    return start_worker(
+        broker,
+        postgres_url,
+        media_root,
+        log_path,
+        pool,
         CELERY_VISIBILITY_TIMEOUT="2",
         CELERY_UNACKED_RESTORE_INTERVAL="1",
         THERMOGRAM_STALLED_AFTER_SECONDS=str(STALL_SECONDS),
         REPORT_STALLED_AFTER_SECONDS=str(STALL_SECONDS),
+        **extra,
     )
-    env.update(extra)
-    celery = Path(sys.executable).with_name("celery")
-    log = open(log_path, "ab")
-    command = [str(celery), "-A", "survey", "worker", f"--pool={pool}", "-c", "1", "-l", "INFO"]
-    command += ["--without-gossip", "--without-mingle", "--without-heartbeat"]
-    return subprocess.Popen(command, cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT)
-
-
-def _stop(worker: subprocess.Popen) -> None:
-    if worker.poll() is None:
-        worker.terminate()
-        try:
-            worker.wait(timeout=20)
-        except subprocess.TimeoutExpired:
-            worker.kill()
-            worker.wait()
 
 
 def _pool_children(pid: int) -> list[int]:
@@ -177,7 +145,7 @@ def test_it_redelivers_the_task_of_a_killed_worker_to_another_worker(
     redis_url, postgres_url, transactional_db, settings, envelope_survey, tmp_path, publisher
 ):
     """SIGKILL the whole worker mid-render; a second worker finishes the job exactly once."""
-    broker = _broker(redis_url, 14)
+    broker = fresh_broker(redis_url, 14)
     log_path = tmp_path / "workers.log"
     first = _start_worker(broker, postgres_url, str(settings.MEDIA_ROOT), log_path, "solo")
     second = None
@@ -194,9 +162,9 @@ def test_it_redelivers_the_task_of_a_killed_worker_to_another_worker(
         second = _start_worker(broker, postgres_url, str(settings.MEDIA_ROOT), log_path, "solo")
         _wait_for(lambda: _status(thermogram.pk) == Thermogram.Status.READY, 90, 0.25)
     finally:
-        _stop(first)
+        stop_worker(first)
         if second is not None:
-            _stop(second)
+            stop_worker(second)
     _assert_done_once(thermogram, envelope_survey, log_path.read_text(errors="replace"))
 
 
@@ -206,7 +174,7 @@ def test_it_redelivers_the_task_of_a_killed_pool_process(
     redis_url, postgres_url, transactional_db, settings, envelope_survey, tmp_path, publisher
 ):
     """SIGKILL only the pool process mid-render; the task comes back and finishes once."""
-    broker = _broker(redis_url, 15)
+    broker = fresh_broker(redis_url, 15)
     log_path = tmp_path / "worker.log"
     # A stall time longer than the worker takes to notice a dead pool process (its pool
     # upkeep runs every 5 s), so the new delivery finds the row still `processing` with a
@@ -227,7 +195,7 @@ def test_it_redelivers_the_task_of_a_killed_pool_process(
         _kill_mid_processing(thermogram, lambda: _pool_children(worker.pid)[0])
         _wait_for(lambda: _status(thermogram.pk) == Thermogram.Status.READY, 90, 0.25)
     finally:
-        _stop(worker)
+        stop_worker(worker)
     log_text = log_path.read_text(errors="replace")
     assert "WorkerLostError" in log_text, log_text[-4000:]
     assert "Retry in 9" in log_text, log_text[-4000:]
@@ -296,7 +264,7 @@ def test_it_redelivers_a_report_render_of_a_killed_worker_to_another_worker(
     publisher,
 ):
     """SIGKILL the whole worker mid-render of a draft; a second worker renders it once."""
-    broker = _broker(redis_url, 12)
+    broker = fresh_broker(redis_url, 12)
     media_root = str(settings.MEDIA_ROOT)
     log_path = tmp_path / "workers.log"
     report = _report_of(envelope_survey, thermographer)
@@ -313,9 +281,9 @@ def test_it_redelivers_a_report_render_of_a_killed_worker_to_another_worker(
         second = _start_worker(broker, postgres_url, media_root, log_path, "solo")
         _wait_for(lambda: _version_row(version.pk)["sha256"] != "", 60, 0.25)
     finally:
-        _stop(first)
+        stop_worker(first)
         if second is not None:
-            _stop(second)
+            stop_worker(second)
     log_text = log_path.read_text(errors="replace")
     _assert_rendered_once(version, ReportVersion.Status.READY, log_text, media_root)
     assert version.is_draft and version.issued_at is None
@@ -334,7 +302,7 @@ def test_it_redelivers_a_report_render_of_a_killed_pool_process(
     publisher,
 ):
     """SIGKILL only the pool process mid-render of an issue; the version is issued once."""
-    broker = _broker(redis_url, 11)
+    broker = fresh_broker(redis_url, 11)
     media_root = str(settings.MEDIA_ROOT)
     log_path = tmp_path / "worker.log"
     report = _report_of(envelope_survey, reviewer)
@@ -357,7 +325,7 @@ def test_it_redelivers_a_report_render_of_a_killed_pool_process(
         _kill_mid_render(version, lambda: _pool_children(worker.pid)[0])
         _wait_for(lambda: _version_row(version.pk)["sha256"] != "", 60, 0.25)
     finally:
-        _stop(worker)
+        stop_worker(worker)
     log_text = log_path.read_text(errors="replace")
     assert "WorkerLostError" in log_text, log_text[-4000:]
     assert "Retry in 9" in log_text, log_text[-4000:]

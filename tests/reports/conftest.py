@@ -16,12 +16,6 @@ SOUND_C, COLD_C = 18.0, 12.0
 EMISSIVITY, REFLECTED_C = 0.93, 19.0
 
 
-@pytest.fixture(autouse=True)
-def _fast_password_hashing(settings):
-    """Personas are created with a password; the default hasher costs ~0.3 s each."""
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
-
-
 def envelope_field() -> np.ndarray:
     field = np.full((30, 40), SOUND_C, dtype=np.float32)
     field[10:16, 5:11] = COLD_C

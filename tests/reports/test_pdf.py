@@ -6,9 +6,9 @@ import re
 import pytest
 from pypdf import PdfReader
 
+from reports.document import render_pdf
 from reports.models import Report, ReportVersion
-from reports.pdf import content_digest, render_pdf
-from reports.services import survey_results
+from reports.results import content_digest, survey_results
 from survey.models import Conditions, Survey
 from tests.reports.conftest import COLD_C, EMISSIVITY, REFLECTED_C, SOUND_C, kind_survey
 from tests.reports.helpers import dew_point_c, flat, object_c, pdf_text, surface_rh_pct
@@ -182,7 +182,7 @@ def test_it_computes_the_workspace_readings_from_one_query_of_marks(
     report_survey, django_assert_max_num_queries
 ):
     """The report's readings equal thermogram_readings (B's ΔT against A); marks fetched once."""
-    from reports.pdf import json_safe, readings_by_thermogram
+    from reports.results import json_safe, readings_by_thermogram
     from survey.services.readings import thermogram_readings
 
     thermograms = list(report_survey.thermograms.prefetch_related("marks"))

@@ -9,9 +9,9 @@ import pytest
 from django.core.exceptions import PermissionDenied, ValidationError
 from django.utils import timezone
 
-from reports import services
+from reports import rendering, services
 from reports.models import ReportVersion, ShareLink
-from reports.pdf import content_digest
+from reports.results import content_digest, survey_results
 from survey.models import Finding, Survey
 from tests.reports.conftest import kind_survey
 
@@ -49,7 +49,7 @@ def test_it_renders_a_version_only_once(draft_version):
     """A second delivery of the render task finds nothing to claim and changes nothing."""
     draft_version.refresh_from_db()
     before = (draft_version.pdf.name, draft_version.sha256)
-    assert services.report_render(draft_version.pk) is False
+    assert rendering.report_render(draft_version.pk) is False
     draft_version.refresh_from_db()
     assert (draft_version.pdf.name, draft_version.sha256) == before
 
@@ -76,7 +76,7 @@ def test_it_freezes_an_issued_version(
     Finding.objects.filter(survey=report_survey).update(description="Changed after issue.")
     with django_capture_on_commit_callbacks(execute=True):
         draft = services.report_request_draft(report=issued_version.report, user=reviewer.user)
-    assert services.report_render(issued_version.pk) is False
+    assert rendering.report_render(issued_version.pk) is False
     issued_version.refresh_from_db()
     draft.refresh_from_db()
     with issued_version.pdf.open("rb") as handle:
@@ -154,14 +154,14 @@ def test_it_exports_findings_as_csv_with_formulas_quoted(report_survey):
 
 def test_it_exports_the_survey_results_as_json_data(report_survey):
     """Marks with corrected values, findings, conditions and the check, as plain data."""
-    results = services.survey_results(report_survey)
+    results = survey_results(report_survey)
     marks = results["thermograms"][0]["marks"]
     assert [m["label"] for m in marks] == ["A", "B"]
     assert marks[1]["corrected"]["mean"] < marks[1]["apparent"]["mean"]  # ε 0.93, warm refl.
     assert results["findings"][0]["recommendation"].startswith("Open up")
     assert results["conditions"]["indoor_rh_pct"] == 50.0
     assert results["conditions_check"]
-    assert content_digest(results) == content_digest(services.survey_results(report_survey))
+    assert content_digest(results) == content_digest(survey_results(report_survey))
 
 
 def test_it_logs_every_download(issued_version, reviewer):

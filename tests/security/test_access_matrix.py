@@ -25,9 +25,9 @@ from PIL import Image
 
 from reports.models import Report, ReportVersion, ShareLink
 from survey.models import Asset, AuditEvent, Finding, Survey, Thermogram
-from survey.services.findings import criteria_table_copy_defaults
+from survey.services.criteria_tables import criteria_table_copy_defaults
 from survey.services.marks import mark_add
-from survey.services.surveys import thermogram_process
+from survey.services.processing import thermogram_process
 from tests.factories import make_thermogram, synthetic_field
 
 # Strings that exist only in the owning organization's rows; none may reach an outsider.

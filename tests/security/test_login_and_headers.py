@@ -13,7 +13,7 @@ import pytest
 from django.urls import reverse
 
 from survey.models import AuditEvent
-from survey.throttle import MAX_FAILURES, WINDOW
+from survey.services.signin import MAX_FAILURES, WINDOW
 from tests.conftest import PASSWORD
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -62,6 +62,15 @@ def test_it_counts_again_from_a_successful_sign_in(client, thermographer):
     for _ in range(MAX_FAILURES - 1):
         _sign_in(client, "theo", "wrong-password")
     assert _sign_in(client, "theo", PASSWORD).status_code == 302
+
+
+def test_it_does_not_count_a_blank_password_as_a_successful_sign_in(client, thermographer):
+    """A form sent without a password is a failure: it must not restart the count."""
+    for _ in range(MAX_FAILURES - 1):
+        _sign_in(client, "theo", "wrong-password")
+    assert _sign_in(client, "theo", "").status_code == 200
+    assert not AuditEvent.objects.filter(action="login").exists()
+    assert _sign_in(client, "theo", PASSWORD).status_code == 429
 
 
 def test_it_throttles_unknown_usernames_too(client, db):

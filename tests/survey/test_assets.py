@@ -15,11 +15,6 @@ from survey.services.findings import finding_create, finding_set_status, finding
 from tests.survey.findings_data import equipment_survey, hot_and_reference, make_asset
 
 
-@pytest.fixture(autouse=True)
-def _fast_passwords(settings):
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
-
-
 @pytest.fixture
 def asset(org, site):
     return make_asset(org, site)

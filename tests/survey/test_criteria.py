@@ -5,15 +5,10 @@ from xml.dom import minidom
 
 import pytest
 
-from survey import criteria
+from survey import conditions, severity
 from survey.cautions import cautions_for, cautions_for_kinds
 from survey.charts import trend_svg
 from survey.models import Conditions, Survey
-
-
-@pytest.fixture(autouse=True)
-def _fast_passwords(settings):
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
 
 
 def _by_key(checks):
@@ -22,7 +17,7 @@ def _by_key(checks):
 
 def test_it_checks_envelope_conditions_met_and_not_recorded(envelope_survey):
     """20 °C inside, −5 °C outside, 2 m/s wind: ΔT and wind met, the rest not recorded."""
-    checks = _by_key(criteria.conditions_check(envelope_survey))
+    checks = _by_key(conditions.conditions_check(envelope_survey))
     # At least 10 K inside–outside (EN 13187 / ISO 6781, ASTM C1060) [memory].
     assert checks["inside_outside_difference"]["status"] == "met"
     assert checks["inside_outside_difference"]["value"] == pytest.approx(25.0)
@@ -38,13 +33,13 @@ def test_it_reports_unmet_envelope_conditions(envelope_survey):
         outdoor_air_c=14.0, wind_m_s=8.0, precipitation="rain", surfaces_dry=False
     )
     envelope_survey.refresh_from_db()
-    checks = criteria.conditions_check(envelope_survey)
+    checks = conditions.conditions_check(envelope_survey)
     statuses = {c["key"]: c["status"] for c in checks}
     assert statuses["inside_outside_difference"] == "not_met"
     assert statuses["wind"] == "not_met"
     assert statuses["no_precipitation"] == "not_met"
     assert statuses["surfaces_dry"] == "not_met"
-    sentence = criteria.conditions_shortfall(checks)
+    sentence = conditions.conditions_shortfall(checks)
     assert "not met" in sentence and "wind speed" in sentence
 
 
@@ -55,7 +50,7 @@ def test_it_checks_the_electrical_load(electrical_survey, load, status):
     """At least 40 % of rating at the time of the survey (common practice)."""
     Conditions.objects.filter(survey=electrical_survey).update(load_pct=load)
     electrical_survey.refresh_from_db()
-    checks = _by_key(criteria.conditions_check(electrical_survey))
+    checks = _by_key(conditions.conditions_check(electrical_survey))
     assert checks["load"]["status"] == status
 
 
@@ -64,17 +59,17 @@ def test_it_marks_everything_not_recorded_without_conditions(org, site):
     survey = Survey.objects.create(
         organization=org, site=site, kind="mechanical", date=datetime.date(2026, 2, 2)
     )
-    checks = criteria.conditions_check(survey)
+    checks = conditions.conditions_check(survey)
     assert checks and {c["status"] for c in checks} == {"not_recorded"}
 
 
 def test_conditions_criteria_carry_sources_and_confidence():
     """Every criterion names a source and one of the confidence labels."""
-    for kind, items in criteria.CONDITIONS_CRITERIA.items():
+    for kind, items in conditions.CONDITIONS_CRITERIA.items():
         assert items, kind
         for item in items:
             assert item.source and item.requirement
-            assert item.confidence in criteria.CONFIDENCE_LABELS
+            assert item.confidence in conditions.CONFIDENCE_LABELS
 
 
 def test_validate_rows_refuses_overlapping_bands():
@@ -84,29 +79,29 @@ def test_validate_rows_refuses_overlapping_bands():
         {"lower": 90, "upper": None, "level": 2, "action": "Act soon."},
     ]
     with pytest.raises(ValueError, match="overlap"):
-        criteria.validate_rows(rows)
+        severity.validate_rows(rows)
 
 
 def test_validate_rows_refuses_a_level_of_five():
     """Levels are 1 to 4."""
     with pytest.raises(ValueError, match="level"):
-        criteria.validate_rows([{"lower": 0, "upper": None, "level": 5, "action": "x"}])
+        severity.validate_rows([{"lower": 0, "upper": None, "level": 5, "action": "x"}])
 
 
 def test_classify_value_uses_half_open_bands():
     """80 % is mould risk, 100 % condensation, 79.9 % nothing (ISO 13788 criteria)."""
-    rows = criteria.ENVELOPE_TABLE["rows"]
-    assert criteria.classify_value(79.9, rows) is None
-    assert criteria.classify_value(80.0, rows)["level"] == 3
-    assert criteria.classify_value(100.0, rows)["level"] == 2
+    rows = severity.ENVELOPE_TABLE["rows"]
+    assert severity.classify_value(79.9, rows) is None
+    assert severity.classify_value(80.0, rows)["level"] == 3
+    assert severity.classify_value(100.0, rows)["level"] == 2
 
 
 def test_no_finding_below_reads_both_table_shapes():
     """The start of the first band: 1 K for the rise tables [memory, NETA MTS], 80 % RH."""
     from survey.thermal.electrical import DEFAULT_CRITERIA
 
-    assert criteria.no_finding_below(DEFAULT_CRITERIA["similar"]["rows"]) == 1.0
-    assert criteria.no_finding_below(criteria.ENVELOPE_TABLE["rows"]) == 80.0
+    assert severity.no_finding_below(DEFAULT_CRITERIA["similar"]["rows"]) == 1.0
+    assert severity.no_finding_below(severity.ENVELOPE_TABLE["rows"]) == 80.0
 
 
 def test_cautions_for_each_kind_carry_the_trade_cautions():

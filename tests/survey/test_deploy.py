@@ -7,76 +7,14 @@ import subprocess
 import sys
 from pathlib import Path
 
+import yaml
+
 ROOT = Path(__file__).resolve().parents[2]
 
 
-def parse_compose(text: str) -> dict:
-    """Parse the YAML subset docker-compose.yml uses: block mappings and lists, quoted and
-    plain scalars, folded scalars (>), anchors (&name) and merge keys (<<: *name).
-
-    PyYAML is not a dependency; this small reader is enough to check our own file.
-    """
-    lines = [
-        (len(raw) - len(raw.lstrip(" ")), raw.strip())
-        for raw in text.splitlines()
-        if raw.strip() and not raw.lstrip().startswith("#")
-    ]
-    anchors: dict[str, object] = {}
-
-    def scalar(value: str) -> str:
-        if len(value) >= 2 and value[0] == value[-1] and value[0] in "'\"":
-            return value[1:-1]
-        return value
-
-    def block(index: int, indent: int) -> tuple[object, int]:
-        if lines[index][1].startswith("- "):
-            items = []
-            while (
-                index < len(lines)
-                and lines[index][0] == indent
-                and lines[index][1].startswith("- ")
-            ):
-                items.append(scalar(lines[index][1][2:].strip()))
-                index += 1
-            return items, index
-        mapping: dict[str, object] = {}
-        while index < len(lines) and lines[index][0] == indent:
-            key, _, rest = lines[index][1].partition(":")
-            key, rest = scalar(key.strip()), rest.strip()
-            index += 1
-            anchor = None
-            if rest.startswith("&"):
-                anchor, _, rest = rest[1:].partition(" ")
-                rest = rest.strip()
-            deeper = index < len(lines) and lines[index][0] > indent
-            if rest in ("", ">", "|") and deeper:
-                if rest:
-                    parts = []
-                    while index < len(lines) and lines[index][0] > indent:
-                        parts.append(lines[index][1])
-                        index += 1
-                    value: object = " ".join(parts)
-                else:
-                    value, index = block(index, lines[index][0])
-            elif rest.startswith("*"):
-                value = anchors[rest[1:]]
-            else:
-                value = scalar(rest)
-            if anchor:
-                anchors[anchor] = value
-            if key == "<<":
-                for merged_key, merged_value in value.items():
-                    mapping.setdefault(merged_key, merged_value)
-            else:
-                mapping[key] = value
-        return mapping, index
-
-    parsed, _ = block(0, 0)
-    return parsed
-
-
 def compose() -> dict:
-    return parse_compose((ROOT / "docker-compose.yml").read_text())
+    """docker-compose.yml as YAML reads it (PyYAML resolves its anchors and merge keys)."""
+    return yaml.safe_load((ROOT / "docker-compose.yml").read_text())
 
 
 def test_it_defines_the_four_services_with_health_checks():
@@ -87,7 +25,7 @@ def test_it_defines_the_four_services_with_health_checks():
         assert service["healthcheck"]["test"], name
         assert service["restart"] == "unless-stopped", name
     assert "gunicorn" in services["web"]["command"]
-    assert "celery -A survey worker" in services["worker"]["command"]
+    assert "celery -A survey.celery worker" in services["worker"]["command"]
     assert "--max-tasks-per-child" in services["worker"]["command"]
 
 

@@ -8,9 +8,8 @@ import pytest
 from django.core.exceptions import ValidationError
 
 from survey.models import AuditEvent, Conditions, CriteriaTable, Finding, Survey
+from survey.services.criteria_tables import criteria_table_copy_defaults, criteria_table_update
 from survey.services.findings import (
-    criteria_table_copy_defaults,
-    criteria_table_update,
     finding_create,
     finding_set_status,
     finding_suggest,
@@ -23,12 +22,6 @@ from tests.factories import make_thermogram
 from tests.survey.findings_data import block_field, equipment_survey, hot_and_reference
 
 psychrolib.SetUnitSystem(psychrolib.SI)
-
-
-@pytest.fixture(autouse=True)
-def _fast_passwords(settings):
-    """Personas are created per test; a fast hasher keeps the module quick."""
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
 
 
 @pytest.fixture

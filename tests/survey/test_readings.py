@@ -1,7 +1,8 @@
 """Readings of marks: corrected values, uncertainty, ΔT and humidity figures.
 
-Expected values are computed here independently: Planck's law integrated over 8–14 µm with
-scipy (quad + brentq) for the radiometry, psychrolib (ASHRAE, Hyland–Wexler) for moist air.
+Expected values are computed independently: Planck's law integrated over 8–14 µm with scipy
+(quad + brentq, tests/thermal/planck.py) for the radiometry, psychrolib (ASHRAE,
+Hyland–Wexler) for moist air.
 """
 
 import math
@@ -9,36 +10,14 @@ import math
 import numpy as np
 import psychrolib
 import pytest
-from scipy import constants, integrate, optimize
 
 from survey.models import Conditions, Mark
 from survey.services.marks import mark_add, mark_delete
 from survey.services.readings import mark_readings, thermogram_readings
 from tests.factories import make_thermogram
+from tests.thermal.planck import reference_object_c
 
 psychrolib.SetUnitSystem(psychrolib.SI)
-
-
-def band_radiance(t_c: float) -> float:
-    """Blackbody radiance integrated over 8–14 µm, W m⁻² sr⁻¹ (Planck's law, scipy)."""
-    h, c, k = constants.h, constants.c, constants.k
-    t_k = t_c + 273.15
-
-    def spectral(wavelength_m):
-        return 2 * h * c**2 / wavelength_m**5 / math.expm1(h * c / (wavelength_m * k * t_k))
-
-    return integrate.quad(spectral, 8e-6, 14e-6, epsabs=0, epsrel=1e-10)[0]
-
-
-def planck_object_c(apparent_c, emissivity, reflected_c, tau=1.0, atmosphere_c=None):
-    """Solve W(app) = ε τ W(obj) + (1−ε) τ W(refl) + (1−τ) W(atm) for obj with brentq."""
-    atmosphere_c = reflected_c if atmosphere_c is None else atmosphere_c
-    measured = band_radiance(apparent_c)
-    background = (1 - emissivity) * tau * band_radiance(reflected_c) + (1 - tau) * band_radiance(
-        atmosphere_c
-    )
-    target = (measured - background) / (emissivity * tau)
-    return optimize.brentq(lambda t: band_radiance(t) - target, -80, 900, xtol=1e-6)
 
 
 def uniform(survey, value_c, size=(30, 40), **fields):
@@ -56,7 +35,7 @@ def test_mark_readings_corrects_with_the_marks_own_emissivity(electrical_survey,
         emissivity=0.90,
     )
     readings = mark_readings(mark)
-    expected = planck_object_c(80.0, 0.90, 25.0)  # scipy; REFERENCES.md gives 84.999
+    expected = reference_object_c(80.0, 0.90, 25.0)  # scipy; REFERENCES.md gives 84.999
     assert readings["corrected"]["max"] == pytest.approx(expected, abs=0.02)
     assert readings["corrected"]["mean"] == pytest.approx(expected, abs=0.02)
     assert readings["apparent"]["count"] == 9 * 7
@@ -70,7 +49,7 @@ def test_mark_readings_uses_the_thermograms_transmittance(electrical_survey, the
         electrical_survey, 60.0, reflected_c=20.0, transmittance=0.95, atmosphere_c=20.0
     )
     mark = mark_add(thermogram=thermogram, kind="point", points=[[5, 5]], user=thermographer.user)
-    expected = planck_object_c(60.0, 0.95, 20.0, 0.95, 20.0)  # scipy; REFERENCES.md 63.664
+    expected = reference_object_c(60.0, 0.95, 20.0, 0.95, 20.0)  # scipy; REFERENCES.md 63.664
     assert mark_readings(mark)["corrected"]["max"] == pytest.approx(expected, abs=0.02)
 
 
@@ -81,9 +60,11 @@ def test_mark_readings_uncertainty_combines_camera_emissivity_and_reflection(
     thermogram = uniform(electrical_survey, 150.0, reflected_c=20.0)
     mark = mark_add(thermogram=thermogram, kind="point", points=[[5, 5]], user=thermographer.user)
     h = 1e-3
-    d_eps = (planck_object_c(150, 0.95 + h, 20) - planck_object_c(150, 0.95 - h, 20)) / (2 * h)
-    d_refl = (planck_object_c(150, 0.95, 21) - planck_object_c(150, 0.95, 19)) / 2
-    d_app = (planck_object_c(151, 0.95, 20) - planck_object_c(149, 0.95, 20)) / 2
+    d_eps = (reference_object_c(150, 0.95 + h, 20) - reference_object_c(150, 0.95 - h, 20)) / (
+        2 * h
+    )
+    d_refl = (reference_object_c(150, 0.95, 21) - reference_object_c(150, 0.95, 19)) / 2
+    d_app = (reference_object_c(151, 0.95, 20) - reference_object_c(149, 0.95, 20)) / 2
     camera_u = max(2.0, 0.02 * 150.0)  # the survey's "±2 °C or ±2 % of reading" (defaults)
     expected = math.sqrt((d_eps * 0.02) ** 2 + (d_refl * 2.0) ** 2 + (d_app * camera_u) ** 2)
     assert mark_readings(mark)["uncertainty_c"] == pytest.approx(expected, abs=0.1)
@@ -107,7 +88,7 @@ def test_mark_readings_delta_t_against_a_reference_mark(electrical_survey, therm
         reference_mark=reference,
     )
     readings = mark_readings(hot)
-    expected = planck_object_c(55.0, 0.95, 20.0) - planck_object_c(30.0, 0.95, 20.0)  # scipy
+    expected = reference_object_c(55.0, 0.95, 20.0) - reference_object_c(30.0, 0.95, 20.0)  # scipy
     assert readings["reference"] == "A"
     assert readings["delta_t_c"] == pytest.approx(expected, abs=0.03)
     assert readings["delta_t_quantitative"] is True
@@ -126,7 +107,7 @@ def test_mark_readings_delta_t_against_the_air(electrical_survey, envelope_surve
             reference_kind=Mark.ReferenceKind.AMBIENT,
         )
         readings = mark_readings(mark)
-        expected = planck_object_c(40.0, 0.95, 20.0) - air_c  # scipy
+        expected = reference_object_c(40.0, 0.95, 20.0) - air_c  # scipy
         assert readings["reference"] == "ambient"
         assert readings["delta_t_c"] == pytest.approx(expected, abs=0.02)
 

@@ -14,9 +14,10 @@ from PIL import Image
 
 from reports.models import Report, ReportVersion
 from survey.models import Conditions, Survey, Thermogram
-from survey.services import surveys as services
+from survey.services import ingest as ingest_services
+from survey.services import processing, surveys
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
-from tests.survey.brokers import broker_at
+from tests.workers import broker_at
 
 # The field every test file is made from; the expected values are these numbers themselves
 # (written by the test), converted with exact unit definitions: T[°C] = T[K] − 273.15 and
@@ -92,7 +93,7 @@ def upload(name: str, data: bytes) -> SimpleUploadedFile:
 
 def ingest(survey, name, data, user=None, capture=None, **options) -> Thermogram:
     with capture(execute=True):
-        thermogram = services.thermogram_ingest(
+        thermogram = ingest_services.thermogram_ingest(
             survey=survey, uploaded_file=upload(name, data), user=user, **options
         )
     thermogram.refresh_from_db()
@@ -157,7 +158,7 @@ def test_it_stores_the_original_unchanged_with_its_sha256(
 def test_it_rejects_an_unreadable_file_without_storing_anything(envelope_survey, settings):
     """A file of no accepted format is refused before anything is written."""
     with pytest.raises(ValidationError, match="not in a format"):
-        services.thermogram_ingest(
+        ingest_services.thermogram_ingest(
             survey=envelope_survey,
             uploaded_file=upload("notes.bin", b"\x00\x01\x02garbage\x00"),
             user=None,
@@ -170,7 +171,7 @@ def test_it_rejects_a_file_over_the_size_limit(envelope_survey, settings):
     """Files above THERMOGRAM_MAX_UPLOAD_BYTES are refused with the limit named."""
     settings.THERMOGRAM_MAX_UPLOAD_BYTES = 64
     with pytest.raises(ValidationError, match="limit"):
-        services.thermogram_ingest(
+        ingest_services.thermogram_ingest(
             survey=envelope_survey, uploaded_file=upload("wall.npy", _npy()), user=None
         )
     assert not Thermogram.objects.exists()
@@ -179,7 +180,7 @@ def test_it_rejects_a_file_over_the_size_limit(envelope_survey, settings):
 def test_it_rejects_a_colour_picture_without_its_scale(envelope_survey):
     """A false-colour picture without palette and range is refused, not guessed."""
     with pytest.raises(ValidationError, match="colour picture"):
-        services.thermogram_ingest(
+        ingest_services.thermogram_ingest(
             survey=envelope_survey, uploaded_file=upload("shot.png", _false_colour_png()), user=None
         )
 
@@ -190,7 +191,7 @@ def test_it_recognises_a_duplicate_upload_by_its_hash(
     """The same content uploaded twice to a survey is refused the second time."""
     ingest(envelope_survey, "a.npy", _npy(), capture=django_capture_on_commit_callbacks)
     with pytest.raises(ValidationError, match="Already in this survey as a.npy"):
-        services.thermogram_ingest(
+        ingest_services.thermogram_ingest(
             survey=envelope_survey, uploaded_file=upload("copy.npy", _npy()), user=None
         )
     assert envelope_survey.thermograms.count() == 1
@@ -208,7 +209,7 @@ def test_it_reports_each_rejected_file_of_a_batch_by_name(
     ]
     photos = [upload("good.jpg", _jpeg_photo()), upload("lonely.jpg", _jpeg_photo())]
     with django_capture_on_commit_callbacks(execute=True):
-        result = services.thermograms_ingest_batch(
+        result = ingest_services.thermograms_ingest_batch(
             survey=envelope_survey, files=files, photos=photos, user=None
         )
     assert sorted(t.original_name for t in result.created) == ["good.npy", "good.tif"]
@@ -254,7 +255,7 @@ def test_it_reprocesses_a_failed_file_with_new_settings(
     assert thermogram.status == Thermogram.Status.FAILED
     assert "scale" in thermogram.error
     with django_capture_on_commit_callbacks(execute=True):
-        services.thermogram_reprocess(thermogram=thermogram, user=None, unit="K", scale=0.01)
+        ingest_services.thermogram_reprocess(thermogram=thermogram, user=None, unit="K", scale=0.01)
     thermogram.refresh_from_db()
     assert thermogram.status == Thermogram.Status.READY
     np.testing.assert_allclose(thermogram_temperatures(thermogram), FIELD_C, atol=0.006)
@@ -266,7 +267,7 @@ def test_it_processes_idempotently(envelope_survey, django_capture_on_commit_cal
         envelope_survey, "a.npy", _npy(), capture=django_capture_on_commit_callbacks
     )
     processed_at = thermogram.processed_at
-    assert services.thermogram_process(thermogram.pk) is None
+    assert processing.thermogram_process(thermogram.pk) is None
     thermogram.refresh_from_db()
     assert thermogram.status == Thermogram.Status.READY
     assert thermogram.processed_at == processed_at
@@ -276,17 +277,17 @@ def test_it_reclaims_a_stalled_job_but_not_a_live_one(envelope_survey):
     """A job processing with a fresh heartbeat is left alone; a stale one is taken over."""
     from django.utils import timezone
 
-    thermogram = services.thermogram_ingest(
+    thermogram = ingest_services.thermogram_ingest(
         survey=envelope_survey, uploaded_file=upload("a.npy", _npy()), user=None
     )
     Thermogram.objects.filter(pk=thermogram.pk).update(
         status=Thermogram.Status.PROCESSING, heartbeat_at=timezone.now()
     )
-    assert services.thermogram_process(thermogram.pk) is None
+    assert processing.thermogram_process(thermogram.pk) is None
     Thermogram.objects.filter(pk=thermogram.pk).update(
-        heartbeat_at=timezone.now() - services.STALLED_AFTER - datetime.timedelta(minutes=1)
+        heartbeat_at=timezone.now() - processing.STALLED_AFTER - datetime.timedelta(minutes=1)
     )
-    assert services.thermogram_process(thermogram.pk) == Thermogram.Status.READY
+    assert processing.thermogram_process(thermogram.pk) == Thermogram.Status.READY
 
 
 def test_it_marks_a_changed_original_damaged(
@@ -304,7 +305,7 @@ def test_it_marks_a_changed_original_damaged(
     thermogram.refresh_from_db()
     assert thermogram.status == Thermogram.Status.DAMAGED
     Thermogram.objects.filter(pk=thermogram.pk).update(status=Thermogram.Status.QUEUED)
-    assert services.thermogram_process(thermogram.pk) == Thermogram.Status.DAMAGED
+    assert processing.thermogram_process(thermogram.pk) == Thermogram.Status.DAMAGED
 
 
 def test_it_keeps_the_upload_queued_when_the_broker_is_down(
@@ -346,7 +347,7 @@ def test_it_caches_the_array_until_it_is_rewritten(
     first = thermogram_temperatures(thermogram)
     assert thermogram_temperatures(thermogram) is first
     with django_capture_on_commit_callbacks(execute=True):
-        services.thermogram_reprocess(thermogram=thermogram, user=None, unit="C")
+        ingest_services.thermogram_reprocess(thermogram=thermogram, user=None, unit="C")
     thermogram.refresh_from_db()
     again = thermogram_temperatures(thermogram)
     # Read as °C, the °F numbers come back unconverted (same file, other unit).
@@ -361,19 +362,19 @@ def test_it_rerenders_the_preview_when_the_palette_changes(
         envelope_survey, "a.npy", _npy(), capture=django_capture_on_commit_callbacks
     )
     before = Path(thermogram.preview.path).read_bytes()
-    services.thermogram_update_settings(
+    surveys.thermogram_update_settings(
         thermogram=thermogram, user=None, palette="grey white-warm", span_low_c=10, span_high_c=30
     )
     assert Path(thermogram.preview.path).read_bytes() != before
     with pytest.raises(ValidationError, match="warmer"):
-        services.thermogram_update_settings(
+        surveys.thermogram_update_settings(
             thermogram=thermogram, user=None, span_low_c=30, span_high_c=10
         )
 
 
 def test_it_creates_a_survey_with_its_conditions(org, site, owner):
     """survey_create writes the survey and its Conditions row together."""
-    survey = services.survey_create(
+    survey = surveys.survey_create(
         organization=org,
         user=owner.user,
         site=site,
@@ -387,7 +388,7 @@ def test_it_creates_a_survey_with_its_conditions(org, site, owner):
 def test_it_writes_nothing_when_the_conditions_are_invalid(org, site, owner):
     """An RH above 100 % rolls back the whole survey."""
     with pytest.raises(ValidationError):
-        services.survey_create(
+        surveys.survey_create(
             organization=org,
             user=owner.user,
             site=site,
@@ -405,7 +406,7 @@ def test_it_refuses_a_site_of_another_organization(org, outsider, other_org, own
     client = Client.objects.create(organization=other_org, name="Elsewhere")
     foreign = Site.objects.create(organization=other_org, client=client, name="Far away")
     with pytest.raises(ValidationError):
-        services.survey_create(
+        surveys.survey_create(
             organization=org,
             user=owner.user,
             site=foreign,
@@ -423,12 +424,12 @@ def test_it_refuses_to_delete_a_survey_with_an_issued_report(envelope_survey, ow
         report=report, version=1, is_draft=False, status=ReportVersion.Status.ISSUED
     )
     with pytest.raises(ValidationError, match="issued report"):
-        services.survey_soft_delete(survey=envelope_survey, user=owner.user)
+        surveys.survey_soft_delete(survey=envelope_survey, user=owner.user)
     envelope_survey.refresh_from_db()
     assert envelope_survey.status == Survey.Status.ACTIVE
     version.status = ReportVersion.Status.READY
     version.save()
-    services.survey_soft_delete(survey=envelope_survey, user=owner.user)
+    surveys.survey_soft_delete(survey=envelope_survey, user=owner.user)
     assert Survey.objects.get(pk=envelope_survey.pk).status == Survey.Status.DELETED
-    services.survey_restore(survey=envelope_survey, user=owner.user)
+    surveys.survey_restore(survey=envelope_survey, user=owner.user)
     assert Survey.objects.get(pk=envelope_survey.pk).status == Survey.Status.ACTIVE

@@ -1,31 +1,19 @@
 """Upload to ready through a real Celery worker process, Redis and PostgreSQL."""
 
 import io
-import os
-import subprocess
-import sys
 import time
 from pathlib import Path
-from urllib.parse import urlparse, urlunparse
 
 import numpy as np
 import pytest
-from django.conf import settings as django_settings
 from django.core.files.uploadedfile import SimpleUploadedFile
 
 from survey.models import Thermogram
-from survey.services.surveys import thermogram_ingest
-from tests.survey.brokers import broker_at
+from survey.services.ingest import thermogram_ingest
+from tests.workers import broker_at, fresh_broker, start_worker, stop_worker
 
-ROOT = Path(__file__).resolve().parents[2]
 # Redis database of this test only, so that no other worker on the machine takes its tasks.
-TEST_REDIS_DB = "/13"
-
-
-def _database_url(postgres_url: str) -> str:
-    """The URL of the test database pytest-django created (test_<name>)."""
-    parsed = urlparse(postgres_url)
-    return urlunparse(parsed._replace(path="/" + django_settings.DATABASES["default"]["NAME"]))
+TEST_REDIS_DB = 13
 
 
 @pytest.mark.services
@@ -36,41 +24,9 @@ def test_it_processes_an_upload_in_a_real_worker(
     """A file uploaded with the broker up is decoded by a separate worker process."""
     from survey.celery import app
 
-    broker = urlunparse(urlparse(redis_url)._replace(path=TEST_REDIS_DB))
-    subprocess.run(
-        ["redis-cli", "-u", broker, "FLUSHDB"], capture_output=True, timeout=10, check=False
-    )
-    env = dict(
-        os.environ,
-        DATABASE_URL=_database_url(postgres_url),
-        REDIS_URL=broker,
-        CELERY_EAGER="0",
-        MEDIA_ROOT=str(settings.MEDIA_ROOT),
-        DJANGO_SETTINGS_MODULE="survey.settings",
-    )
+    broker = fresh_broker(redis_url, TEST_REDIS_DB)
     log_path = tmp_path / "worker.log"
-    celery = Path(sys.executable).with_name("celery")
-    with open(log_path, "wb") as log:
-        worker = subprocess.Popen(
-            [
-                str(celery),
-                "-A",
-                "survey",
-                "worker",
-                "--pool=solo",
-                "-c",
-                "1",
-                "-l",
-                "INFO",
-                "--without-gossip",
-                "--without-mingle",
-                "--without-heartbeat",
-            ],
-            cwd=ROOT,
-            env=env,
-            stdout=log,
-            stderr=subprocess.STDOUT,
-        )
+    worker = start_worker(broker, postgres_url, str(settings.MEDIA_ROOT), log_path)
     settings.CELERY_TASK_ALWAYS_EAGER = False
     app.conf.task_always_eager = False
     try:
@@ -90,12 +46,7 @@ def test_it_processes_an_upload_in_a_real_worker(
                 time.sleep(0.25)
     finally:
         app.conf.task_always_eager = True
-        worker.terminate()
-        try:
-            worker.wait(timeout=20)
-        except subprocess.TimeoutExpired:
-            worker.kill()
-            worker.wait()
+        stop_worker(worker)
     log_text = log_path.read_text(errors="replace")
     assert thermogram.status == Thermogram.Status.READY, log_text[-3000:]
     # The values written into the file above.

@@ -17,7 +17,8 @@ from survey.thermal.decode import (
     detect_format,
     read_temperatures,
 )
-from survey.thermal.render import PALETTES, render
+from survey.thermal.palettes import PALETTES, render
+from tests.hypothesis_profiles import examples
 
 
 def field(height=48, width=64, low=-5.0, high=85.0, seed=0):
@@ -453,7 +454,7 @@ def test_read_temperatures_palette_needs_a_picture():
 PREFIXES = [b"", b"II*\x00", b"MM\x00*", b"\x89PNG\r\n\x1a\n", b"\xff\xd8\xff", b"\x93NUMPY"]
 
 
-@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(150), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(prefix=st.sampled_from(PREFIXES), body=st.binary(max_size=400))
 def test_read_temperatures_fuzz_raises_only_format_errors(prefix, body):
     """Any bytes either decode to a 2-D float32 array or raise ThermogramFormatError."""
@@ -465,7 +466,7 @@ def test_read_temperatures_fuzz_raises_only_format_errors(prefix, body):
         assert result.dtype == np.float32 and result.ndim == 2
 
 
-@settings(max_examples=60, deadline=None)
+@settings(max_examples=examples(60), deadline=None)
 @given(data=st.data())
 def test_read_temperatures_fuzz_mutated_valid_files(data):
     """Valid TIFF/PNG/.npy files with a few bytes changed never escape as other errors."""
@@ -489,7 +490,7 @@ def test_read_temperatures_fuzz_mutated_valid_files(data):
     assert result.dtype == np.float32 and result.ndim == 2
 
 
-@settings(max_examples=60, deadline=None)
+@settings(max_examples=examples(60), deadline=None)
 @given(
     rows=st.lists(
         st.lists(st.floats(-50, 500, allow_nan=False, width=32), min_size=3, max_size=3),

@@ -20,6 +20,7 @@ from survey.thermal.electrical import (
     load_is_too_low,
     round_rise_c,
 )
+from tests.hypothesis_profiles import examples
 
 
 @pytest.mark.parametrize(
@@ -336,7 +337,7 @@ def test_default_criteria_is_plain_json_data_and_copies_are_independent():
     assert DEFAULT_CRITERIA["ambient"]["rows"][1]["level"] == 4
 
 
-@settings(max_examples=100, deadline=None)
+@settings(max_examples=examples(100), deadline=None)
 @given(
     a=st.floats(min_value=-20.0, max_value=200.0),
     b=st.floats(min_value=-20.0, max_value=200.0),
@@ -354,7 +355,7 @@ def test_classify_rise_never_gets_less_urgent_as_the_rise_grows(a, b, basis):
     assert urgency(high) <= urgency(low)
 
 
-@settings(max_examples=50, deadline=None)
+@settings(max_examples=examples(50), deadline=None)
 @given(
     rise=st.lists(st.floats(min_value=0.0, max_value=50.0), min_size=1, max_size=4),
     load=st.lists(st.floats(min_value=1.0, max_value=150.0), min_size=1, max_size=3),

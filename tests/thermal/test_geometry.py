@@ -16,6 +16,7 @@ from survey.thermal.geometry import (
     pixel_footprint_m,
 )
 from survey.thermal.marks import mark_mask
+from tests.hypothesis_profiles import examples
 
 
 def test_instantaneous_fov_of_a_24_degree_320_pixel_camera():
@@ -65,7 +66,7 @@ def test_geometry_invalid_input_raises_naming_the_parameter(call, parameter):
         call()
 
 
-@settings(max_examples=50, deadline=None)
+@settings(max_examples=examples(50), deadline=None)
 @given(
     distances=st.lists(st.floats(min_value=0.1, max_value=100.0), min_size=1, max_size=5),
     ifov_mrad=st.floats(min_value=0.1, max_value=10.0),

@@ -21,6 +21,7 @@ from survey.thermal.heat_transfer import (
     conduction_temperature_difference,
     surface_heat_flux,
 )
+from tests.hypothesis_profiles import examples
 
 NU_300 = 15.89e-6
 K_300 = 26.3e-3
@@ -233,7 +234,7 @@ def test_heat_transfer_invalid_input_raises_naming_the_parameter(call, parameter
 geometries = st.sampled_from(["vertical", "horizontal_up", "horizontal_down", "cylinder"])
 
 
-@settings(max_examples=80, deadline=None)
+@settings(max_examples=examples(80), deadline=None)
 @given(
     a=st.floats(min_value=-30.0, max_value=200.0),
     b=st.floats(min_value=-30.0, max_value=200.0),
@@ -252,7 +253,7 @@ def test_surface_heat_flux_grows_with_surface_temperature(a, b, geometry, size_m
     assert surface_heat_flux(15.0, *args)["total_w_m2"] == pytest.approx(0.0, abs=1e-9)
 
 
-@settings(max_examples=30, deadline=None)
+@settings(max_examples=examples(30), deadline=None)
 @given(
     surface=st.lists(st.floats(min_value=-20.0, max_value=150.0), min_size=1, max_size=4),
     wind=st.lists(st.floats(min_value=0.0, max_value=15.0), min_size=1, max_size=3),

@@ -26,6 +26,7 @@ from survey.thermal.psychrometrics import (
     surface_rh,
     temperature_factor,
 )
+from tests.hypothesis_profiles import examples
 
 psychrolib.SetUnitSystem(psychrolib.SI)
 
@@ -305,7 +306,7 @@ temperatures = st.floats(min_value=-30.0, max_value=50.0)
 humidities = st.floats(min_value=1.0, max_value=100.0)
 
 
-@settings(max_examples=60, deadline=None)
+@settings(max_examples=examples(60), deadline=None)
 @given(t_air_c=temperatures, rh_a=humidities, rh_b=humidities)
 def test_dew_point_rises_with_rh_and_never_exceeds_the_air(t_air_c, rh_a, rh_b):
     """More humid air has a higher dew point, never above the air temperature."""
@@ -315,7 +316,7 @@ def test_dew_point_rises_with_rh_and_never_exceeds_the_air(t_air_c, rh_a, rh_b):
     assert dew_point(t_air_c, high) <= t_air_c + 1e-7
 
 
-@settings(max_examples=60, deadline=None)
+@settings(max_examples=examples(60), deadline=None)
 @given(
     t_air_c=temperatures,
     rh_pct=humidities,
@@ -329,7 +330,7 @@ def test_surface_rh_falls_as_the_surface_warms(t_air_c, rh_pct, t_a, t_b):
     assert surface_rh(t_air_c, rh_pct, warm) <= surface_rh(t_air_c, rh_pct, cold) + 1e-9
 
 
-@settings(max_examples=30, deadline=None)
+@settings(max_examples=examples(30), deadline=None)
 @given(
     t_air=st.lists(temperatures, min_size=1, max_size=4),
     rh=st.lists(humidities, min_size=1, max_size=3),
@@ -348,7 +349,7 @@ def test_dew_point_and_surface_rh_broadcast_like_numpy(t_air, rh):
             assert surface[i, j] == pytest.approx(surface_rh(t, r, 10.0), rel=1e-12)
 
 
-@settings(max_examples=40, deadline=None)
+@settings(max_examples=examples(40), deadline=None)
 @given(rh_pct=st.one_of(st.floats(max_value=-1e-6), st.floats(min_value=100.000001)))
 def test_surface_rh_refuses_rh_outside_0_to_100(rh_pct):
     """Any RH outside [0, 100] % (or NaN) raises ValueError naming rh_pct."""

@@ -1,19 +1,17 @@
 """Radiometric correction against an independent Planck integration with scipy.
 
-The reference solver below integrates Planck's law over 8–14 µm with scipy.integrate.quad and
-solves the measurement equation with scipy.optimize.brentq, using scipy.constants: it shares
-no code and no table with the project.
+The reference solver (tests/thermal/planck.py) integrates Planck's law over 8–14 µm with
+scipy.integrate.quad and solves the measurement equation with scipy.optimize.brentq, using
+scipy.constants: it shares no code and no table with the project.
 """
 
 import math
-from functools import cache
 
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import constants
-from scipy.integrate import quad
 from scipy.optimize import brentq
 
 from survey.thermal.radiometry import (
@@ -24,41 +22,8 @@ from survey.thermal.radiometry import (
     object_temperature,
     object_temperature_uncertainty,
 )
-
-C1 = 2.0 * constants.h * constants.c**2
-C2 = constants.h * constants.c / constants.k
-
-
-@cache
-def reference_radiance(t_c: float, band: str) -> float:
-    """Band radiance by adaptive quadrature (lwir) or σT⁴ (total), scipy only."""
-    t_k = t_c + 273.15
-    if band == "total":
-        return constants.sigma * t_k**4
-    value, _ = quad(
-        lambda wavelength: C1 / wavelength**5 / math.expm1(C2 / (wavelength * t_k)),
-        8e-6,
-        14e-6,
-        epsabs=0.0,
-        epsrel=1e-12,
-    )
-    return value
-
-
-def reference_object_c(apparent, eps, reflected, tau=1.0, atmosphere=None, band="lwir"):
-    """Solve the measurement equation for the object temperature with brentq."""
-    atmosphere = reflected if atmosphere is None else atmosphere
-    measured = reference_radiance(apparent, band)
-    background = (1 - eps) * tau * reference_radiance(reflected, band) + (
-        1 - tau
-    ) * reference_radiance(atmosphere, band)
-    return brentq(
-        lambda t: eps * tau * reference_radiance(t, band) + background - measured,
-        -99.0,
-        999.0,
-        xtol=1e-9,
-    )
-
+from tests.hypothesis_profiles import examples
+from tests.thermal.planck import reference_object_c, reference_radiance
 
 CASES = [
     # apparent, emissivity, reflected, transmittance, atmosphere
@@ -265,7 +230,7 @@ emissivities = st.floats(min_value=0.5, max_value=1.0)
 reflected_temperatures = st.floats(min_value=-40.0, max_value=60.0)
 
 
-@settings(max_examples=80, deadline=None)
+@settings(max_examples=examples(80), deadline=None)
 @given(
     object_c=temperatures,
     eps=emissivities,
@@ -281,7 +246,7 @@ def test_apparent_and_object_temperature_round_trip(object_c, eps, reflected, ta
     assert back == pytest.approx(object_c, abs=1e-3)
 
 
-@settings(max_examples=80, deadline=None)
+@settings(max_examples=examples(80), deadline=None)
 @given(
     a=st.floats(min_value=0.0, max_value=300.0),
     b=st.floats(min_value=0.0, max_value=300.0),
@@ -295,7 +260,7 @@ def test_object_temperature_rises_with_apparent_temperature(a, b, eps, reflected
     assert object_temperature(low, eps, reflected) <= object_temperature(high, eps, reflected)
 
 
-@settings(max_examples=30, deadline=None)
+@settings(max_examples=examples(30), deadline=None)
 @given(
     apparent=st.lists(st.floats(min_value=0.0, max_value=200.0), min_size=1, max_size=4),
     emissivity=st.lists(emissivities, min_size=1, max_size=3),
@@ -312,7 +277,7 @@ def test_object_temperature_broadcasts_like_numpy(apparent, emissivity):
             assert grid[i, j] == pytest.approx(object_temperature(t, e, 10.0), abs=1e-9)
 
 
-@settings(max_examples=40, deadline=None)
+@settings(max_examples=examples(40), deadline=None)
 @given(eps=st.one_of(st.floats(max_value=0.0), st.floats(min_value=1.000001)))
 def test_object_temperature_refuses_emissivity_outside_0_to_1(eps):
     """Any emissivity outside (0, 1] (or NaN) raises ValueError naming emissivity."""

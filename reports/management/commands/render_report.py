@@ -23,7 +23,7 @@ class Command(BaseCommand):
         )
 
     def handle(self, *args, survey_id: int, output: str, image_format: str, **options):
-        from reports.pdf import render_pdf
+        from reports.document import render_pdf
         from reports.services import next_final_version
 
         survey = Survey.objects.filter(pk=survey_id, status=Survey.Status.ACTIVE).first()

@@ -17,7 +17,7 @@ from django.core.management.base import BaseCommand
 from django.db import transaction
 
 from survey.models import Asset, Client, Member, Organization, Site, Survey, Thermogram
-from survey.services import surveys as services
+from survey.services import ingest, processing, surveys
 
 PASSWORD = "demo-thermal-2026"
 FICTION = "Fictional demonstration data: every name, place and image here is invented."
@@ -335,12 +335,12 @@ class Command(BaseCommand):
         ):
             client = Client.objects.filter(organization=org, name=client_name).first()
             if client is None:
-                client = services.client_create(
+                client = surveys.client_create(
                     organization=org, user=admin.user, name=client_name, address=FICTION
                 )
             site = Site.objects.filter(organization=org, client=client, name=site_name).first()
             if site is None:
-                site = services.site_create(
+                site = surveys.site_create(
                     client=client, user=admin.user, name=site_name, address=address
                 )
             sites.append(site)
@@ -350,7 +350,7 @@ class Command(BaseCommand):
         survey = Survey.objects.filter(organization=org, site=site, title=title).first()
         if survey is not None:
             return survey
-        return services.survey_create(
+        return surveys.survey_create(
             organization=org,
             user=admin.user,
             site=site,
@@ -366,7 +366,7 @@ class Command(BaseCommand):
         asset = Asset.objects.filter(site=site, name=name).first()
         if asset is not None:
             return asset
-        return services.asset_create(
+        return surveys.asset_create(
             site=site, user=admin.user, name=name, kind=kind, tag=tag, notes=FICTION
         )
 
@@ -374,7 +374,7 @@ class Command(BaseCommand):
         thermogram = survey.thermograms.filter(original_name=name).first()
         if thermogram is None:
             with transaction.atomic():
-                thermogram = services.thermogram_ingest(
+                thermogram = ingest.thermogram_ingest(
                     survey=survey,
                     uploaded_file=SimpleUploadedFile(name, data),
                     user=admin.user,
@@ -384,7 +384,7 @@ class Command(BaseCommand):
                 thermogram.note = FICTION
                 thermogram.save(update_fields=["title", "note"])
         # Process here too, so marks can be measured even when a worker would do it later.
-        services.thermogram_process(thermogram.pk)
+        processing.thermogram_process(thermogram.pk)
         thermogram.refresh_from_db()
         if not thermogram.is_ready:
             raise RuntimeError(

@@ -12,7 +12,8 @@ from django.core.files import File
 from django.core.management.base import BaseCommand, CommandError
 
 from survey.models import Survey
-from survey.services.surveys import thermogram_ingest, thermogram_update_settings
+from survey.services.ingest import thermogram_ingest
+from survey.services.surveys import thermogram_update_settings
 
 ACCEPTED_SUFFIXES = {".tif", ".tiff", ".png", ".jpg", ".jpeg", ".csv", ".tsv", ".txt", ".npy"}
 

@@ -3,7 +3,8 @@ from django.db.models import Q
 from django.utils import timezone
 
 from survey.models import Thermogram
-from survey.services.surveys import STALLED_AFTER, thermogram_publish
+from survey.services.ingest import thermogram_publish
+from survey.services.processing import STALLED_AFTER
 
 
 class Command(BaseCommand):

@@ -1,7 +1,7 @@
 from django.core.management.base import BaseCommand
 
 from survey.models import Thermogram
-from survey.services.surveys import thermogram_verify_original
+from survey.services.processing import thermogram_verify_original
 
 
 class Command(BaseCommand):

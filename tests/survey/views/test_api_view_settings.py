@@ -13,9 +13,10 @@ from hypothesis import strategies as st
 from PIL import Image
 
 from survey.models import AuditEvent
-from survey.services.surveys import thermogram_process
-from survey.thermal.render import render
+from survey.services.processing import thermogram_process
+from survey.thermal.palettes import render
 from tests.factories import make_thermogram, synthetic_field
+from tests.hypothesis_profiles import examples
 
 
 def patch(client, thermogram, data, raw: str | None = None):
@@ -196,7 +197,7 @@ VIEW_BODY = st.fixed_dictionaries(
 
 
 @settings(
-    max_examples=80,
+    max_examples=examples(80),
     deadline=None,
     suppress_health_check=[HealthCheck.function_scoped_fixture],
     database=None,

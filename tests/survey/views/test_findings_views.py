@@ -8,11 +8,6 @@ from survey.services.findings import finding_create, finding_suggest
 from tests.survey.findings_data import equipment_survey, hot_and_reference, make_asset
 
 
-@pytest.fixture(autouse=True)
-def _fast_passwords(settings):
-    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
-
-
 @pytest.fixture
 def setup(org, site, thermographer):
     asset = make_asset(org, site)

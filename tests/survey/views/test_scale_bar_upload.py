@@ -10,7 +10,7 @@ from PIL import Image
 
 from survey.models import Thermogram
 from survey.services.arrays import thermogram_temperatures
-from survey.thermal.render import render
+from survey.thermal.palettes import render
 from tests.factories import synthetic_field
 
 LOW_C, HIGH_C = 15.0, 45.0
@@ -166,7 +166,7 @@ def test_it_refuses_a_bad_scale_bar_box_given_to_the_service(envelope_survey, th
     """Callers other than the form (imports, scripts) get the same clear refusal, nothing stored."""
     from django.core.exceptions import ValidationError
 
-    from survey.services.surveys import thermogram_ingest
+    from survey.services.ingest import thermogram_ingest
 
     _, png = picture_with_scale_bar()
     with pytest.raises(ValidationError, match="scale bar box"):

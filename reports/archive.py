@@ -26,6 +26,8 @@ from django.core.serializers.json import DjangoJSONEncoder
 from django.db import models, transaction
 from django.utils import timezone
 
+from reports.models import Report, ReportVersion
+from reports.results import survey_results
 from survey.models import (
     Asset,
     Client,
@@ -126,9 +128,6 @@ def _archive_name(folder: str, index: int, name: str) -> str:
 
 def survey_export(*, survey: Survey, user: AbstractBaseUser | None) -> bytes:
     """The survey as zip bytes: manifest.json, originals/, photos/, reports/."""
-    from reports.models import ReportVersion
-    from reports.services import survey_results
-
     buffer = io.BytesIO()
     files: dict[str, bytes] = {}
     thermograms = list(survey.thermograms.select_related("asset").order_by("sequence", "id"))
@@ -457,8 +456,6 @@ class _Importer:
         estimate.save()
 
     def report(self, survey: Survey, entry: dict) -> None:
-        from reports.models import Report, ReportVersion
-
         number = entry["number"]
         if Report.objects.filter(organization=self.organization, number=number).exists():
             raise ValidationError(
@@ -499,7 +496,7 @@ def survey_import(
     username; a thermographer or reviewer unknown here is left empty. Raises ValidationError
     with the reason, writing nothing, when the archive is damaged or does not fit.
     """
-    from survey.services.surveys import thermogram_enqueue
+    from survey.services.ingest import thermogram_enqueue
 
     manifest, files = _open_archive(data)
     importer = _Importer(organization, user, manifest, files)

@@ -4,8 +4,8 @@ from django.contrib.auth import get_user_model
 from django.core.exceptions import ValidationError
 from django.core.management.base import BaseCommand, CommandError
 
+from reports.archive import survey_import
 from survey.models import Organization
-from survey.services.archive import survey_import
 
 
 class Command(BaseCommand):

@@ -1,227 +1,35 @@
-"""Build a report's PDF: collect the survey's numbers, draw pictures at print size, lay out.
+"""A report's PDF: gather the survey's results and pictures, fill the template, lay it out.
 
-Pictures go into the PDF as high-quality JPEG (quality 90, 4:4:4) at about 170 dpi of their
-printed size: WeasyPrint re-encodes every PNG it embeds but copies JPEG through, and a
-camera-size picture would only make the file slow and heavy. Measured on 12 thermograms with
-photos (14 pages, a loaded 2-core machine, best of 3): WeasyPrint's part took 2.2 s with
-JPEG and 5.8 s with PNG (2.7x), the file 2.8 MB against 5.8 MB.
+The numbers come from reports/results.py, the pictures from reports/pictures.py;
+WeasyPrint lays out templates/reports/pdf/report.html and reads pictures only from memory
+(reports/fetcher.py).
 """
 
 import contextlib
-import functools
 import gc
-import hashlib
-import io
-import json
-import math
 import threading
 from collections import Counter
 from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 from django.template.loader import render_to_string
 from django.utils import timezone
-from django.utils.safestring import mark_safe
-from PIL import Image, ImageOps
 
 from reports.fetcher import BASE_URL, LocalOnlyFetcher
 from reports.models import ReportVersion
+from reports.pictures import Pictures, draft_watermark_png, draw_thermogram, trend_chart
+from reports.results import content_digest, readings_by_thermogram, survey_results
+from survey.cautions import cautions_for
 from survey.models import Finding, Survey, Thermogram
+from survey.severity import category_label
 
-PRINT_DPI = 170
-THERMOGRAM_WIDTH_MM = 100
-PHOTO_WIDTH_MM = 72
-THUMBNAIL_WIDTH_MM = 34
-JPEG_QUALITY = 90
 TOP_FINDINGS = 5
 DRAWING_THREADS = 2
 GC_THRESHOLD = 10_000
 
 Progress = Callable[[str, int], None]
 
-
-def mm_to_px(mm: float, dpi: int = PRINT_DPI) -> int:
-    return max(1, round(mm / 25.4 * dpi))
-
-
-@dataclass
-class Pictures:
-    """Pictures made for one render, served to WeasyPrint by LocalOnlyFetcher."""
-
-    image_format: str = "jpeg"
-    files: dict[str, tuple[bytes, str]] = field(default_factory=dict)
-
-    def add(self, name: str, image: Image.Image, *, lossless: bool = False) -> str:
-        buffer = io.BytesIO()
-        if self.image_format == "png" or lossless:
-            image.save(buffer, "PNG")
-            name, mime = f"{name}.png", "image/png"
-        else:
-            # 4:4:4 keeps the thin mark outlines and labels sharp.
-            image.convert("RGB").save(buffer, "JPEG", quality=JPEG_QUALITY, subsampling=0)
-            name, mime = f"{name}.jpg", "image/jpeg"
-        return self.put(name, buffer.getvalue(), mime)
-
-    def put(self, name: str, data: bytes, mime: str) -> str:
-        self.files[name] = (data, mime)
-        return f"{BASE_URL}generated/{name}"
-
-
-# --- numbers -------------------------------------------------------------------------------
-
-
-_PLAIN = frozenset({str, int, bool, type(None)})
-
-
-def json_safe(value):
-    """Plain JSON types: numpy scalars to Python, NaN and infinities to None.
-
-    The exact-type checks come first: a 50-thermogram survey holds some 100,000 numbers
-    (the profiles of its line marks), and this runs over all of them.
-    """
-    kind = type(value)
-    if kind is float:
-        return value if math.isfinite(value) else None
-    if kind in _PLAIN:
-        return value
-    if kind is list or kind is tuple:
-        return [json_safe(item) for item in value]
-    if kind is dict:
-        return {str(key): json_safe(item) for key, item in value.items()}
-    if isinstance(value, dict):
-        return {str(key): json_safe(item) for key, item in value.items()}
-    if isinstance(value, list | tuple):
-        return [json_safe(item) for item in value]
-    if hasattr(value, "item") and not isinstance(value, str | bytes):
-        value = value.item() if getattr(value, "ndim", 0) == 0 else value.tolist()
-        return json_safe(value)
-    if isinstance(value, float) and not math.isfinite(value):
-        return None
-    return value
-
-
-def readings_by_thermogram(survey: Survey, thermograms) -> dict[int, list[dict]]:
-    """The readings of every ready thermogram with marks, JSON-safe, computed once.
-
-    `thermograms` should come with their marks prefetched: the readings are then made from
-    those rows instead of one query per thermogram.
-    """
-    return {
-        thermogram.pk: json_safe(_thermogram_readings(thermogram))
-        for thermogram in thermograms
-        if thermogram.is_ready and thermogram.marks.all()
-    }
-
-
-def _thermogram_readings(thermogram: Thermogram) -> list[dict]:
-    """survey.services.readings.thermogram_readings, on the thermogram's prefetched marks."""
-    from survey.services.readings import mark_readings
-
-    marks = sorted(thermogram.marks.all(), key=lambda m: (len(m.label), m.label))
-    by_pk = {mark.pk: mark for mark in marks}
-    for mark in marks:
-        mark.thermogram = thermogram
-        if mark.reference_mark_id in by_pk:
-            mark.reference_mark = by_pk[mark.reference_mark_id]
-    # Referenced marks first, so each reference's readings are computed once.
-    referenced = {m.reference_mark_id for m in marks if m.reference_mark_id}
-    by_id: dict[int, dict] = {}
-    for mark in sorted(marks, key=lambda m: m.pk not in referenced):
-        by_id[mark.pk] = mark_readings(mark, by_id=by_id)
-    return [by_id[mark.pk] for mark in marks]
-
-
-def content_digest(results: dict) -> str:
-    """sha256 of the survey results in canonical JSON: what the report was built from."""
-    canonical = json.dumps(results, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
-    return hashlib.sha256(canonical.encode()).hexdigest()
-
-
-# --- pictures ------------------------------------------------------------------------------
-
-
-def thermogram_picture(thermogram: Thermogram, width_px: int) -> Image.Image:
-    """The thermogram in its palette with labelled marks and a scale bar, `width_px` wide."""
-    from survey.services.arrays import thermogram_temperatures
-    from survey.thermal.render import render_picture
-
-    low, high = thermogram.span_low_c, thermogram.span_high_c
-    if low is None or high is None or high <= low:
-        low = high = None  # render_picture picks the automatic span
-    return render_picture(
-        thermogram_temperatures(thermogram),
-        thermogram.palette,
-        low,
-        high,
-        marks=list(thermogram.marks.all()),
-        width_px=width_px,
-    )
-
-
-def _draw_thermogram(thermogram: Thermogram, pictures: Pictures, *, thumbnail: bool) -> dict:
-    """One thermogram's picture, photo and summary thumbnail, encoded, as report URLs.
-
-    Runs in a worker thread: numpy's colouring and Pillow's resampling and JPEG encoder
-    release the GIL, so two thermograms are drawn at once. Touches no database (the marks
-    are prefetched) and only adds to `pictures.files`.
-    """
-    picture = thermogram_picture(thermogram, mm_to_px(THERMOGRAM_WIDTH_MM))
-    photo = photo_picture(thermogram, mm_to_px(PHOTO_WIDTH_MM))
-    key = thermogram.pk
-    thumb = thumbnail_of(picture, mm_to_px(THUMBNAIL_WIDTH_MM)) if thumbnail else None
-    return {
-        "picture": pictures.add(f"thermogram-{key}", picture),
-        "photo": pictures.add(f"photo-{key}", photo) if photo else None,
-        "thumb": pictures.add(f"thumb-{key}", thumb) if thumb else None,
-    }
-
-
-@functools.cache
-def draft_watermark_png() -> bytes:
-    """The DRAFT watermark as PNG, made once per process (the same for every report)."""
-    buffer = io.BytesIO()
-    draft_watermark().save(buffer, "PNG")
-    return buffer.getvalue()
-
-
-def draft_watermark() -> Image.Image:
-    """A transparent picture of the word DRAFT: a picture, so the PDF's text stays clean.
-
-    About 100 dpi at its printed width: a pale word of 4 cm letters needs no more, and
-    every pixel is decoded and compressed again when the PDF is written.
-    """
-    from PIL import ImageDraw
-
-    from survey.thermal.render import font
-
-    word = Image.new("LA", (700, 180), (0, 0))
-    ImageDraw.Draw(word).text(
-        (350, 90), "DRAFT", font=font(150, bold=True), fill=(0, 36), anchor="mm"
-    )
-    return word.rotate(32, expand=True, resample=Image.Resampling.BICUBIC)
-
-
-def photo_picture(thermogram: Thermogram, width_px: int) -> Image.Image | None:
-    if not thermogram.photo:
-        return None
-    try:
-        with thermogram.photo.open("rb") as handle:
-            image = ImageOps.exif_transpose(Image.open(handle))
-            image.draft("RGB", (width_px, width_px))
-            image = image.convert("RGB")
-    except (OSError, ValueError):
-        return None
-    image.thumbnail((width_px, width_px * 2), Image.Resampling.LANCZOS)
-    return image
-
-
-def thumbnail_of(picture: Image.Image, width_px: int) -> Image.Image:
-    height = max(1, round(picture.height * width_px / picture.width))
-    return picture.resize((width_px, height), Image.Resampling.LANCZOS)
-
-
-# --- context -------------------------------------------------------------------------------
 
 LEVELS = [(level.value, level.label) for level in Finding.Level]
 
@@ -245,7 +53,7 @@ CONDITION_FLAGS = [
     ("covers_opened_by_qualified", "Covers opened by a qualified person"),
 ]
 
-REFERENCES = {
+REPORT_SOURCES = {
     "all": [
         "ISO 18434-1, Condition monitoring and diagnostics of machines — Thermography — "
         "Part 1: General procedures (terms of the measurement equation).",
@@ -314,12 +122,6 @@ def conditions_rows(survey: Survey) -> list[tuple[str, str]]:
     return rows
 
 
-def conditions_check_rows(survey: Survey) -> list[dict]:
-    from survey.criteria import conditions_check
-
-    return json_safe(conditions_check(survey))
-
-
 def method_context(survey: Survey, thermograms: list, findings: list) -> dict:
     pairs = Counter()
     for thermogram in thermograms:
@@ -340,23 +142,6 @@ def method_context(survey: Survey, thermograms: list, findings: list) -> dict:
         "load_factor": (100.0 / load_pct) ** 2 if load_pct else None,
         "any_transmittance": any(t.transmittance < 1 for t in thermograms),
     }
-
-
-def trend_chart(thermogram: Thermogram) -> str | None:
-    """The asset's history across visits as an SVG chart, when it has been seen before."""
-    if thermogram.asset_id is None:
-        return None
-    from survey.charts import trend_svg
-    from survey.services.assets import asset_history, trend_points
-
-    visits = asset_history(thermogram.asset)
-    points, unit, title = trend_points(visits), "K", f"Rise at {thermogram.asset}"
-    if sum(value is not None for _, value in points) < 2:
-        points = [(visit["date"], visit["max_corrected_c"]) for visit in visits]
-        unit, title = "°C", f"Hottest corrected temperature at {thermogram.asset}"
-    if len(visits) < 2 or sum(value is not None for _, value in points) < 2:
-        return None
-    return mark_safe(trend_svg(points, 480, 200, unit, title=title))
 
 
 def heat_loss_rows(survey: Survey) -> tuple[list[dict], dict]:
@@ -387,8 +172,6 @@ def heat_loss_rows(survey: Survey) -> tuple[list[dict], dict]:
 
 
 def cautions(survey: Survey, *, heat_loss: bool) -> list[str]:
-    from survey.cautions import cautions_for
-
     return list(cautions_for(survey.kind, heat_loss=True if heat_loss else None))
 
 
@@ -408,15 +191,11 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
             "marks"
         )
     )
-    from survey.criteria import category_label
-
     by_thermogram: dict[int, list[Finding]] = {}
     for finding in findings:
         finding.category_text = category_label(survey.kind, finding.category)
         by_thermogram.setdefault(finding.thermogram_id, []).append(finding)
     readings = readings_by_thermogram(survey, thermograms)
-    from reports.services import survey_results
-
     results = survey_results(survey, readings=readings)
     digest = content_digest(results)
 
@@ -428,7 +207,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
     shown = [t for t in thermograms if t.pk in readings or t.pk in by_thermogram]
     with ThreadPoolExecutor(max_workers=DRAWING_THREADS) as pool:
         drawn = pool.map(
-            lambda t: _draw_thermogram(t, pictures, thumbnail=t.pk in thumbnailed), shown
+            lambda t: draw_thermogram(t, pictures, thumbnail=t.pk in thumbnailed), shown
         )
         for index, thermogram in enumerate(shown, start=1):
             progress(f"Drawing thermogram {index} of {len(shown)}", 10 + 60 * index // len(shown))
@@ -452,7 +231,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
     heat_loss, heat_loss_total = heat_loss_rows(survey)
     reference_keys = ["all"]
     reference_keys += ["building"] if survey.is_building else []
-    reference_keys += [survey.kind] if survey.kind in REFERENCES else []
+    reference_keys += [survey.kind] if survey.kind in REPORT_SOURCES else []
     reference_keys += ["heat_loss"] if heat_loss else []
     return {
         "version": version,
@@ -483,7 +262,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         "heat_loss": heat_loss,
         "heat_loss_total": heat_loss_total,
         "cautions": cautions(survey, heat_loss=bool(heat_loss)),
-        "references": [ref for key in reference_keys for ref in REFERENCES[key]],
+        "references": [ref for key in reference_keys for ref in REPORT_SOURCES[key]],
         "thermogram_count": len(thermograms),
         "_results": results,
     }
@@ -496,9 +275,6 @@ def _reviewer(version: ReportVersion, survey: Survey):
 
 def _urgency(finding: Finding) -> tuple:
     return (finding.level or 9, finding.created_at)
-
-
-# --- rendering -----------------------------------------------------------------------------
 
 
 @dataclass

@@ -5,21 +5,12 @@ import json
 from django import forms
 from django.core.exceptions import ValidationError
 
-from survey import criteria
+from survey import severity
 from survey.models import Asset, Finding, Mark, Survey, Thermogram
 
 LEVEL_CHOICES = [("", "Use the suggested level")] + [
     (value, label) for value, label in Finding.Level.choices
 ]
-
-
-def add_service_error(form: forms.Form, error: ValidationError) -> None:
-    """Show a service's ValidationError on the form: on its field when the form has one."""
-    if hasattr(error, "error_dict"):
-        for field, errors in error.message_dict.items():
-            form.add_error(field if field in form.fields else None, errors)
-    else:
-        form.add_error(None, error.messages)
 
 
 def _optional_float(label, low, high, **kwargs):
@@ -100,8 +91,8 @@ class FindingForm(forms.Form):
         marks = thermogram.marks.all()
         self.fields["marks"].queryset = marks
         self.fields["reference"].queryset = marks
-        self.fields["basis"].choices = criteria.BASES[survey.kind]
-        self.fields["category"].choices = criteria.FINDING_CATEGORIES[survey.kind]
+        self.fields["basis"].choices = severity.BASES[survey.kind]
+        self.fields["category"].choices = severity.FINDING_CATEGORIES[survey.kind]
         self.fields["asset"].queryset = Asset.objects.filter(
             organization=survey.organization, site=survey.site
         )
@@ -196,7 +187,7 @@ class FindingEditForm(forms.Form):
             },
         )
         super().__init__(*args, **kwargs)
-        self.fields["category"].choices = criteria.FINDING_CATEGORIES[finding.survey.kind]
+        self.fields["category"].choices = severity.FINDING_CATEGORIES[finding.survey.kind]
         self.fields["asset"].queryset = Asset.objects.filter(
             organization=finding.organization, site=finding.survey.site
         )

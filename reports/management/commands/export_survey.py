@@ -3,8 +3,8 @@ from pathlib import Path
 from django.core.exceptions import ValidationError
 from django.core.management.base import BaseCommand, CommandError
 
+from reports.archive import survey_export
 from survey.models import Survey
-from survey.services.archive import survey_export
 
 
 class Command(BaseCommand):

@@ -10,9 +10,6 @@ import datetime
 import math
 
 from django.contrib.auth import get_user_model
-from django.contrib.auth.forms import AuthenticationForm
-from django.contrib.auth.views import LoginView
-from django.core.exceptions import ValidationError
 from django.http import HttpRequest
 from django.utils import timezone
 
@@ -20,7 +17,11 @@ from survey.models import AuditEvent
 from survey.services.audit import audit_record
 
 MAX_FAILURES = 5
+
+
 WINDOW = datetime.timedelta(minutes=15)
+
+
 FAILED, SUCCEEDED = "login.failed", "login"
 
 
@@ -75,33 +76,3 @@ def wait_message(wait: datetime.timedelta) -> str:
         f"Too many failed sign-in attempts for this username. For your account's safety, "
         f"wait {minutes} {unit} and try again, or ask your administrator to reset the password."
     )
-
-
-class ThrottledAuthenticationForm(AuthenticationForm):
-    throttled = False
-
-    def clean(self):
-        username = self.cleaned_data.get("username") or ""
-        address = client_address(self.request)
-        wait = login_wait(username, address)
-        if wait is not None:
-            self.throttled = True
-            raise ValidationError(wait_message(wait), code="throttled")
-        try:
-            cleaned = super().clean()
-        except ValidationError:
-            if username:
-                login_record(username=username, address=address, succeeded=False)
-            raise
-        login_record(username=username, address=address, succeeded=True)
-        return cleaned
-
-
-class ThrottledLoginView(LoginView):
-    form_class = ThrottledAuthenticationForm
-
-    def form_invalid(self, form):
-        response = super().form_invalid(form)
-        if form.throttled:
-            response.status_code = 429
-        return response

@@ -1,0 +1,172 @@
+"""A survey's results as plain data: what a report shows and what its digest is made from.
+
+Used by the PDF (reports/document.py), the services and the archive; it draws nothing.
+"""
+
+import hashlib
+import json
+import math
+
+from survey.conditions import conditions_check
+from survey.models import Finding, Survey, Thermogram
+from survey.services.readings import mark_readings
+
+_PLAIN = frozenset({str, int, bool, type(None)})
+
+
+def json_safe(value):
+    """Plain JSON types: numpy scalars to Python, NaN and infinities to None.
+
+    The exact-type checks come first: a 50-thermogram survey holds some 100,000 numbers
+    (the profiles of its line marks), and this runs over all of them.
+    """
+    kind = type(value)
+    if kind is float:
+        return value if math.isfinite(value) else None
+    if kind in _PLAIN:
+        return value
+    if kind is list or kind is tuple:
+        return [json_safe(item) for item in value]
+    if kind is dict:
+        return {str(key): json_safe(item) for key, item in value.items()}
+    if isinstance(value, dict):
+        return {str(key): json_safe(item) for key, item in value.items()}
+    if isinstance(value, list | tuple):
+        return [json_safe(item) for item in value]
+    if hasattr(value, "item") and not isinstance(value, str | bytes):
+        value = value.item() if getattr(value, "ndim", 0) == 0 else value.tolist()
+        return json_safe(value)
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    return value
+
+
+def readings_by_thermogram(survey: Survey, thermograms) -> dict[int, list[dict]]:
+    """The readings of every ready thermogram with marks, JSON-safe, computed once.
+
+    `thermograms` should come with their marks prefetched: the readings are then made from
+    those rows instead of one query per thermogram.
+    """
+    return {
+        thermogram.pk: json_safe(_thermogram_readings(thermogram))
+        for thermogram in thermograms
+        if thermogram.is_ready and thermogram.marks.all()
+    }
+
+
+def _thermogram_readings(thermogram: Thermogram) -> list[dict]:
+    """survey.services.readings.thermogram_readings, on the thermogram's prefetched marks."""
+    marks = sorted(thermogram.marks.all(), key=lambda m: (len(m.label), m.label))
+    by_pk = {mark.pk: mark for mark in marks}
+    for mark in marks:
+        mark.thermogram = thermogram
+        if mark.reference_mark_id in by_pk:
+            mark.reference_mark = by_pk[mark.reference_mark_id]
+    # Referenced marks first, so each reference's readings are computed once.
+    referenced = {m.reference_mark_id for m in marks if m.reference_mark_id}
+    by_id: dict[int, dict] = {}
+    for mark in sorted(marks, key=lambda m: m.pk not in referenced):
+        by_id[mark.pk] = mark_readings(mark, by_id=by_id)
+    return [by_id[mark.pk] for mark in marks]
+
+
+def content_digest(results: dict) -> str:
+    """sha256 of the survey results in canonical JSON: what the report was built from."""
+    canonical = json.dumps(results, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
+    return hashlib.sha256(canonical.encode()).hexdigest()
+
+
+def conditions_check_rows(survey: Survey) -> list[dict]:
+    return json_safe(conditions_check(survey))
+
+
+def _finding_dict(finding: Finding) -> dict:
+    return {
+        "id": finding.pk,
+        "thermogram_id": finding.thermogram_id,
+        "asset": finding.asset.name if finding.asset else None,
+        "asset_tag": finding.asset.tag if finding.asset else None,
+        "marks": sorted(mark.label for mark in finding.marks.all()),
+        "category": finding.category,
+        "location": finding.location,
+        "description": finding.description,
+        "basis": finding.basis,
+        "level": finding.level,
+        "level_name": finding.get_level_display() if finding.level else None,
+        "suggested_level": finding.suggested_level,
+        "override_reason": finding.override_reason,
+        "criteria_table": finding.criteria_table.name if finding.criteria_table else None,
+        "criteria_row": finding.criteria_row,
+        "rise_c": finding.rise_c,
+        "corrected_rise_c": finding.corrected_rise_c,
+        "max_corrected_c": finding.max_corrected_c,
+        "recommendation": finding.recommendation,
+        "status": finding.status,
+    }
+
+
+def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = None) -> dict:
+    """The survey's results as plain data: marks with corrected values, findings, conditions.
+
+    The same dictionary is what a report's content digest is computed from.
+    """
+    thermograms = survey.thermograms.filter(status="ready").select_related("asset")
+    if readings is None:
+        thermograms = list(thermograms.prefetch_related("marks"))
+        readings = readings_by_thermogram(survey, thermograms)
+    conditions = getattr(survey, "conditions", None)
+    conditions_data = {}
+    if conditions is not None:
+        for model_field in conditions._meta.concrete_fields:
+            if model_field.name != "survey":
+                conditions_data[model_field.name] = getattr(conditions, model_field.name)
+    results = json_safe(
+        {
+            "format": "heatmark-survey-results",
+            "format_version": 1,
+            "temperature_unit": "°C",
+            "survey": {
+                "id": survey.pk,
+                "kind": survey.kind,
+                "title": str(survey),
+                "date": survey.date.isoformat(),
+                "client": survey.site.client.name,
+                "site": survey.site.name,
+                "instrument": survey.instrument,
+                "thermographer": str(survey.thermographer) if survey.thermographer else None,
+                "reviewer": str(survey.reviewer) if survey.reviewer else None,
+            },
+            "conditions": conditions_data,
+            "conditions_check": conditions_check_rows(survey),
+            "thermograms": [
+                {
+                    "id": t.pk,
+                    "sequence": t.sequence,
+                    "title": t.title,
+                    "original_name": t.original_name,
+                    "original_sha256": t.original_sha256,
+                    "estimated": t.estimated,
+                    "asset": t.asset.name if t.asset else None,
+                    "emissivity": t.emissivity,
+                    "reflected_c": t.reflected_c,
+                    "transmittance": t.transmittance,
+                    "distance_m": t.distance_m,
+                }
+                for t in thermograms
+            ],
+            "findings": [
+                _finding_dict(f)
+                for f in survey.findings.select_related("asset", "criteria_table")
+                .prefetch_related("marks")
+                .order_by("id")
+            ],
+            "heat_loss": [
+                {"label": e.label, "inputs": e.inputs, "results": e.results}
+                for e in survey.heat_loss_estimates.all()
+            ],
+        }
+    )
+    # The readings are JSON-safe already (readings_by_thermogram): not walked a second time.
+    for thermogram in results["thermograms"]:
+        thermogram["marks"] = readings.get(thermogram["id"], [])
+    return results

@@ -1,0 +1,335 @@
+"""Uploads: a file becomes a stored original and a queued thermogram.
+
+`thermogram_ingest` checks a file (size, recognisable format, not a duplicate) before
+anything is written, stores the original unchanged with its sha256, creates the row in
+status `queued` and enqueues `process_thermogram` once the transaction commits; the worker
+then runs survey/services/processing.py.
+"""
+
+import hashlib
+import logging
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from django.conf import settings
+from django.contrib.auth.models import AbstractBaseUser
+from django.core.exceptions import ValidationError
+from django.core.files.base import ContentFile
+from django.core.files.storage import default_storage
+from django.core.files.uploadedfile import UploadedFile
+from django.db import transaction
+from django.db.models import Max
+
+from survey import thermal
+from survey.models import Asset, Survey, Thermogram
+from survey.services.audit import audit_record
+from survey.services.surveys import check_same_org
+from survey.tasks import process_thermogram
+from survey.thermal import units
+from survey.thermal.decode import detect_format
+
+logger = logging.getLogger(__name__)
+
+
+def sniff_format(head: bytes, name: str) -> str:
+    """The container of an upload from its first bytes: tiff, png, jpeg, npy or text.
+
+    Raises ValidationError with an inspector-readable reason when it is none of them.
+    """
+    try:
+        return detect_format(head)
+    except thermal.ThermogramFormatError as error:
+        raise ValidationError(f"{name}: {error}") from None
+
+
+def _png_is_false_colour(head: bytes) -> bool:
+    """An 8-bit colour PNG (IHDR bit depth 8, colour type 2, 3 or 6) is a picture, not data."""
+    if len(head) < 26:
+        return False
+    bit_depth, colour_type = head[24], head[25]
+    return bit_depth <= 8 and colour_type in {2, 3, 6}
+
+
+def _read_upload(uploaded_file: UploadedFile) -> bytes:
+    uploaded_file.seek(0)
+    return uploaded_file.read()
+
+
+def _file_name(uploaded_file: UploadedFile) -> str:
+    return Path(uploaded_file.name or "upload").name[:255]
+
+
+def _validate_false_colour(palette_source: dict | None) -> dict | None:
+    if not palette_source:
+        return None
+    palette = palette_source.get("palette") or None
+    low, high = palette_source.get("low_c"), palette_source.get("high_c")
+    box = _validate_scale_bar_box(palette_source.get("scale_bar_box"))
+    if palette is None and box is None:
+        raise ValidationError(
+            "A false-colour picture needs its palette or the pixel box of its scale bar."
+        )
+    if palette is not None and palette not in thermal.PALETTES:
+        raise ValidationError(f"Unknown palette {palette!r}.")
+    if low is None or high is None or not float(low) < float(high):
+        raise ValidationError(
+            "A false-colour picture needs the temperatures of the bottom and top of its scale "
+            "bar, the top warmer than the bottom."
+        )
+    source = {"palette": palette, "low_c": float(low), "high_c": float(high)}
+    if box is not None:
+        source["scale_bar_box"] = box
+    return source
+
+
+def _validate_scale_bar_box(box) -> list[int] | None:
+    """(left, top, right, bottom) in pixels; whether it lies inside the picture is checked
+    when the picture is decoded, where its size is known."""
+    if box is None:
+        return None
+    if (
+        not isinstance(box, list | tuple)
+        or len(box) != 4
+        or not all(isinstance(v, int) and not isinstance(v, bool) for v in box)
+    ):
+        raise ValidationError(
+            "The scale bar box needs four whole numbers of pixels: left, top, right, bottom."
+        )
+    left, top, right, bottom = box
+    if min(box) < 0 or not (left < right and top < bottom):
+        raise ValidationError(
+            "The scale bar box must have its left side before its right side and its top "
+            "above its bottom, all at pixel positions of 0 or more."
+        )
+    return [int(v) for v in box]
+
+
+def thermogram_check_upload(
+    *, survey: Survey, name: str, data: bytes, palette_source: dict | None
+) -> str:
+    """Everything that can be known about an upload before it is stored; returns its format."""
+    limit = settings.THERMOGRAM_MAX_UPLOAD_BYTES
+    if len(data) == 0:
+        raise ValidationError("The file is empty.")
+    if len(data) > limit:
+        raise ValidationError(
+            f"The file is {len(data) / 1e6:.1f} MB; the limit is {limit / 1e6:.0f} MB."
+        )
+    kind = sniff_format(data[:4096], name)
+    false_colour = kind == "jpeg" or (kind == "png" and _png_is_false_colour(data[:64]))
+    if false_colour and not palette_source:
+        raise ValidationError(
+            "This is a colour picture, not temperature data. To estimate temperatures from "
+            "it, choose its palette (or give the box of the scale bar drawn in it) and the "
+            "temperatures at the ends of its scale bar."
+        )
+    if palette_source and not false_colour:
+        raise ValidationError(
+            "False-colour options were given, but this file holds temperature data: "
+            "upload it without them."
+        )
+    return "false-colour" if false_colour else kind
+
+
+def _check_photo(photo: UploadedFile) -> bytes:
+    data = _read_upload(photo)
+    if len(data) > settings.THERMOGRAM_MAX_UPLOAD_BYTES:
+        raise ValidationError("The photo is larger than the upload limit.")
+    if not data.startswith((b"\xff\xd8\xff", b"\x89PNG\r\n\x1a\n")):
+        raise ValidationError(f"The photo {_file_name(photo)} is not a JPEG or PNG picture.")
+    return data
+
+
+def thermogram_ingest(
+    *,
+    survey: Survey,
+    uploaded_file: UploadedFile,
+    user: AbstractBaseUser | None,
+    unit: str = "C",
+    scale: float | None = None,
+    offset: float | None = None,
+    palette_source: dict | None = None,
+    photo: UploadedFile | None = None,
+    emissivity: float | None = None,
+    reflected_c: float | None = None,
+    distance_m: float | None = None,
+    asset: Asset | None = None,
+) -> Thermogram:
+    """Store one uploaded thermogram unchanged and queue its processing.
+
+    Raises ValidationError (nothing written) when the file is too big, empty, not a readable
+    format, or already in this survey.
+    """
+    name = _file_name(uploaded_file)
+    if unit not in units.UNITS:
+        raise ValidationError(f"Unknown temperature unit {unit!r}; use C, F or K.")
+    palette_source = _validate_false_colour(palette_source)
+    data = _read_upload(uploaded_file)
+    kind = thermogram_check_upload(
+        survey=survey, name=name, data=data, palette_source=palette_source
+    )
+    digest = hashlib.sha256(data).hexdigest()
+    duplicate = survey.thermograms.filter(original_sha256=digest).first()
+    if duplicate is not None:
+        raise ValidationError(
+            f"Already in this survey as {duplicate.original_name} (identical content)."
+        )
+    photo_data = _check_photo(photo) if photo is not None else None
+    if asset is not None:
+        check_same_org(survey.organization, asset=asset)
+
+    decode_settings: dict[str, Any] = {"unit": unit, "scale": scale, "offset": offset}
+    if palette_source:
+        decode_settings["false_colour"] = palette_source
+    thermogram = Thermogram(
+        organization=survey.organization,
+        survey=survey,
+        asset=asset,
+        original_name=name,
+        original_sha256=digest,
+        original_size=len(data),
+        decode_settings=decode_settings,
+        file_format=kind,
+        estimated=bool(palette_source),
+        status=Thermogram.Status.QUEUED,
+        created_by=user,
+    )
+    for attribute, value in (
+        ("emissivity", emissivity),
+        ("reflected_c", reflected_c),
+        ("distance_m", distance_m),
+    ):
+        if value is not None:
+            setattr(thermogram, attribute, value)
+    saved_paths: list[str] = []
+    try:
+        with transaction.atomic():
+            thermogram.sequence = (
+                survey.thermograms.aggregate(last=Max("sequence"))["last"] or 0
+            ) + 1
+            thermogram.original.save(name, ContentFile(data), save=False)
+            saved_paths.append(thermogram.original.name)
+            if photo_data is not None:
+                thermogram.photo.save(_file_name(photo), ContentFile(photo_data), save=False)
+                saved_paths.append(thermogram.photo.name)
+                thermogram.photo_sha256 = hashlib.sha256(photo_data).hexdigest()
+            thermogram.full_clean()
+            thermogram.save()
+            audit_record(
+                organization=survey.organization,
+                actor=user,
+                action="upload",
+                obj=thermogram,
+                detail={"name": name, "sha256": digest, "size": len(data)},
+            )
+            thermogram_enqueue(thermogram.pk)
+    except Exception:
+        for path in saved_paths:
+            default_storage.delete(path)
+        raise
+    return thermogram
+
+
+@dataclass
+class BatchResult:
+    created: list[Thermogram] = field(default_factory=list)
+    rejected: list[tuple[str, str]] = field(default_factory=list)
+
+
+def _messages(error: ValidationError) -> str:
+    return " ".join(error.messages)
+
+
+def thermograms_ingest_batch(
+    *,
+    survey: Survey,
+    files: list[UploadedFile],
+    user: AbstractBaseUser | None,
+    photos: list[UploadedFile] | None = None,
+    **defaults: Any,
+) -> BatchResult:
+    """Ingest many files: each valid one is stored, each rejected one reported by name.
+
+    Photos are paired with the thermogram of the same file stem (IR_0001.tif + IR_0001.jpg).
+    """
+    result = BatchResult()
+    photo_by_stem = {Path(p.name or "").stem.lower(): p for p in photos or []}
+    thermogram_stems = {Path(f.name or "").stem.lower() for f in files}
+    for stem, photo in photo_by_stem.items():
+        if stem not in thermogram_stems:
+            result.rejected.append(
+                (_file_name(photo), "No thermogram with the same name to pair this photo with.")
+            )
+    for uploaded in files:
+        photo = photo_by_stem.get(Path(uploaded.name or "").stem.lower())
+        try:
+            result.created.append(
+                thermogram_ingest(
+                    survey=survey, uploaded_file=uploaded, user=user, photo=photo, **defaults
+                )
+            )
+        except ValidationError as error:
+            result.rejected.append((_file_name(uploaded), _messages(error)))
+    return result
+
+
+def thermogram_enqueue(thermogram_id: int) -> None:
+    """Queue processing once the current transaction commits."""
+    transaction.on_commit(lambda: thermogram_publish(thermogram_id))
+
+
+def thermogram_publish(thermogram_id: int) -> bool:
+    """Publish the task; when the broker is down the row stays `queued` for requeue_thermograms."""
+    try:
+        process_thermogram.apply_async(args=[thermogram_id], retry=False)
+    except Exception as error:  # kombu/redis raise several connection error types
+        logger.warning(
+            "Could not queue thermogram %s (%s); it stays queued until "
+            "`manage.py requeue_thermograms` runs.",
+            thermogram_id,
+            error,
+        )
+        return False
+    return True
+
+
+@transaction.atomic
+def thermogram_reprocess(
+    *,
+    thermogram: Thermogram,
+    user: AbstractBaseUser | None,
+    unit: str | None = None,
+    scale: float | None = None,
+    offset: float | None = None,
+    palette_source: dict | None = None,
+) -> Thermogram:
+    """Decode again from the original with new settings (for a failed or wrongly scaled file)."""
+    if thermogram.status == Thermogram.Status.DAMAGED:
+        raise ValidationError("The original is damaged; upload the file again.")
+    decode_settings = dict(thermogram.decode_settings)
+    if unit is not None:
+        if unit not in units.UNITS:
+            raise ValidationError(f"Unknown temperature unit {unit!r}; use C, F or K.")
+        decode_settings["unit"] = unit
+    decode_settings["scale"] = scale
+    decode_settings["offset"] = offset
+    if thermogram.estimated:
+        decode_settings["false_colour"] = _validate_false_colour(
+            palette_source
+        ) or decode_settings.get("false_colour")
+    thermogram.decode_settings = decode_settings
+    thermogram.status = Thermogram.Status.QUEUED
+    thermogram.error = ""
+    thermogram.heartbeat_at = None
+    thermogram.full_clean()
+    thermogram.save()
+    audit_record(
+        organization=thermogram.organization,
+        actor=user,
+        action="reprocess",
+        obj=thermogram,
+        detail={"decode_settings": decode_settings},
+    )
+    thermogram_enqueue(thermogram.pk)
+    return thermogram

@@ -1,0 +1,365 @@
+"""Drawing thermograms: overlays, marks with their labels, scale bars, and encoding.
+
+`render_picture` colours the thermogram (survey/thermal/palettes.py), scales it to the
+output size first and draws marks, labels and the scale bar afterwards, so text and lines
+stay sharp at any size. `nice_ticks` is the one tick algorithm of scale bars and charts.
+"""
+
+from __future__ import annotations
+
+import functools
+import io
+import math
+from collections.abc import Iterable, Sequence
+from pathlib import Path
+
+import numpy as np
+
+from survey.thermal import units
+from survey.thermal.palettes import auto_span, palette_ramp, render
+from survey.thermal.psychrometrics import surface_rh
+
+MARK_COLOUR = (0, 255, 0)
+MARK_OUTLINE_COLOUR = (0, 64, 0)
+ISOTHERM_COLOUR = (0, 230, 255)
+MOULD_RISK_COLOUR = (255, 160, 255)
+CONDENSATION_COLOUR = (255, 0, 255)
+"""Overlay colours: bright green, cyan, light pink and magenta lie far (CIELAB ΔE > 25)
+from every palette ramp, so they stay readable on all of them and palette inversion
+recognises them as "not a temperature"."""
+
+_FONT_DIR = Path("/usr/share/fonts/truetype/dejavu")
+
+
+# --- overlays -----------------------------------------------------------------------------
+
+
+def isotherm_mask(temperatures_c: np.ndarray, low_c: float, high_c: float) -> np.ndarray:
+    """Pixels whose temperature lies in the band low_c ≤ t ≤ high_c (NaN never does).
+
+    Examples
+    --------
+    >>> isotherm_mask(np.array([19.0, 20.0, 21.5, np.nan]), 20.0, 21.5).tolist()
+    [False, True, True, False]
+    """
+    if not high_c >= low_c:
+        raise ValueError("high_c must be at or above low_c")
+    t = np.asarray(temperatures_c)
+    return (t >= low_c) & (t <= high_c)
+
+
+def condensation_masks(
+    temperatures_c: np.ndarray, t_air_c: float, rh_pct: float
+) -> tuple[np.ndarray, np.ndarray]:
+    """Mould-risk and condensation masks of a building surface for the given room air.
+
+    Returns ``(mould_risk, condensation)``: pixels whose surface relative humidity
+    (`survey.thermal.psychrometrics.surface_rh`) is ≥ 80 % and ≥ 100 % [ISO13788].
+    NaN pixels, and pixels outside the range of the saturation formula (a flue above
+    100 °C in a wall picture), are in neither.
+
+    Examples
+    --------
+    >>> mould, wet = condensation_masks(np.array([20.0, 12.0, 5.0]), 20.0, 50.0)
+    >>> mould.tolist(), wet.tolist()
+    ([False, True, True], [False, False, True])
+    """
+    t = np.asarray(temperatures_c, dtype=np.float64)
+    finite = np.isfinite(t)
+    rh = np.full(t.shape, np.nan)
+    rh[finite] = surface_rh(t_air_c, rh_pct, t[finite], out_of_range="nan")
+    with np.errstate(invalid="ignore"):
+        return rh >= 80.0, rh >= 100.0
+
+
+def apply_overlay(rgb: np.ndarray, mask: np.ndarray, colour: Sequence[int]) -> np.ndarray:
+    """Return a copy of `rgb` with the pixels of `mask` painted in `colour`.
+
+    Examples
+    --------
+    >>> picture = np.zeros((1, 2, 3), np.uint8)
+    >>> apply_overlay(picture, np.array([[True, False]]), ISOTHERM_COLOUR)[0].tolist()
+    [[0, 230, 255], [0, 0, 0]]
+    """
+    mask = np.asarray(mask, dtype=bool)
+    if mask.shape != rgb.shape[:2]:
+        raise ValueError(f"overlay mask {mask.shape} does not match the picture {rgb.shape[:2]}")
+    painted = rgb.copy()
+    painted[mask] = np.asarray(colour, dtype=np.uint8)
+    return painted
+
+
+# --- drawing ------------------------------------------------------------------------------
+
+
+@functools.lru_cache(maxsize=32)
+def font(size_px: int, bold: bool = False):
+    """A DejaVu Sans font of `size_px` pixels, or Pillow's built-in font at that size.
+
+    Examples
+    --------
+    >>> font(20).size
+    20
+    """
+    from PIL import ImageFont
+
+    path = _FONT_DIR / ("DejaVuSans-Bold.ttf" if bold else "DejaVuSans.ttf")
+    if path.exists():
+        return ImageFont.truetype(str(path), size_px)
+    return ImageFont.load_default(size=size_px)
+
+
+def nice_step(low: float, high: float, target: int = 6) -> float:
+    """The round step (1, 2, 2.5 or 5 × 10ⁿ) nearest to `target` ticks between low and high.
+
+    Examples
+    --------
+    >>> nice_step(18.3, 31.7), nice_step(0.0, 12.0)
+    (2.5, 2.5)
+    """
+    raw = (high - low) / max(target - 1, 1)
+    power = 10.0 ** math.floor(math.log10(raw))
+    return min((m * power for m in (1, 2, 2.5, 5, 10)), key=lambda s: abs(math.log(s / raw)))
+
+
+def nice_ticks(low: float, high: float, target: int = 6, *, step: float | None = None):
+    """Round tick values between low and high: the one tick algorithm of scale bars and charts.
+
+    The step is `nice_step` unless given.
+
+    Examples
+    --------
+    >>> nice_ticks(18.3, 31.7)
+    [20.0, 22.5, 25.0, 27.5, 30.0]
+    """
+    if not high > low:
+        return [low]
+    step = step or nice_step(low, high, target)
+    first = math.ceil(low / step - 1e-9) * step
+    count = int(math.floor((high - first) / step + 1e-9)) + 1
+    return [round(first + i * step, 10) for i in range(min(count, 50))]
+
+
+def _format_tick(value: float, ticks: list[float]) -> str:
+    step = ticks[1] - ticks[0] if len(ticks) > 1 else 1.0
+    decimals = 0 if float(step).is_integer() else max(0, -math.floor(math.log10(step)) + 1)
+    decimals = min(decimals, 2)
+    text = f"{value:.{decimals}f}"
+    if decimals == 2 and text.endswith("0"):
+        text = text[:-1]
+    return text.replace("-", "−")
+
+
+def _mark_field(mark, name, default=None):
+    if isinstance(mark, dict):
+        return mark.get(name, default)
+    return getattr(mark, name, default)
+
+
+def draw_marks(image, marks: Iterable, scale_x: float, scale_y: float) -> None:
+    """Draw marks and their labels onto a PIL image in place.
+
+    Each mark is a dict or an object with ``kind``, ``points`` (thermogram pixel
+    coordinates, pixel centres at integers), optional ``label`` and ``single_pixel``.
+    `scale_x`, `scale_y` are output pixels per thermogram pixel. Lines are drawn in
+    `MARK_COLOUR` over a dark outline so they read on every palette.
+
+    Examples
+    --------
+    >>> from PIL import Image
+    >>> image = Image.new("RGB", (40, 40))
+    >>> draw_marks(image, [{"kind": "rectangle", "points": [[2, 2], [7, 7]]}], 4.0, 4.0)
+    >>> image.getpixel((8, 20)) == MARK_COLOUR
+    True
+    """
+    from PIL import ImageDraw
+
+    draw = ImageDraw.Draw(image)
+    width = max(2, round(min(image.size) / 200))
+    label_font = font(max(11, round(min(image.size) / 22)), bold=True)
+
+    def place(x, y):
+        return ((float(x) + 0.5) * scale_x, (float(y) + 0.5) * scale_y)
+
+    for mark in marks:
+        kind = _mark_field(mark, "kind")
+        points = [place(x, y) for x, y in _mark_field(mark, "points", [])]
+        if not points:
+            continue
+        for colour, stroke in ((MARK_OUTLINE_COLOUR, width + 2), (MARK_COLOUR, width)):
+            if kind == "point":
+                (x, y) = points[0]
+                half = (0.5 if _mark_field(mark, "single_pixel", False) else 1.5) * scale_x
+                arm = max(half + 3 * width, 4 * width)
+                draw.line([(x - arm, y), (x - half, y)], fill=colour, width=stroke)
+                draw.line([(x + half, y), (x + arm, y)], fill=colour, width=stroke)
+                draw.line([(x, y - arm), (x, y - half)], fill=colour, width=stroke)
+                draw.line([(x, y + half), (x, y + arm)], fill=colour, width=stroke)
+                hy = (0.5 if _mark_field(mark, "single_pixel", False) else 1.5) * scale_y
+                draw.rectangle([x - half, y - hy, x + half, y + hy], outline=colour, width=stroke)
+            elif kind in ("rectangle", "ellipse") and len(points) >= 2:
+                (x0, y0), (x1, y1) = points[0], points[1]
+                box = [min(x0, x1), min(y0, y1), max(x0, x1), max(y0, y1)]
+                if kind == "rectangle":
+                    # The pixels whose centres are inside reach half a pixel further out.
+                    box = [box[0] - scale_x / 2, box[1] - scale_y / 2]
+                    box += [max(x0, x1) + scale_x / 2, max(y0, y1) + scale_y / 2]
+                    draw.rectangle(box, outline=colour, width=stroke)
+                else:
+                    draw.ellipse(box, outline=colour, width=stroke)
+            elif kind == "polygon":
+                draw.line(points + [points[0]], fill=colour, width=stroke, joint="curve")
+            elif kind == "line":
+                draw.line(points, fill=colour, width=stroke, joint="curve")
+        label = _mark_field(mark, "label")
+        if label:
+            if kind == "line":
+                anchor_x, anchor_y = points[0]  # a label names where the profile starts
+            else:
+                anchor_x = min(p[0] for p in points) + (2 * width if kind == "point" else 0)
+                anchor_y = min(p[1] for p in points) - (2 * width if kind == "point" else 0)
+            text_x = min(max(anchor_x + width, 0), image.size[0] - label_font.size)
+            text_y = max(anchor_y - label_font.size - width, 0)
+            draw.text(
+                (text_x, text_y),
+                str(label),
+                font=label_font,
+                fill=MARK_COLOUR,
+                stroke_width=max(1, width // 2 + 1),
+                stroke_fill=MARK_OUTLINE_COLOUR,
+            )
+
+
+def _scale_bar(ramp, low_c, high_c, unit, height_px, width_px):
+    """The scale bar strip: the palette from low (bottom) to high (top) with ticks."""
+    from PIL import Image, ImageDraw
+
+    strip = Image.new("RGB", (width_px, height_px), (255, 255, 255))
+    draw = ImageDraw.Draw(strip)
+    text_font = font(max(10, min(round(height_px / 24), round(width_px / 4.2))))
+    size = text_font.size
+    margin_top = round(size * 2.2)
+    margin_bottom = round(size * 0.9)
+    bar_left = round(width_px * 0.1)
+    bar_right = bar_left + max(6, round(width_px * 0.28))
+    bar_top, bar_bottom = margin_top, height_px - margin_bottom
+    bar_height = max(bar_bottom - bar_top, 2)
+    column = Image.fromarray(np.ascontiguousarray(ramp[::-1][:, None, :]))
+    strip.paste(
+        column.resize((bar_right - bar_left, bar_height), Image.Resampling.NEAREST),
+        (bar_left, bar_top),
+    )
+    draw.rectangle([bar_left - 1, bar_top - 1, bar_right, bar_bottom], outline=(34, 34, 34))
+    low_d, high_d = units.from_celsius(low_c, unit), units.from_celsius(high_c, unit)
+    ticks = nice_ticks(low_d, high_d, target=max(2, min(8, bar_height // (size * 2))))
+    draw.text((bar_left, size * 0.4), f"°{unit}", font=font(size, bold=True), fill=(34, 34, 34))
+    for value in ticks:
+        y = bar_bottom - (value - low_d) / (high_d - low_d) * bar_height
+        draw.line([(bar_right, y), (bar_right + max(3, size // 3), y)], fill=(34, 34, 34), width=1)
+        draw.text(
+            (bar_right + max(5, size // 2), y),
+            _format_tick(value, ticks),
+            font=text_font,
+            fill=(34, 34, 34),
+            anchor="lm",
+        )
+    return strip
+
+
+def render_picture(
+    temperatures_c: np.ndarray,
+    palette: str | np.ndarray = "black-red-yellow",
+    low_c: float | None = None,
+    high_c: float | None = None,
+    *,
+    marks: Iterable = (),
+    overlays: Iterable[tuple[np.ndarray, Sequence[int]]] = (),
+    scale_bar: bool = True,
+    unit: str = "C",
+    width_px: int | None = None,
+):
+    """Draw a thermogram as a PIL RGB image with marks, overlays and a scale bar.
+
+    Parameters
+    ----------
+    temperatures_c : H×W float °C
+    palette : palette name or N×3 ramp
+    low_c, high_c : float, optional
+        Span in °C; `auto_span` when either is None.
+    marks : iterable of dicts or objects with ``kind``, ``points``, ``label``
+        Drawn with their labels (A, B, C…) in `MARK_COLOUR`.
+    overlays : iterable of (mask, colour)
+        Boolean H×W masks painted before scaling, for example
+        ``(isotherm_mask(t, 30, 35), ISOTHERM_COLOUR)`` or the masks of
+        `condensation_masks` with `MOULD_RISK_COLOUR` and `CONDENSATION_COLOUR`.
+    scale_bar : bool
+        Append a scale bar strip on the right with ticks in `unit`.
+    unit : {"C", "F"}
+        Unit of the scale bar's ticks.
+    width_px : int, optional
+        Total output width in pixels (thermogram plus scale bar); the height follows the
+        thermogram's aspect ratio. Default: 2 output pixels per thermogram pixel, at least
+        640 pixels wide.
+
+    Returns
+    -------
+    PIL.Image.Image (mode "RGB"). Encode it with `encode_png`.
+
+    Examples
+    --------
+    >>> marks = [{"kind": "point", "points": [[5, 5]], "label": "A"}]
+    >>> image = render_picture(np.full((30, 40), 20.0), marks=marks, width_px=400)
+    >>> image.size
+    (400, 258)
+    """
+    from PIL import Image
+
+    unit = str(unit).upper().lstrip("°")
+    if unit not in ("C", "F"):
+        raise ValueError("unit must be C or F")
+    t = np.asarray(temperatures_c, dtype=np.float32)
+    if t.ndim != 2 or t.size == 0:
+        raise ValueError("temperatures_c must be a non-empty 2-D array")
+    if low_c is None or high_c is None:
+        auto_low, auto_high = auto_span(t)
+        low_c = auto_low if low_c is None else low_c
+        high_c = auto_high if high_c is None else high_c
+    ramp = palette_ramp(palette)
+    rgb = render(t, ramp, low_c, high_c)
+    for mask, colour in overlays:
+        rgb = apply_overlay(rgb, mask, colour)
+    height, width = t.shape
+    if width_px is None:
+        width_px = max(640, 2 * width + (round(0.16 * 2 * width) if scale_bar else 0))
+    width_px = int(width_px)
+    strip_px = max(56, round(width_px * 0.14)) if scale_bar else 0
+    picture_px = width_px - strip_px
+    if picture_px < 16:
+        raise ValueError(f"width_px {width_px} is too small for a picture with a scale bar")
+    picture_height = max(1, round(height * picture_px / width))
+    resample = Image.Resampling.NEAREST if picture_px >= width else Image.Resampling.BOX
+    picture = Image.fromarray(rgb).resize((picture_px, picture_height), resample)
+    draw_marks(picture, marks, picture_px / width, picture_height / height)
+    if not scale_bar:
+        return picture
+    canvas = Image.new("RGB", (width_px, picture_height), (255, 255, 255))
+    canvas.paste(picture, (0, 0))
+    canvas.paste(_scale_bar(ramp, low_c, high_c, unit, picture_height, strip_px), (picture_px, 0))
+    return canvas
+
+
+def encode_png(image, *, compress_level: int = 6) -> bytes:
+    """Encode a PIL image (or an H×W×3 uint8 array) as PNG bytes.
+
+    Examples
+    --------
+    >>> encode_png(np.zeros((2, 2, 3), np.uint8))[:4]
+    b'\\x89PNG'
+    """
+    from PIL import Image
+
+    if isinstance(image, np.ndarray):
+        image = Image.fromarray(image)
+    buffer = io.BytesIO()
+    image.save(buffer, format="PNG", compress_level=compress_level)
+    return buffer.getvalue()

@@ -1,0 +1,122 @@
+"""Drawing: overlays, marks, scale bars, ticks and encoding of pictures."""
+
+import io
+
+import numpy as np
+import pytest
+from PIL import Image
+
+from survey.thermal.drawing import (
+    ISOTHERM_COLOUR,
+    MARK_COLOUR,
+    apply_overlay,
+    condensation_masks,
+    encode_png,
+    isotherm_mask,
+    nice_ticks,
+    render_picture,
+)
+from survey.thermal.palettes import render
+from tests.thermal.thermal_fields import ramp_field
+
+
+def test_isotherm_mask_is_an_inclusive_band():
+    """Pixels between the two temperatures inclusive; NaN never."""
+    t = np.array([[19.9, 20.0, 25.0, 25.1, np.nan]])
+    assert isotherm_mask(t, 20.0, 25.0).tolist() == [[False, True, True, False, False]]
+
+
+def test_condensation_masks_against_reference_surface_rh():
+    """Surface RH thresholds 80 % / 100 % (ISO 13788) on REFERENCES.md check values."""
+    # psychrolib-computed surface RH for air 20 °C 50 %: 12 °C surface → 83.4 % (mould risk),
+    # 15 °C → 68.6 % (none); for air 22 °C 55 % a 10 °C surface → 118 % (condensation).
+    mould, wet = condensation_masks(np.array([[12.0, 15.0, np.nan]]), 20.0, 50.0)
+    assert mould.tolist() == [[True, False, False]] and not wet.any()
+    mould, wet = condensation_masks(np.array([10.0]), 22.0, 55.0)
+    assert mould.tolist() == [True] and wet.tolist() == [True]
+
+
+def test_apply_overlay_paints_only_the_mask():
+    """Mask pixels take the colour; the rest keep the picture."""
+    rgb = render(ramp_field(4, 4), "grey white-warm", 10, 40)
+    painted = apply_overlay(rgb, np.eye(4, dtype=bool), ISOTHERM_COLOUR)
+    assert painted[1, 1].tolist() == list(ISOTHERM_COLOUR)
+    np.testing.assert_array_equal(painted[0, 1:], rgb[0, 1:])
+    with pytest.raises(ValueError, match="does not match"):
+        apply_overlay(rgb, np.zeros((3, 3), bool), ISOTHERM_COLOUR)
+
+
+# --- drawn pictures ------------------------------------------------------------------------
+
+
+def test_nice_ticks_are_round_and_inside():
+    """Ticks are multiples of 1, 2, 2.5 or 5 × 10ⁿ inside the span (common practice)."""
+    assert nice_ticks(18.3, 31.7) == [20.0, 22.5, 25.0, 27.5, 30.0]
+    assert nice_ticks(-4.0, 4.0) == [-4.0, -2.0, 0.0, 2.0, 4.0]
+    assert nice_ticks(0.115, 0.19) == [0.12, 0.14, 0.16, 0.18]
+
+
+def test_render_picture_scales_before_drawing():
+    """Thermogram pixels become sharp blocks and the label grows with the output size."""
+    t = ramp_field(60, 80)
+    marks = [{"kind": "rectangle", "points": [[10, 10], [30, 25]], "label": "A"}]
+    sizes = []
+    for width_px in (400, 1600):
+        image = render_picture(t, "perceptual", 10, 40, marks=marks, width_px=width_px)
+        assert image.mode == "RGB" and image.size[0] == width_px
+        pixels = np.asarray(image)
+        green = np.all(pixels == MARK_COLOUR, axis=2)
+        ys, xs = np.nonzero(green[: image.size[1] // 6])  # the label sits above the mark
+        sizes.append(ys.max() - ys.min())
+    assert sizes[1] > 3 * sizes[0]
+    # Nearest-neighbour upscaling: a thermogram pixel is a block of one colour.
+    big = np.asarray(render_picture(t, "perceptual", 10, 40, scale_bar=False, width_px=800))
+    assert (big[400:410, 700:710] == big[400, 700]).all()
+
+
+def test_render_picture_marks_land_on_their_pixels():
+    """A rectangle's outline is drawn around the pixels it covers, at any scale."""
+    t = ramp_field(50, 100)
+    image = render_picture(
+        t,
+        "grey white-warm",
+        10,
+        40,
+        marks=[{"kind": "rectangle", "points": [[20, 10], [60, 40]]}],
+        scale_bar=False,
+        width_px=500,
+    )
+    pixels = np.asarray(image)
+    green = np.all(pixels == MARK_COLOUR, axis=2)
+    ys, xs = np.nonzero(green)
+    # 5 output pixels per thermogram pixel: pixels 20..60 span x 100..305.
+    assert abs(xs.min() - 100) <= 3 and abs(xs.max() - 305) <= 3
+    assert abs(ys.min() - 50) <= 3 and abs(ys.max() - 205) <= 3
+
+
+def test_render_picture_scale_bar_in_fahrenheit():
+    """The scale bar's ticks follow the display unit; the picture keeps its width."""
+    t = ramp_field(60, 80, 0.0, 100.0)
+    celsius = render_picture(t, "black-red-yellow", 0, 100, unit="C", width_px=600)
+    fahrenheit = render_picture(t, "black-red-yellow", 0, 100, unit="F", width_px=600)
+    assert celsius.size == fahrenheit.size
+    strip = slice(600 - 84, 600)
+    assert not np.array_equal(np.asarray(celsius)[:, strip], np.asarray(fahrenheit)[:, strip])
+    with pytest.raises(ValueError, match="unit"):
+        render_picture(t, unit="K")
+
+
+def test_render_picture_uses_auto_span_and_draws_overlays():
+    """Without a span the picture uses auto_span; overlay masks are painted."""
+    t = ramp_field(40, 60)
+    mask = isotherm_mask(t, 20.0, 22.0)
+    image = render_picture(t, overlays=[(mask, ISOTHERM_COLOUR)], scale_bar=False, width_px=60)
+    assert np.all(np.asarray(image)[mask] == ISOTHERM_COLOUR)
+
+
+def test_encoders_accept_arrays_and_images():
+    """encode_png round-trips pixels exactly, from an array or a picture."""
+    rgb = render(ramp_field(10, 10), "perceptual", 10, 40)
+    decoded = np.asarray(Image.open(io.BytesIO(encode_png(Image.fromarray(rgb)))))
+    np.testing.assert_array_equal(decoded, rgb)
+    assert encode_png(rgb) == encode_png(Image.fromarray(rgb))
