@@ -1,7 +1,7 @@
-
-
 def test_condensation_masks_leave_a_pixel_above_the_formula_range_out():
     """A 150 °C flue pixel in a wall picture is in neither mask instead of refusing the image."""
+    import numpy as np
+
     from survey.thermal.drawing import condensation_masks
 
     # Expected masks from the definition (ISO 13788: mould at surface RH >= 80 %, condensation
