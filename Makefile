@@ -35,7 +35,21 @@ demo: venv
 	@echo ""
 	$(BIN)/python manage.py runserver $(HOST):$(PORT)
 
-test: venv
+# Test-only tools from npm (axe-core, the Nu HTML checker): reinstalled when the lock changes.
+NODE_STAMP := node_modules/.installed-$(shell sha256sum package-lock.json | cut -c1-12)
+
+$(NODE_STAMP): package.json package-lock.json
+	@command -v npm >/dev/null || { \
+		echo "npm is needed for the accessibility and HTML checks: install Node.js 20 (apt-get install npm)."; \
+		exit 1; }
+	npm ci --no-audit --no-fund --ignore-scripts
+	@rm -f node_modules/.installed-*
+	@touch $@
+
+.PHONY: node-tools
+node-tools: $(NODE_STAMP)
+
+test: venv node-tools
 	$(BIN)/python -m pytest -c tests/pytest.ini --rootdir=. tests survey/thermal --doctest-modules -p no:cacheprovider $(PYTEST_ARGS)
 
 bench: venv
