@@ -35,10 +35,24 @@ demo: venv
 	@echo ""
 	$(BIN)/python manage.py runserver $(HOST):$(PORT)
 
+# Test-only tools from npm (axe-core, the Nu HTML checker): reinstalled when the lock changes.
+NODE_STAMP := node_modules/.installed-$(shell sha256sum package-lock.json | cut -c1-12)
+
+$(NODE_STAMP): package.json package-lock.json
+	@command -v npm >/dev/null || { \
+		echo "npm is needed for the accessibility and HTML checks: install Node.js 20 (apt-get install npm)."; \
+		exit 1; }
+	npm ci --no-audit --no-fund --ignore-scripts
+	@rm -f node_modules/.installed-*
+	@touch $@
+
+.PHONY: node-tools
+node-tools: $(NODE_STAMP)
+
 PYTEST := $(BIN)/python -m pytest -c tests/pytest.ini --rootdir=. -p no:cacheprovider
 
 # The deterministic "ci" Hypothesis profile runs here; `make fuzz` runs the heavy one.
-test: venv test-js
+test: venv node-tools test-js
 	$(PYTEST) tests survey/thermal --doctest-modules --durations=25 $(PYTEST_ARGS)
 
 # The workspace's pure JavaScript (coordinates, readouts, hit tests) with node's own runner.
