@@ -1,8 +1,8 @@
 """Shared fixtures: named personas in two organizations, and service checks.
 
-The owner organization "Northwind Thermal" has an admin (Olivia), a reviewer (Rita) and a
-thermographer (Theo). "Ridgeback Inspections" is another firm: its member Otto is the
-outsider who must never see Northwind's data.
+The owner organization "Northwind Thermal" has an admin (Olivia), a reviewer (Rita), a
+thermographer (Theo) and a read-only viewer (Vera). "Ridgeback Inspections" is another firm:
+its member Otto is the outsider who must never see Northwind's data.
 """
 
 import os
@@ -122,6 +122,11 @@ def reviewer(org) -> Member:
 @pytest.fixture
 def thermographer(org) -> Member:
     return make_person(org, "theo", Member.Role.THERMOGRAPHER, "Theo Thermographer")
+
+
+@pytest.fixture
+def viewer(org) -> Member:
+    return make_person(org, "vera", Member.Role.VIEWER, "Vera Viewer")
 
 
 @pytest.fixture
