@@ -21,7 +21,8 @@ from tests.hypothesis_profiles import examples
 @pytest.mark.parametrize(
     ("exponent", "expected_c"),
     [
-        # Source: 10 K at 40 % load, computed in the shared REFERENCES.md.
+        # Source: 10 K at 40 % load, computed by hand (docs/references.md § Electrical and
+        # mechanical ranking).
         (1.6, 43.32),
         (1.8, 52.03),
         (2.0, 62.50),
@@ -92,7 +93,8 @@ def test_electrical_invalid_input_raises_naming_the_parameter(call, parameter):
 
 
 # Source for both tables: NETA Maintenance Testing Specifications, thermographic survey
-# table, recalled from memory (bands: high confidence per REFERENCES.md). Integer bands read
+# table, recalled from memory (bands well remembered, docs/references.md § Electrical).
+# Integer bands read
 # as the intervals (−∞, 1), [1, 3], (3, 15], (15, ∞) and (−∞, 1), [1, 10], (10, 20],
 # (20, 40], (40, ∞), as documented in electrical.DEFAULT_CRITERIA.
 @pytest.mark.parametrize(

@@ -13,26 +13,29 @@ from tests.hypothesis_profiles import examples
 
 def test_instantaneous_fov_of_a_24_degree_320_pixel_camera():
     """24° over 320 pixels is 1.309 mrad per pixel."""
-    # Source: REFERENCES.md [computed]: IFOV = HFOV/pixels = 1.309 mrad.
+    # Source: docs/references.md § Geometry [computed]: IFOV = HFOV/pixels = 1.309 mrad.
     assert instantaneous_fov_mrad(24.0, 320) == pytest.approx(1.309, abs=0.0005)
 
 
 def test_pixel_footprint_at_5_m():
     """1.309 mrad at 5 m covers 6.54 mm."""
-    # Source: REFERENCES.md [computed]: footprint ≈ distance × IFOV → 6.54 mm at 5 m.
+    # Source: docs/references.md § Geometry [computed]: footprint ≈ distance × IFOV,
+    # 6.54 mm at 5 m.
     assert pixel_footprint_m(5.0, 1.309) == pytest.approx(0.00654, abs=0.000005)
 
 
 def test_pixel_area_is_count_times_footprint_squared():
     """100 pixels of 6.545 mm side cover 100 × footprint² face-on."""
-    # Source: REFERENCES.md: area = pixels × footprint² / cos θ; by hand 100 × 0.0065450² m².
+    # Source: docs/references.md § Geometry: area = pixels × footprint² / cos θ; by hand
+    # 100 × 0.0065450² m².
     assert pixel_area_m2(100, 5.0, 1.309) == pytest.approx(100 * 0.006545**2, rel=1e-9)
 
 
 @pytest.mark.parametrize(("angle_deg", "factor"), [(0.0, 1.0), (60.0, 2.0), (45.0, math.sqrt(2))])
 def test_pixel_area_grows_on_an_oblique_surface(angle_deg, factor):
     """An oblique view enlarges the true area by 1/cos θ."""
-    # Source: REFERENCES.md area = pixels × footprint² / cos θ; cos 60° = 1/2, cos 45° = 1/√2.
+    # Source: docs/references.md § Geometry: area = pixels × footprint² / cos θ;
+    # cos 60° = 1/2, cos 45° = 1/√2.
     face_on = pixel_area_m2(50, 3.0, 2.0)
     assert pixel_area_m2(50, 3.0, 2.0, view_angle_deg=angle_deg) == pytest.approx(
         face_on * factor, rel=1e-12

@@ -67,7 +67,7 @@ def test_saturation_vapor_pressure_over_ice_within_0_1_percent_of_hyland_wexler(
 @pytest.mark.parametrize(
     ("t_c", "expected_pa"),
     [
-        # Source: IAPWS-95 (CoolProp), listed in the shared REFERENCES.md; 20 °C also the
+        # Source: IAPWS-95 (CoolProp), listed in docs/references.md § Psychrometrics; 20 °C also the
         # ASHRAE Handbook Fundamentals table value 2.3393 kPa (from memory).
         (0.0, 611.21),
         (20.0, 2339.32),
@@ -118,7 +118,7 @@ def test_dew_point_matches_psychrolib_over_the_grid(t_air_c):
 @pytest.mark.parametrize(
     ("t_air_c", "rh_pct", "expected_c"),
     [
-        # Source: psychrolib, listed in the shared REFERENCES.md.
+        # Source: psychrolib, listed in docs/references.md § Psychrometrics.
         (20.0, 80.0, 16.447),
         (25.0, 60.0, 16.701),
         (30.0, 90.0, 28.177),
@@ -161,7 +161,7 @@ def test_surface_rh_matches_psychrolib(t_air_c, t_surface_c):
 @pytest.mark.parametrize(
     ("t_air_c", "rh_pct", "t_surface_c", "expected_pct", "stated_to"),
     [
-        # Source: psychrolib, listed in the shared REFERENCES.md (to the digits stated).
+        # Source: psychrolib, listed in docs/references.md § Psychrometrics (to the digits stated).
         (20.0, 50.0, 12.0, 83.4, 0.1),
         (20.0, 50.0, 15.0, 68.6, 0.1),
         (20.0, 60.0, 14.0, 87.8, 0.1),
@@ -187,7 +187,7 @@ def test_surface_rh_passes_nan_pixels_through():
     """A pixel without data gives NaN, the others a value."""
     # Source: documented NaN handling (no data in, no data out).
     result = surface_rh(20.0, 50.0, np.array([12.0, np.nan], dtype=np.float32))
-    assert result[0] == pytest.approx(83.4, abs=0.1)  # REFERENCES.md check value
+    assert result[0] == pytest.approx(83.4, abs=0.1)  # docs/references.md § Psychrometrics
     assert np.isnan(result[1])
 
 
@@ -201,7 +201,8 @@ def test_temperature_factor_follows_its_definition():
 @pytest.mark.parametrize(
     ("t_inside_c", "rh_pct", "t_outside_c", "expected"),
     [
-        # Source: ISO 13788 method computed with IAPWS (REFERENCES.md); the first case is
+        # Source: ISO 13788 method computed with IAPWS (docs/references.md § Building envelope); the
+        # first case is
         # also the DIN 4108-2 requirement fRsi ≥ 0.70 at θsi 12.6 °C.
         (20.0, 50.0, -5.0, 0.705),
         (20.0, 50.0, -10.0, 0.754),

@@ -57,7 +57,7 @@ def test_object_temperature_matches_scipy_planck_integration(
 @pytest.mark.parametrize(
     ("apparent", "eps", "reflected", "tau", "total", "lwir"),
     [
-        # Source: scipy quad + brentq, listed in the shared REFERENCES.md (3 decimals).
+        # Source: scipy quad + brentq, listed in docs/references.md § Radiometry (3 decimals).
         (30.0, 0.95, 20.0, 1.0, 30.500, 30.502),
         (80.0, 0.90, 25.0, 1.0, 84.730, 84.999),
         (100.0, 0.95, 20.0, 1.0, 103.003, 103.264),
@@ -69,7 +69,7 @@ def test_object_temperature_matches_scipy_planck_integration(
 def test_object_temperature_matches_published_check_table(
     apparent, eps, reflected, tau, total, lwir
 ):
-    """The check table of REFERENCES.md is reproduced to its stated 0.001 K."""
+    """The check table of docs/references.md § Radiometry is reproduced to its stated 0.001 K."""
     assert object_temperature(apparent, eps, reflected, tau, band="total") == pytest.approx(
         total, abs=0.0015
     )
@@ -116,7 +116,8 @@ def test_object_temperature_refuses_a_surface_that_reflects_more_than_it_emits(b
 
 def test_object_temperature_can_mark_impossible_pixels_as_nan():
     """With out_of_range="nan" only the impossible pixels become NaN."""
-    # Source: the 30 °C pixel is the REFERENCES.md check value at ε 0.95; at −90 °C the
+    # Source: the 30 °C pixel is the docs/references.md § Radiometry check value at ε 0.95; at −90
+    # °C the
     # corrected radiance lies below that of the −100 °C table floor.
     result = object_temperature(np.array([-90.0, 30.0]), 0.95, 20.0, out_of_range="nan")
     assert np.isnan(result[0])
@@ -125,7 +126,7 @@ def test_object_temperature_can_mark_impossible_pixels_as_nan():
 
 def test_object_temperature_passes_nan_pixels_through():
     """A pixel without data gives NaN; the rest are corrected."""
-    # Source: the 80 °C pixel is the REFERENCES.md check value.
+    # Source: the 80 °C pixel is the docs/references.md § Radiometry check value.
     result = object_temperature(np.array([[80.0, np.nan]], dtype=np.float32), 0.90, 25.0)
     assert result.shape == (1, 2)
     assert result[0, 0] == pytest.approx(84.999, abs=0.0015)
@@ -186,7 +187,8 @@ def test_object_temperature_uncertainty_matches_gum_propagation_with_scipy(eps):
 
 def test_object_temperature_uncertainty_is_large_at_low_emissivity():
     """±0.02 in ε is about ±0.7 K at ε 0.95 but several kelvin at ε 0.1."""
-    # Source: REFERENCES.md sensitivity (true 60 °C, reflected 20 °C, 8–14 µm): ±0.7 K at
+    # Source: docs/references.md § Radiometry, sensitivity (true 60 °C, reflected 20 °C, 8–14 µm):
+    # ±0.7 K at
     # ε 0.95, +8/−6 K at ε 0.1 (computed with scipy).
     high = object_temperature_uncertainty(
         apparent_temperature(60.0, 0.95, 20.0), 0.95, 20.0, 0.02, 0, 0

@@ -428,7 +428,8 @@ def test_it_gives_the_condensation_overlay_thresholds(thermographer_client, ther
     ).json()
     overlay = data["condensation"]
     assert overlay["available"] is True
-    # θsi,min 12.63 °C (REFERENCES.md, computed); dew point 9.27 °C (psychrolib).
+    # θsi,min 12.63 °C (docs/references.md § Building envelope, computed); dew point 9.27 °C
+    # (psychrolib).
     assert overlay["surface_c"]["rh80"] == pytest.approx(12.63, abs=0.03)
     assert overlay["surface_c"]["rh100"] == pytest.approx(9.27, abs=0.03)
     # Below the reflected 20 °C a surface at ε 0.95 reads slightly warmer than it is.
