@@ -29,6 +29,13 @@ def _member_of(user: AbstractBaseUser, organization) -> Member:
     return member
 
 
+def _require_editor(user: AbstractBaseUser, organization) -> Member:
+    member = _member_of(user, organization)
+    if not member.can_edit:
+        raise PermissionDenied("Your role cannot create or change reports.")
+    return member
+
+
 def _require_reviewer(user: AbstractBaseUser, organization) -> Member:
     member = _member_of(user, organization)
     if not member.can_review:
@@ -51,9 +58,7 @@ def next_report_number(organization, year: int) -> str:
 
 
 def report_create(*, survey: Survey, user: AbstractBaseUser) -> Report:
-    member = _member_of(user, survey.organization)
-    if not member.can_edit:
-        raise PermissionDenied("Your role cannot create reports.")
+    _require_editor(user, survey.organization)
     if survey.reports.exists():
         raise ValidationError(f"This survey already has report {survey.reports.first().number}.")
     # Two people may create reports at the same moment: retry on a taken number.
@@ -89,7 +94,7 @@ def _enqueue_render(version: ReportVersion) -> None:
 
 def report_request_draft(*, report: Report, user: AbstractBaseUser) -> ReportVersion:
     """Queue a watermarked draft; a draft already waiting is returned instead of a second one."""
-    _member_of(user, report.organization)
+    _require_editor(user, report.organization)
     pending = report.versions.filter(
         is_draft=True, status__in=[ReportVersion.Status.QUEUED, ReportVersion.Status.RENDERING]
     ).first()
@@ -142,7 +147,7 @@ def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "
 
 def report_retry(*, version: ReportVersion, user: AbstractBaseUser) -> ReportVersion:
     """Queue a failed draft again (a failed final version is retried by issuing again)."""
-    _member_of(user, version.report.organization)
+    _require_editor(user, version.report.organization)
     if not version.is_draft or version.status != ReportVersion.Status.FAILED:
         raise ValidationError("Only a failed draft can be tried again.")
     with transaction.atomic():
