@@ -124,6 +124,60 @@ class Asset(models.Model):
         return f"{self.name} ({self.tag})" if self.tag else self.name
 
 
+class Instrument(models.Model):
+    """A thermal camera of the organization: what a survey's pixel geometry and accuracy
+    are computed from (the lens's field of view across the detector's width)."""
+
+    organization = models.ForeignKey(
+        Organization, on_delete=models.CASCADE, related_name="instruments"
+    )
+    model_name = models.CharField(max_length=200, help_text="Make and model of the camera.")
+    serial_number = models.CharField(max_length=100, blank=True)
+    detector_width_px = models.PositiveIntegerField(
+        validators=[MinValueValidator(8), MaxValueValidator(10000)],
+        help_text="Pixels across the detector.",
+    )
+    detector_height_px = models.PositiveIntegerField(
+        validators=[MinValueValidator(8), MaxValueValidator(10000)],
+        help_text="Pixels down the detector.",
+    )
+    lens_hfov_deg = models.FloatField(
+        validators=[MinValueValidator(1.0), MaxValueValidator(170.0)],
+        help_text="Horizontal field of view of the lens, degrees.",
+    )
+    netd_mk = models.FloatField(
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(1), MaxValueValidator(1000)],
+        help_text="Thermal sensitivity (NETD), mK.",
+    )
+    accuracy_c = models.FloatField(
+        default=2.0, validators=[MinValueValidator(0), MaxValueValidator(50)]
+    )
+    accuracy_pct = models.FloatField(
+        default=2.0, validators=[MinValueValidator(0), MaxValueValidator(50)]
+    )
+    calibration_date = models.DateField(null=True, blank=True)
+    calibration_due = models.DateField(null=True, blank=True)
+    certificate_reference = models.CharField(max_length=200, blank=True)
+    created_at = models.DateTimeField(auto_now_add=True)
+    updated_at = models.DateTimeField(auto_now=True)
+
+    class Meta:
+        ordering = ["model_name", "serial_number", "id"]
+        constraints = [
+            models.CheckConstraint(
+                condition=Q(lens_hfov_deg__gt=0, lens_hfov_deg__lt=180),
+                name="instrument_hfov_range",
+            ),
+        ]
+
+    def __str__(self) -> str:
+        serial = f", serial {self.serial_number}" if self.serial_number else ""
+        size = f"{self.detector_width_px} × {self.detector_height_px}"
+        return f"{self.model_name}{serial} ({size}, {self.lens_hfov_deg:g}°)"
+
+
 class Survey(models.Model):
     class Kind(models.TextChoices):
         ENVELOPE = "envelope", "Building envelope"
@@ -140,6 +194,9 @@ class Survey(models.Model):
     kind = models.CharField(max_length=20, choices=Kind.choices)
     title = models.CharField(max_length=200, blank=True)
     date = models.DateField()
+    start_time = models.TimeField(
+        null=True, blank=True, help_text="Local time the survey began (roofs: at night)."
+    )
     crew = models.CharField(max_length=300, blank=True)
     thermographer = models.ForeignKey(
         Member, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
@@ -149,6 +206,11 @@ class Survey(models.Model):
     )
     instrument = models.CharField(
         max_length=200, blank=True, help_text="Camera make, model and serial."
+    )
+    # The organization's camera record; the free text and ifov_mrad above are kept for
+    # surveys recorded before instruments existed, and used only when this is empty.
+    camera = models.ForeignKey(
+        Instrument, on_delete=models.SET_NULL, null=True, blank=True, related_name="surveys"
     )
     ifov_mrad = models.FloatField(
         null=True,
@@ -245,6 +307,21 @@ class Conditions(models.Model):
         validators=[MinValueValidator(0), MaxValueValidator(150)],
         help_text="Electrical load as a percentage of rating at the time of the survey.",
     )
+    roof_surface_c = models.FloatField(
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(-60), MaxValueValidator(80)],
+        help_text="Coldest dry roof membrane temperature (roof surveys).",
+    )
+    design_indoor_c = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(-10), MaxValueValidator(40)]
+    )
+    design_indoor_rh_pct = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(1), MaxValueValidator(100)]
+    )
+    design_outdoor_c = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(-60), MaxValueValidator(30)]
+    )
     equipment_steady = models.BooleanField(null=True, blank=True)
     covers_opened_by_qualified = models.BooleanField(null=True, blank=True)
     notes = models.TextField(blank=True)
@@ -305,6 +382,8 @@ class Thermogram(models.Model):
     error = models.TextField(blank=True)
     # Derived data, always rebuildable from the original and decode_settings.
     array = models.FileField(upload_to="arrays/%Y/%m/", max_length=300, blank=True)
+    # sha256 of the °C array file's content: the temperatures' ETag changes when it does.
+    array_sha256 = models.CharField(max_length=64, blank=True)
     preview = models.FileField(upload_to="previews/%Y/%m/", max_length=300, blank=True)
     thumbnail = models.FileField(upload_to="thumbnails/%Y/%m/", max_length=300, blank=True)
     width = models.PositiveIntegerField(null=True, blank=True)
@@ -388,8 +467,17 @@ class Mark(models.Model):
         MARK = "mark", "Another mark"
         AMBIENT = "ambient", "Ambient air"
 
+    class RiseMethod(models.TextChoices):
+        HOTTEST_TO_HOTTEST = "hottest_to_hottest", "hottest to hottest"
+        HOTTEST_TO_MEAN = "hottest_to_mean", "hottest to mean"
+
     thermogram = models.ForeignKey(Thermogram, on_delete=models.CASCADE, related_name="marks")
     label = models.CharField(max_length=8)
+    name = models.CharField(
+        max_length=20,
+        blank=True,
+        help_text="Optional short name shown with the letter: L1, N, lug 3.",
+    )
     kind = models.CharField(max_length=10, choices=Kind.choices)
     points = models.JSONField(help_text="Pixel coordinates [[x, y], …].")
     single_pixel = models.BooleanField(default=False)
@@ -404,6 +492,11 @@ class Mark(models.Model):
     )
     reference_mark = models.ForeignKey(
         "self", on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
+    )
+    # How the rise over a reference mark is taken: like components hottest to hottest
+    # unless the inspector chooses otherwise.
+    rise_method = models.CharField(
+        max_length=20, choices=RiseMethod.choices, default=RiseMethod.HOTTEST_TO_HOTTEST
     )
     note = models.TextField(blank=True, max_length=4000)
     # Statistics of the apparent temperatures, cached when the mark is saved.
@@ -422,7 +515,12 @@ class Mark(models.Model):
         ]
 
     def __str__(self) -> str:
-        return f"{self.label} ({self.get_kind_display()})"
+        return f"{self.title} ({self.get_kind_display()})"
+
+    @property
+    def title(self) -> str:
+        """The letter with the short name when there is one: 'A (L1)'."""
+        return f"{self.label} ({self.name})" if self.name else self.label
 
     @property
     def effective_emissivity(self) -> float:
@@ -511,12 +609,34 @@ class Finding(models.Model):
         CriteriaTable, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
     )
     criteria_row = models.CharField(max_length=200, blank=True)
+    reference_mark = models.ForeignKey(
+        Mark,
+        on_delete=models.SET_NULL,
+        null=True,
+        blank=True,
+        related_name="reference_of_findings",
+        help_text="The like component a rise was taken over.",
+    )
+    rise_method = models.CharField(max_length=20, choices=Mark.RiseMethod.choices, blank=True)
+    load_exponent = models.FloatField(
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(1.0), MaxValueValidator(3.0)],
+        help_text="Exponent n of the load correction ΔT·(100/load)^n.",
+    )
     rise_c = models.FloatField(null=True, blank=True)
     corrected_rise_c = models.FloatField(null=True, blank=True)
     max_corrected_c = models.FloatField(null=True, blank=True)
     recommendation = models.TextField(blank=True)
+    # The readings the finding was judged on, by mark label; compared with the marks now.
+    readings_snapshot = models.JSONField(default=dict, blank=True)
     status = models.CharField(max_length=10, choices=Status.choices, default=Status.OPEN)
     status_changed_at = models.DateTimeField(null=True, blank=True)
+    # How "verified" was earned: a later measurement that passed the check, or an override.
+    verification = models.JSONField(default=dict, blank=True)
+    verification_reason = models.TextField(
+        blank=True, help_text="Why the finding was verified without a later measurement."
+    )
     created_by = models.ForeignKey(
         settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
     )
