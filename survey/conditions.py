@@ -10,6 +10,7 @@ your own practice).
 
 from __future__ import annotations
 
+import datetime
 from dataclasses import dataclass
 
 from survey.models import Conditions
@@ -28,12 +29,14 @@ class Criterion:
 
     key: str
     label: str
-    field: str
-    test: str  # "min" (value >= limit), "max" (value <= limit), "true", "equals", "recorded"
+    field: str  # a field of Conditions, or a value of DERIVED
+    # "min" (value >= limit), "above" (value > limit), "max" (value <= limit), "true",
+    # "equals", "recorded", "night" (a time of day from limit[0] to limit[1] across midnight)
+    test: str
     requirement: str
     source: str
     confidence: str
-    limit: float | str | None = None
+    limit: float | str | tuple | None = None
     unit: str = ""
 
     def evaluate(self, value) -> str:
@@ -41,6 +44,11 @@ class Criterion:
             return "not_recorded"
         if self.test == "min":
             ok = value >= self.limit
+        elif self.test == "above":
+            ok = value > self.limit
+        elif self.test == "night":
+            start, end = self.limit
+            ok = value >= start or value <= end
         elif self.test == "max":
             ok = value <= self.limit
         elif self.test == "true":
@@ -129,9 +137,40 @@ _DRY = Criterion(
 )
 
 
+# A night survey as common practice puts it: from the evening, after the sun has left the
+# roof, to before sunrise. The clock window is a rule of thumb, not the sunset of the place.
+NIGHT_FROM, NIGHT_TO = datetime.time(18, 0), datetime.time(6, 0)
+
+
+_ROOF_ABOVE_DEW_POINT = Criterion(
+    key="roof_above_dew_point",
+    label="Roof membrane above the outdoor dew point (frost point below 0 °C)",
+    field="roof_margin_to_dew_point_k",
+    test="above",
+    limit=0.0,
+    unit="K",
+    requirement="above it: dew or frost on the membrane hides wet insulation",
+    source="ASTM C1153 (dry membrane); dew or frost point over ice below 0 °C (ISO 13788)",
+    confidence="practice",
+)
+
+
+_NIGHT_SURVEY = Criterion(
+    key="night_survey",
+    label="Surveyed at night",
+    field="survey_start_time",
+    test="night",
+    limit=(NIGHT_FROM, NIGHT_TO),
+    requirement="started between 18:00 and 06:00 (after sunset; check the sunset of the day)",
+    source="ASTM C1153 (night survey after a sunny day); the clock window is common practice",
+    confidence="practice",
+)
+
+
 CONDITIONS_CRITERIA: dict[str, list[Criterion]] = {
     "envelope": [_DELTA_T, _DELTA_T_HELD, _NO_SUN, _WIND, _NO_PRECIPITATION, _DRY],
     "roof": [
+        _NIGHT_SURVEY,
         Criterion(
             key="sunny_day_before",
             label="Sunny day before the survey",
@@ -173,6 +212,7 @@ CONDITIONS_CRITERIA: dict[str, list[Criterion]] = {
             source="ASTM C1153",
             confidence="memory",
         ),
+        _ROOF_ABOVE_DEW_POINT,
     ],
     "electrical": [
         Criterion(
@@ -230,11 +270,45 @@ CONDITIONS_CRITERIA: dict[str, list[Criterion]] = {
 }
 
 
+def _roof_margin_to_dew_point_k(survey, conditions) -> float | None:
+    """Roof membrane minus the outdoor air's dew point (frost point below 0 °C), K."""
+    from survey.thermal import surface_margin_k
+
+    if conditions is None:
+        return None
+    values = (conditions.roof_surface_c, conditions.outdoor_air_c, conditions.outdoor_rh_pct)
+    if None in values or not conditions.outdoor_rh_pct > 0:
+        return None
+    t_surface, t_air, rh = values
+    try:
+        return float(surface_margin_k(t_air, rh, t_surface, 100.0))
+    except ValueError:
+        return None
+
+
+# Values computed from the survey and its conditions, by the name a criterion reads.
+DERIVED = {
+    "roof_margin_to_dew_point_k": _roof_margin_to_dew_point_k,
+    "survey_start_time": lambda survey, conditions: survey.start_time,
+}
+
+
+def _value(survey, conditions, field: str):
+    if field in DERIVED:
+        return DERIVED[field](survey, conditions)
+    return getattr(conditions, field, None) if conditions is not None else None
+
+
 def _value_text(criterion: Criterion, value, conditions) -> str:
     if value is None or value == "":
         return "not recorded"
     if isinstance(value, bool):
         return "yes" if value else "no"
+    if isinstance(value, datetime.time):
+        return value.strftime("%H:%M")
+    if criterion.field == "roof_margin_to_dew_point_k":
+        side = "above" if value > 0 else "below"
+        return f"{abs(value):.1f} K {side} it"
     if isinstance(value, float | int):
         return f"{value:.1f} {criterion.unit}".strip()
     if criterion.field == "precipitation" and conditions is not None:
@@ -255,14 +329,14 @@ def conditions_check(survey) -> list[dict]:
         conditions = None
     checks = []
     for criterion in CONDITIONS_CRITERIA.get(survey.kind, []):
-        value = getattr(conditions, criterion.field, None) if conditions is not None else None
+        value = _value(survey, conditions, criterion.field)
         checks.append(
             {
                 "key": criterion.key,
                 "criterion": criterion.label,
                 "status": (status := criterion.evaluate(value)),
                 "status_text": status.replace("_", " "),
-                "value": value,
+                "value": value.strftime("%H:%M") if isinstance(value, datetime.time) else value,
                 "value_text": _value_text(criterion, value, conditions),
                 "requirement": criterion.requirement,
                 "source": criterion.source,

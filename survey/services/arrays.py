@@ -4,6 +4,7 @@ The cache key is the file path plus its modification time and size, so a re-proc
 thermogram (its array rewritten by rename) is never served stale.
 """
 
+import hashlib
 import os
 import threading
 from collections import OrderedDict
@@ -53,6 +54,36 @@ def thermogram_temperatures(thermogram: Thermogram) -> np.ndarray:
         while len(_cache) > CACHE_ENTRIES:
             _cache.popitem(last=False)
     return array
+
+
+def thermogram_array_digest(thermogram: Thermogram) -> str:
+    """sha256 of the °C array file: recorded when the array is written, else read once.
+
+    What the temperatures' ETag is made of, so a re-processed array (new scale, unit or
+    false-colour range) is never taken for the one a browser holds.
+    """
+    if thermogram.array_sha256:
+        return thermogram.array_sha256
+    if not thermogram.array:
+        raise ThermogramNotReady(
+            f"Thermogram {thermogram.pk} has no temperature array yet "
+            f"(status: {thermogram.get_status_display()})."
+        )
+    digest = hashlib.sha256()
+    try:
+        with thermogram.array.storage.open(thermogram.array.name, "rb") as handle:
+            for chunk in iter(lambda: handle.read(1024 * 1024), b""):
+                digest.update(chunk)
+    except FileNotFoundError:
+        raise ThermogramNotReady(
+            f"The temperature array of thermogram {thermogram.pk} is missing; re-process it."
+        ) from None
+    value = digest.hexdigest()
+    Thermogram.objects.filter(pk=thermogram.pk, array=thermogram.array.name).update(
+        array_sha256=value
+    )
+    thermogram.array_sha256 = value
+    return value
 
 
 @dataclass(frozen=True)

@@ -7,16 +7,18 @@ Choices, documented once here:
 - The key reading of a visit is the highest corrected temperature of the marks on the
   asset's thermograms (the whole thermogram's corrected maximum when it has no marks), and
   the highest rise of those marks per basis: ``similar`` when the mark's reference is
-  another mark, ``ambient`` when it is the air. A rise is corrected to full load when the
-  survey recorded the load (the same I²R correction as findings). Building surveys also
-  keep the highest surface RH.
+  another mark, ``ambient`` when it is the air. Each is kept as measured and, when the
+  survey recorded the load, also corrected to full load with the exponent n of the visit's
+  finding of that basis (n = 2 when the visit has none); both are shown, labelled, at
+  0.1 K. Building surveys also keep the highest surface RH.
 - Repair verification: a finding that is open or repaired is compared with the latest
   later visit that measured the same basis. For a rise, the repair worked when the rise has
   fallen below the lower bound of the lowest band of the finding's table (the "possible
   deficiency" band of the electrical tables): below it the table gives no level, so there
-  is nothing left to report. For building surfaces the same holds for the surface RH under
-  the envelope table. Otherwise the repair did not work. Roof findings need cores or a
-  moisture meter; the app does not judge their repair.
+  is nothing left to report. The later rise is corrected to full load with the finding's
+  own n, so like is compared with like. For building surfaces the same holds for the
+  surface RH under the envelope table. Otherwise the repair did not work. Roof findings
+  need cores or a moisture meter; the app does not judge their repair.
 """
 
 from __future__ import annotations
@@ -28,21 +30,40 @@ from django.core.exceptions import ValidationError
 
 from survey import severity
 from survey.models import Asset, Conditions, Finding, Survey
-from survey.services.findings import finding_set_status
+from survey.services.findings import finding_verify_by_measurement
 
 OPEN_STATUSES = {Finding.Status.OPEN, Finding.Status.REPAIRED}
+RISE_BASES = ("similar", "ambient")
+DEFAULT_EXPONENT = 2.0
 
 
-def _load_corrected(rise_c: float, survey: Survey) -> tuple[float, bool]:
-    from survey.thermal import load_corrected_rise
-
+def _load(survey: Survey) -> float | None:
     try:
         load = survey.conditions.load_pct
     except Conditions.DoesNotExist:
-        load = None
-    if load is None or load <= 0 or rise_c <= 0 or survey.is_building:
-        return rise_c, False
-    return float(load_corrected_rise(rise_c, load)), True
+        return None
+    if load is None or load <= 0 or survey.is_building:
+        return None
+    return load
+
+
+def full_load_rise(measured_c: float, load_pct: float | None, exponent: float) -> float | None:
+    """The full-load rise at 0.1 K, or None without a load (or for a rise of 0 K or less)."""
+    from survey.thermal import load_corrected_rise, round_rise_c
+
+    if load_pct is None or measured_c <= 0:
+        return None
+    return float(round_rise_c(load_corrected_rise(measured_c, load_pct, exponent)))
+
+
+def _rise(measured_c: float, survey: Survey, exponent: float) -> dict:
+    load = _load(survey)
+    return {
+        "measured": measured_c,
+        "full_load": full_load_rise(measured_c, load, exponent),
+        "exponent": exponent if load is not None and measured_c > 0 else None,
+        "load_pct": load,
+    }
 
 
 def _max(values):
@@ -100,25 +121,36 @@ def asset_history(asset: Asset) -> list[dict]:
     return visits
 
 
+def _exponent(findings: list, basis: str) -> float:
+    for finding in findings:
+        if finding.basis == basis and finding.load_exponent is not None:
+            return finding.load_exponent
+    return DEFAULT_EXPONENT
+
+
 def _visit(survey: Survey, thermograms: list, findings: list) -> dict:
     keys = [_thermogram_key(t) for t in thermograms]
     rises = {}
-    corrected_to_full_load = False
-    for basis in ("similar", "ambient"):
-        raw = _max([v for key in keys for v in key["rises"][basis]])
-        if raw is not None:
-            rises[basis], corrected = _load_corrected(raw, survey)
-            corrected_to_full_load = corrected_to_full_load or corrected
+    for basis in RISE_BASES:
+        measured = _max([v for key in keys for v in key["rises"][basis]])
+        if measured is not None:
+            rises[basis] = _rise(measured, survey, _exponent(findings, basis))
     # A judged finding's rise is the visit's rise for its basis when marks give none.
     for finding in findings:
-        if finding.basis in ("similar", "ambient") and finding.corrected_rise_c is not None:
-            rises.setdefault(finding.basis, finding.corrected_rise_c)
+        if finding.basis in RISE_BASES and finding.basis not in rises:
+            measured = finding.rise_c if finding.rise_c is not None else finding.corrected_rise_c
+            if measured is not None:
+                rises[finding.basis] = _rise(
+                    measured, survey, finding.load_exponent or DEFAULT_EXPONENT
+                )
     max_c = _max([k["max_c"] for k in keys] + [f.max_corrected_c for f in findings])
     key_rise = None
-    basis_order = [f.basis for f in findings] + ["similar", "ambient"]
+    basis_order = [f.basis for f in findings] + list(RISE_BASES)
     for basis in basis_order:
         if basis in rises:
-            key_rise = {"basis": basis, "value": rises[basis]}
+            rise = rises[basis]
+            value = rise["full_load"] if rise["full_load"] is not None else rise["measured"]
+            key_rise = {"basis": basis, "value": value} | rise
             break
     return {
         "survey": survey,
@@ -128,7 +160,7 @@ def _visit(survey: Survey, thermograms: list, findings: list) -> dict:
         "max_corrected_c": max_c,
         "rises": rises,
         "key_rise": key_rise,
-        "load_corrected": corrected_to_full_load,
+        "load_corrected": any(r["full_load"] is not None for r in rises.values()),
         "surface_rh_pct": _max([k["surface_rh_pct"] for k in keys]),
     }
 
@@ -138,7 +170,10 @@ def trend_points(visits: list[dict], basis: str | None = None) -> list[tuple]:
     points = []
     for visit in visits:
         if basis:
-            value = visit["rises"].get(basis)
+            rise = visit["rises"].get(basis)
+            value = None
+            if rise is not None:
+                value = rise["full_load"] if rise["full_load"] is not None else rise["measured"]
         else:
             value = visit["key_rise"]["value"] if visit["key_rise"] else None
         points.append((visit["date"], value))
@@ -153,12 +188,48 @@ def _threshold(finding: Finding) -> float | None:
         return None
 
 
+def rise_text(value: float | None, full_load: bool, exponent: float | None) -> str:
+    """'6.3 K full-load (n = 1.5)' or '4.0 K measured'."""
+    if value is None:
+        return "—"
+    if full_load:
+        return f"{value:.1f} K full-load (n = {exponent:g})"
+    return f"{value:.1f} K measured"
+
+
+def _judged_value(finding: Finding, visit: dict) -> tuple[float | None, str]:
+    """The value of a later visit to compare with the finding's, and its words."""
+    if finding.basis == "envelope":
+        value = visit["surface_rh_pct"]
+        return value, (f"{value:.1f} % RH" if value is not None else "—")
+    rise = visit["rises"].get(finding.basis)
+    if rise is None:
+        return None, "—"
+    exponent = finding.load_exponent or DEFAULT_EXPONENT
+    full = full_load_rise(rise["measured"], rise["load_pct"], exponent)
+    if full is not None:
+        return full, rise_text(full, True, exponent)
+    return rise["measured"], rise_text(rise["measured"], False, None)
+
+
+def _before(finding: Finding) -> tuple[float | None, str]:
+    if finding.basis == "envelope":
+        value = (finding.suggestion.get("values") or {}).get("surface_rh_pct")
+        return value, (f"{value:.1f} % RH" if value is not None else "—")
+    full = finding.corrected_rise_c
+    if full is not None and full != finding.rise_c:
+        return full, rise_text(full, True, finding.load_exponent or DEFAULT_EXPONENT)
+    value = finding.rise_c if finding.rise_c is not None else full
+    return value, rise_text(value, False, None)
+
+
 def repair_verification(finding: Finding, visits: list[dict] | None = None) -> dict | None:
     """Before/after of an open or repaired finding against the latest later visit.
 
     Returns None when there is nothing to compare (finding closed, no asset, no later
     measurement of the same basis). Otherwise ``before``, ``after`` (visits),
-    ``threshold``, ``unit``, ``outcome`` (``fixed`` or ``not_fixed``) and ``message``.
+    ``threshold``, ``unit``, ``outcome`` (``fixed`` or ``not_fixed``), ``message`` and the
+    printed ``before_text``, ``after_text``, ``threshold_text``.
     """
     if finding.status not in OPEN_STATUSES or finding.asset_id is None:
         return None
@@ -171,49 +242,40 @@ def repair_verification(finding: Finding, visits: list[dict] | None = None) -> d
         v
         for v in visits
         if (v["date"], v["survey"].pk) > (finding.survey.date, finding.survey_id)
-        and _after_value(v, finding.basis) is not None
+        and _judged_value(finding, v)[0] is not None
     ]
     if before is None or not later:
         return None
     after = later[-1]
-    value = _after_value(after, finding.basis)
+    value, after_text = _judged_value(finding, after)
     threshold = _threshold(finding)
     if threshold is None:
         return None
-    if finding.basis == "envelope":
-        before_value = (finding.suggestion.get("values") or {}).get("surface_rh_pct")
-        unit = "% RH"
-    else:
-        before_value = finding.corrected_rise_c
-        unit = "K"
+    unit = "% RH" if finding.basis == "envelope" else "K"
+    before_value, before_text = _before(finding)
+    threshold_text = f"{threshold:g} {unit}"
     fixed = value < threshold
     if fixed:
         message = (
-            f"Now {value:.1f} {unit}, below {threshold:g} {unit} where the table starts: the "
-            "repair worked and the finding can be marked verified."
+            f"Now {after_text}, below {threshold_text} where the table starts: the repair "
+            "worked and the finding can be marked verified."
         )
     else:
-        message = (
-            f"Now {value:.1f} {unit}, still at or above {threshold:g} {unit}: the repair did "
-            "not work."
-        )
+        message = f"Now {after_text}, still at or above {threshold_text}: the repair did not work."
     return {
         "finding": finding,
         "before": before,
         "before_value": before_value,
+        "before_text": before_text,
         "after": after,
         "after_value": value,
+        "after_text": after_text,
         "threshold": threshold,
+        "threshold_text": threshold_text,
         "unit": unit,
         "outcome": "fixed" if fixed else "not_fixed",
         "message": message,
     }
-
-
-def _after_value(visit: dict, basis: str):
-    if basis == "envelope":
-        return visit["surface_rh_pct"]
-    return visit["rises"].get(basis)
 
 
 def asset_verifications(asset: Asset, visits: list[dict] | None = None) -> list[dict]:
@@ -236,8 +298,13 @@ def finding_verify(*, finding: Finding, user: AbstractBaseUser) -> Finding:
         raise ValidationError("No later measurement of this asset to verify the repair against.")
     if check["outcome"] != "fixed":
         raise ValidationError(check["message"])
-    note = (
-        f"Verified on {check['after']['date']}: {check['before_value']} → "
-        f"{check['after_value']:.1f} {check['unit']} (below {check['threshold']:g})."
-    )
-    return finding_set_status(finding=finding, user=user, status=Finding.Status.VERIFIED, note=note)
+    evidence = {
+        "outcome": "fixed",
+        "survey_id": check["after"]["survey"].pk,
+        "date": check["after"]["date"].isoformat(),
+        "before_text": check["before_text"],
+        "after_text": check["after_text"],
+        "threshold_text": check["threshold_text"],
+        "after_value": check["after_value"],
+    }
+    return finding_verify_by_measurement(finding=finding, user=user, evidence=evidence)

@@ -105,10 +105,40 @@ def _validate_scale_bar_box(box) -> list[int] | None:
     return [int(v) for v in box]
 
 
+# Text matrices up to this size are decoded once at upload, so a file the decoder refuses
+# (an ambiguous decimal comma, a .tif that holds text, a header naming another unit) is
+# refused at once with the decoder's message instead of failing later in the worker.
+TEXT_CHECK_BYTES = 8 * 1024 * 1024
+
+
+def _check_text(data: bytes, name: str, decode: dict) -> None:
+    try:
+        thermal.read_temperatures(
+            data,
+            name,
+            unit=decode.get("unit", "C"),
+            scale=decode.get("scale"),
+            offset=decode.get("offset"),
+            max_pixels=settings.THERMOGRAM_MAX_PIXELS,
+            max_bytes=settings.THERMOGRAM_MAX_UPLOAD_BYTES,
+            max_text_bytes=settings.THERMOGRAM_MAX_UPLOAD_BYTES,
+        )
+    except thermal.ThermogramFormatError as error:
+        raise ValidationError(str(error)) from None
+
+
 def thermogram_check_upload(
-    *, survey: Survey, name: str, data: bytes, palette_source: dict | None
+    *,
+    survey: Survey,
+    name: str,
+    data: bytes,
+    palette_source: dict | None,
+    decode: dict | None = None,
 ) -> str:
-    """Everything that can be known about an upload before it is stored; returns its format."""
+    """Everything that can be known about an upload before it is stored; returns its format.
+
+    `decode` holds the unit, scale and offset the file will be read with.
+    """
     limit = settings.THERMOGRAM_MAX_UPLOAD_BYTES
     if len(data) == 0:
         raise ValidationError("The file is empty.")
@@ -129,6 +159,8 @@ def thermogram_check_upload(
             "False-colour options were given, but this file holds temperature data: "
             "upload it without them."
         )
+    if kind == "text" and len(data) <= TEXT_CHECK_BYTES:
+        _check_text(data, name, decode or {})
     return "false-colour" if false_colour else kind
 
 
@@ -167,7 +199,11 @@ def thermogram_ingest(
     palette_source = _validate_false_colour(palette_source)
     data = _read_upload(uploaded_file)
     kind = thermogram_check_upload(
-        survey=survey, name=name, data=data, palette_source=palette_source
+        survey=survey,
+        name=name,
+        data=data,
+        palette_source=palette_source,
+        decode={"unit": unit, "scale": scale, "offset": offset},
     )
     digest = hashlib.sha256(data).hexdigest()
     duplicate = survey.thermograms.filter(original_sha256=digest).first()

@@ -11,6 +11,7 @@ import numpy as np
 from django.contrib.auth.models import AbstractBaseUser
 from django.core.exceptions import ValidationError
 from django.db import transaction
+from django.db.models import Q
 
 from survey.models import Mark, Thermogram, mark_label
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
@@ -28,6 +29,8 @@ POINT_COUNTS = {
     Mark.Kind.POLYGON: (3, MAX_POLYGON_VERTICES),
 }
 EDITABLE_FIELDS = {
+    "name",
+    "rise_method",
     "points",
     "emissivity",
     "reflected_c",
@@ -183,6 +186,8 @@ def mark_add(
     reference_kind: str = Mark.ReferenceKind.NONE,
     reference_mark: Mark | None = None,
     single_pixel: bool = False,
+    name: str = "",
+    rise_method: str = Mark.RiseMethod.HOTTEST_TO_HOTTEST,
 ) -> Mark:
     """Add a mark labelled with the next free letter, with its statistics cached."""
     thermogram = _lock(thermogram)
@@ -205,6 +210,8 @@ def mark_add(
         note=note or "",
         reference_kind=reference_kind,
         reference_mark=reference_mark,
+        name=(name or "").strip(),
+        rise_method=rise_method,
     )
     mark.full_clean()
     _clean_reference(mark)
@@ -232,6 +239,8 @@ def mark_update(*, mark: Mark, user: AbstractBaseUser | None, **changes: Any) ->
         setattr(mark, name, value)
     if "note" in changes and mark.note is None:
         mark.note = ""
+    if "name" in changes:
+        mark.name = (mark.name or "").strip()
     if "points" in changes:
         mark.points = _clean_points(thermogram, mark.kind, changes["points"])
     mark.full_clean()
@@ -250,10 +259,37 @@ def mark_update(*, mark: Mark, user: AbstractBaseUser | None, **changes: Any) ->
     return mark
 
 
+class MarkInUse(ValidationError):
+    """A mark a finding was judged on: deleting it would leave the finding citing nothing."""
+
+    def __init__(self, mark: Mark, findings: list):
+        self.findings = findings
+        names = ", ".join(f"#{f.pk}" for f in findings)
+        super().__init__(
+            f"Mark {mark.title} is used by finding {names}: it cannot be deleted while the "
+            "finding cites it. Change or delete the finding first."
+        )
+
+
+def mark_findings(mark: Mark) -> list:
+    """The findings judged on a mark, as the judged place or as its reference."""
+    from survey.models import Finding
+
+    return list(
+        Finding.objects.filter(Q(marks=mark) | Q(reference_mark=mark)).distinct().order_by("id")
+    )
+
+
 @transaction.atomic
 def mark_delete(*, mark: Mark, user: AbstractBaseUser | None) -> None:
-    """Delete a mark; marks that took it as their reference lose that reference."""
+    """Delete a mark; marks that took it as their reference lose that reference.
+
+    Raises MarkInUse (a ValidationError naming the findings) for a mark a finding uses.
+    """
     thermogram = _lock(mark.thermogram)
+    used = mark_findings(mark)
+    if used:
+        raise MarkInUse(mark, used)
     Mark.objects.filter(reference_mark=mark).update(
         reference_mark=None, reference_kind=Mark.ReferenceKind.NONE
     )
@@ -267,6 +303,29 @@ def mark_delete(*, mark: Mark, user: AbstractBaseUser | None) -> None:
         object_type="Mark",
         detail=detail | {"id": pk},
     )
+
+
+def marks_recompute(*, thermogram: Thermogram, temperatures: np.ndarray) -> int:
+    """Recompute the cached statistics of every mark on a (re-)processed array.
+
+    A mark that no longer fits (a smaller image) or covers no pixel with a temperature keeps
+    empty statistics, so its readings say it has no valid pixel instead of old numbers.
+    Returns the number of marks recomputed.
+    """
+    marks = list(thermogram.marks.all())
+    height, width = temperatures.shape
+    for mark in marks:
+        inside = all(0 <= x <= width - 1 and 0 <= y <= height - 1 for x, y in mark.points)
+        stats = {}
+        if inside:
+            try:
+                stats = mark_stats(temperatures, mark.kind, mark.points, mark.single_pixel)
+            except ValidationError:
+                stats = {}
+        mark.stats = stats or _stats_dict({})
+    if marks:
+        Mark.objects.bulk_update(marks, ["stats"])
+    return len(marks)
 
 
 def _alignment_matrix(pairs: list) -> list[list[float]]:

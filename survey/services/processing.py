@@ -24,6 +24,7 @@ from PIL import Image
 from survey import thermal
 from survey.models import Thermogram
 from survey.services.audit import audit_record
+from survey.services.marks import marks_recompute
 from survey.thermal.drawing import encode_png
 
 logger = logging.getLogger(__name__)
@@ -167,8 +168,11 @@ def thermogram_process(thermogram_id: int) -> str | None:
         _heartbeat(thermogram_id)
         buffer = io.BytesIO()
         np.save(buffer, temperatures, allow_pickle=False)
-        array_name = _replace_file(_derived_path(thermogram, "temperatures.npy"), buffer.getvalue())
+        array_bytes = buffer.getvalue()
+        array_name = _replace_file(_derived_path(thermogram, "temperatures.npy"), array_bytes)
         write_images(thermogram, temperatures)
+        # Marks read the new numbers, never the statistics of an earlier decoding.
+        marks_recompute(thermogram=thermogram, temperatures=temperatures)
     except FileNotFoundError:
         _finish(
             thermogram_id,
@@ -193,6 +197,7 @@ def thermogram_process(thermogram_id: int) -> str | None:
         Thermogram.Status.READY,
         error="",
         array=array_name,
+        array_sha256=hashlib.sha256(array_bytes).hexdigest(),
         preview=thermogram.preview.name,
         thumbnail=thermogram.thumbnail.name,
         height=int(temperatures.shape[0]),

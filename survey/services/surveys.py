@@ -29,6 +29,8 @@ SURVEY_FIELDS = (
     "thermographer",
     "reviewer",
     "instrument",
+    "camera",
+    "start_time",
     "ifov_mrad",
     "camera_accuracy_c",
     "camera_accuracy_pct",
@@ -114,7 +116,9 @@ def survey_create(
         site=site,
         thermographer=fields.get("thermographer"),
         reviewer=fields.get("reviewer"),
+        camera=fields.get("camera"),
     )
+    _camera_accuracy(fields)
     survey = Survey(
         organization=organization, site=site, kind=kind, date=date, created_by=user, **fields
     )
@@ -142,11 +146,21 @@ def survey_update(
         site=changes.get("site"),
         thermographer=changes.get("thermographer"),
         reviewer=changes.get("reviewer"),
+        camera=changes.get("camera"),
     )
+    _camera_accuracy(changes)
     apply_changes(survey, changes, user=user)
     if conditions is not None:
         conditions_update(survey=survey, user=user, **conditions)
     return survey
+
+
+def _camera_accuracy(fields: dict[str, Any]) -> None:
+    """A survey with a camera record takes its stated accuracy from it."""
+    camera = fields.get("camera")
+    if camera is not None:
+        fields["camera_accuracy_c"] = camera.accuracy_c
+        fields["camera_accuracy_pct"] = camera.accuracy_pct
 
 
 def apply_changes(instance, changes: dict[str, Any], *, user: AbstractBaseUser | None) -> None:
