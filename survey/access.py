@@ -15,6 +15,7 @@ from survey.models import (
     Client,
     CriteriaTable,
     Finding,
+    Instrument,
     Mark,
     Member,
     Site,
@@ -72,6 +73,14 @@ def findings_for(member: Member) -> QuerySet[Finding]:
     return Finding.objects.filter(
         organization=member.organization, survey__status=Survey.Status.ACTIVE
     )
+
+
+def instruments_for(member: Member) -> QuerySet[Instrument]:
+    return Instrument.objects.filter(organization=member.organization)
+
+
+def get_instrument_for_user(request: HttpRequest, pk: int) -> Instrument:
+    return get_object_or_404(instruments_for(get_member(request)), pk=pk)
 
 
 def get_survey_for_user(request: HttpRequest, pk: int) -> Survey:

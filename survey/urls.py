@@ -4,7 +4,7 @@ from django.contrib import admin
 from django.contrib.auth import views as auth_views
 from django.urls import include, path
 
-from survey.views import api, audit, findings, media, members, pages
+from survey.views import api, audit, findings, instruments, media, members, pages
 from survey.views.signin import ThrottledLoginView
 
 # --- pages: home, clients, sites, surveys, upload (survey/views/pages.py) ---
@@ -37,6 +37,9 @@ page_patterns = [
     path("audit/", audit.audit_log, name="audit_log"),
     path("members/", members.member_list, name="members"),
     path("members/<int:pk>/", members.member_edit, name="member_edit"),
+    path("instruments/", instruments.instrument_list, name="instruments"),
+    path("instruments/<int:pk>/", instruments.instrument_edit, name="instrument_edit"),
+    path("instruments/<int:pk>/delete/", instruments.instrument_delete, name="instrument_delete"),
 ]
 
 # --- workspace and JSON endpoints (survey/views/api.py) ---
@@ -72,6 +75,12 @@ judgement_patterns = [
     path("findings/<int:pk>/edit/", findings.finding_edit, name="finding_edit"),
     path("findings/<int:pk>/status/", findings.finding_status, name="finding_status"),
     path("findings/<int:pk>/verify/", findings.finding_verify, name="finding_verify"),
+    path(
+        "findings/<int:pk>/verify-override/",
+        findings.finding_verify_override,
+        name="finding_verify_override",
+    ),
+    path("findings/<int:pk>/rejudge/", findings.finding_rejudge, name="finding_rejudge"),
     path("surveys/<int:pk>/findings/", findings.survey_findings, name="survey_findings"),
     path("surveys/<int:pk>/heat-loss/new/", findings.heat_loss_create, name="heat_loss_create"),
     path("sites/<int:pk>/findings/", findings.site_findings, name="site_findings"),

@@ -13,6 +13,58 @@ LEVEL_CHOICES = [("", "Use the suggested level")] + [
 ]
 
 
+def finding_label(finding: Finding) -> str:
+    """A finding as a person picks it: survey date, asset, marks, category and level."""
+    marks = ", ".join(sorted((m.title for m in finding.marks.all()), key=lambda t: (len(t), t)))
+    parts = [
+        finding.survey.date.isoformat(),
+        str(finding.asset) if finding.asset_id else "no asset",
+        f"mark {marks}" if marks else "whole thermogram",
+        severity.category_label(finding.survey.kind, finding.category),
+        finding.get_level_display() if finding.level else "no level",
+    ]
+    return " · ".join(parts) + f" (#{finding.pk})"
+
+
+class FindingChoiceField(forms.ModelChoiceField):
+    def label_from_instance(self, obj: Finding) -> str:
+        return finding_label(obj)
+
+
+class MarkChoiceField(forms.ModelChoiceField):
+    def label_from_instance(self, obj: Mark) -> str:
+        return f"{obj.title} ({obj.get_kind_display().lower()})"
+
+
+class MarkMultipleChoiceField(forms.ModelMultipleChoiceField):
+    def label_from_instance(self, obj: Mark) -> str:
+        return f"{obj.title} ({obj.get_kind_display().lower()})"
+
+
+class SurveyMarkChoiceField(forms.ModelChoiceField):
+    def label_from_instance(self, obj: Mark) -> str:
+        thermogram = obj.thermogram
+        return f"{thermogram.sequence}. {thermogram} · mark {obj.title}"
+
+
+def earlier_findings(finding_or_survey):
+    """Findings a new or edited finding may re-measure: same site, earlier visits."""
+    survey = getattr(finding_or_survey, "survey", finding_or_survey)
+    queryset = (
+        Finding.objects.filter(
+            organization=survey.organization,
+            survey__site=survey.site,
+            survey__status=Survey.Status.ACTIVE,
+            survey__date__lte=survey.date,
+        )
+        .exclude(survey=survey)
+        .select_related("survey", "asset")
+        .prefetch_related("marks")
+        .order_by("-survey__date", "id")
+    )
+    return queryset
+
+
 def _optional_float(label, low, high, **kwargs):
     return forms.FloatField(
         label=label,
@@ -29,18 +81,26 @@ def _optional_float(label, low, high, **kwargs):
 
 
 class FindingForm(forms.Form):
-    marks = forms.ModelMultipleChoiceField(
+    marks = MarkMultipleChoiceField(
         queryset=Mark.objects.none(),
         required=False,
         widget=forms.CheckboxSelectMultiple,
         help_text="The first ticked mark is the place judged. None ticked: the whole thermogram.",
     )
     basis = forms.ChoiceField(label="Judge by")
-    reference = forms.ModelChoiceField(
+    reference = MarkChoiceField(
         queryset=Mark.objects.none(),
         required=False,
         label="Reference (like component)",
         help_text="Only for a rise over a like component; defaults to the mark's own reference.",
+    )
+    rise_method = forms.ChoiceField(
+        choices=[("", "As the judged mark says (hottest to hottest unless set otherwise)")]
+        + Mark.RiseMethod.choices,
+        required=False,
+        label="Rise over the like component taken",
+        help_text="Hottest to hottest compares the same point of like components; hottest to "
+        "mean is shown labelled as such with the rise.",
     )
     load_exponent = forms.FloatField(
         label="Load-correction exponent",
@@ -78,7 +138,7 @@ class FindingForm(forms.Form):
         widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=4000
     )
     asset = forms.ModelChoiceField(queryset=Asset.objects.none(), required=False)
-    previous = forms.ModelChoiceField(
+    previous = FindingChoiceField(
         queryset=Finding.objects.none(),
         required=False,
         label="Re-measures the earlier finding",
@@ -96,17 +156,14 @@ class FindingForm(forms.Form):
         self.fields["asset"].queryset = Asset.objects.filter(
             organization=survey.organization, site=survey.site
         )
-        self.fields["previous"].queryset = Finding.objects.filter(
-            organization=survey.organization,
-            survey__site=survey.site,
-            survey__status=Survey.Status.ACTIVE,
-            status__in=[Finding.Status.OPEN, Finding.Status.REPAIRED],
-        ).exclude(survey=survey)
+        self.fields["previous"].queryset = earlier_findings(survey).filter(
+            status__in=[Finding.Status.OPEN, Finding.Status.REPAIRED]
+        )
         kind_fields = {
             "envelope": {"design_inside_c", "design_inside_rh_pct", "design_outside_c"},
             "roof": {"view_angle_deg"},
-            "electrical": {"reference", "load_exponent"},
-            "mechanical": {"reference", "load_exponent"},
+            "electrical": {"reference", "rise_method", "load_exponent"},
+            "mechanical": {"reference", "rise_method", "load_exponent"},
         }
         for name in {
             "design_inside_c",
@@ -114,9 +171,15 @@ class FindingForm(forms.Form):
             "design_outside_c",
             "view_angle_deg",
             "reference",
+            "rise_method",
             "load_exponent",
         } - kind_fields[survey.kind]:
             del self.fields[name]
+        conditions = getattr(survey, "conditions", None)
+        if "design_inside_c" in self.fields and conditions is not None:
+            self.initial.setdefault("design_inside_c", conditions.design_indoor_c)
+            self.initial.setdefault("design_inside_rh_pct", conditions.design_indoor_rh_pct)
+            self.initial.setdefault("design_outside_c", conditions.design_outdoor_c)
 
     def suggest_arguments(self) -> dict:
         data = self.cleaned_data
@@ -129,12 +192,13 @@ class FindingForm(forms.Form):
         }
         for name in (
             "reference",
+            "rise_method",
             "design_inside_c",
             "design_inside_rh_pct",
             "design_outside_c",
             "view_angle_deg",
         ):
-            if name in data and data[name] is not None:
+            if name in data and data[name] not in (None, ""):
                 arguments[name] = data[name]
         if data.get("load_exponent"):
             arguments["load_exponent"] = data["load_exponent"]
@@ -172,6 +236,11 @@ class FindingEditForm(forms.Form):
         widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=4000
     )
     asset = forms.ModelChoiceField(queryset=Asset.objects.none(), required=False)
+    previous = FindingChoiceField(
+        queryset=Finding.objects.none(),
+        required=False,
+        label="Re-measures the earlier finding",
+    )
 
     def __init__(self, *args, finding: Finding, **kwargs):
         kwargs.setdefault(
@@ -184,6 +253,7 @@ class FindingEditForm(forms.Form):
                 "location": finding.location,
                 "description": finding.description,
                 "asset": finding.asset_id,
+                "previous": finding.previous_id,
             },
         )
         super().__init__(*args, **kwargs)
@@ -191,15 +261,33 @@ class FindingEditForm(forms.Form):
         self.fields["asset"].queryset = Asset.objects.filter(
             organization=finding.organization, site=finding.survey.site
         )
+        self.fields["previous"].queryset = earlier_findings(finding).exclude(pk=finding.pk)
 
 
 class FindingStatusForm(forms.Form):
-    status = forms.ChoiceField(choices=Finding.Status.choices)
-    note = forms.CharField(
-        required=False,
-        max_length=1000,
-        label="Note",
-        help_text="For verified: how the repair was confirmed.",
+    """Open or repaired; verified needs evidence (FindingVerifyOverrideForm or a measurement)."""
+
+    status = forms.ChoiceField(
+        choices=[
+            (Finding.Status.OPEN, Finding.Status.OPEN.label),
+            (Finding.Status.REPAIRED, Finding.Status.REPAIRED.label),
+        ],
+        error_messages={
+            "invalid_choice": "Choose open or repaired: verified needs a later measurement "
+            "that passes the check, or a reason."
+        },
+    )
+    note = forms.CharField(required=False, max_length=1000, label="Note")
+
+
+class FindingVerifyOverrideForm(forms.Form):
+    reason = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 2}),
+        max_length=2000,
+        label="Why verified without a later measurement",
+        help_text="For example: the lug was replaced (work order 1234) and no survey at load "
+        "is planned. Kept with the finding and printed in the report.",
+        error_messages={"required": "Say how the repair was confirmed."},
     )
 
 
@@ -211,10 +299,23 @@ GEOMETRY_CHOICES = [
 ]
 
 
+SIDE_CHOICES = [
+    ("inside", "Inside surface of the building (a cold patch seen from the room)"),
+    ("outside", "Outside surface, roof, or the outside of a pipe, duct or vessel"),
+]
+
+
 class HeatLossForm(forms.Form):
     label = forms.CharField(max_length=200, initial="Heat loss")
-    mark = forms.ModelChoiceField(queryset=Mark.objects.none(), required=False)
-    finding = forms.ModelChoiceField(queryset=Finding.objects.none(), required=False)
+    side = forms.ChoiceField(
+        choices=SIDE_CHOICES,
+        widget=forms.RadioSelect,
+        label="Which surface",
+        help_text="Heat leaving the building (or the pipe) is counted positive.",
+        error_messages={"required": "Say whether this is an inside or an outside surface."},
+    )
+    mark = SurveyMarkChoiceField(queryset=Mark.objects.none(), required=False)
+    finding = FindingChoiceField(queryset=Finding.objects.none(), required=False)
     t_surface_c = forms.FloatField(
         label="Surface temperature (°C)",
         min_value=-60,
@@ -263,8 +364,14 @@ class HeatLossForm(forms.Form):
 
     def __init__(self, *args, survey: Survey, **kwargs):
         super().__init__(*args, **kwargs)
-        self.fields["mark"].queryset = Mark.objects.filter(thermogram__survey=survey)
-        self.fields["finding"].queryset = Finding.objects.filter(survey=survey)
+        self.fields["mark"].queryset = Mark.objects.filter(
+            thermogram__survey=survey, kind__in=["rectangle", "ellipse", "polygon", "point"]
+        ).select_related("thermogram")
+        self.fields["finding"].queryset = (
+            Finding.objects.filter(survey=survey)
+            .select_related("survey", "asset")
+            .prefetch_related("marks")
+        )
 
     def clean(self):
         data = super().clean()

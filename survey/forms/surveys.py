@@ -46,6 +46,7 @@ CONDITION_BOOL_FIELDS = (
 
 CONDITION_NUMBER_FIELDS = (
     "indoor_rh_pct",
+    "design_indoor_rh_pct",
     "outdoor_rh_pct",
     "wind_m_s",
     "hours_since_sun",
@@ -54,7 +55,14 @@ CONDITION_NUMBER_FIELDS = (
 )
 
 
-CONDITION_TEMPERATURE_FIELDS = ("indoor_air_c", "outdoor_air_c", "ambient_air_c")
+CONDITION_TEMPERATURE_FIELDS = (
+    "indoor_air_c",
+    "outdoor_air_c",
+    "ambient_air_c",
+    "roof_surface_c",
+    "design_indoor_c",
+    "design_outdoor_c",
+)
 
 
 class SurveyForm(UnitFormMixin, forms.Form):
@@ -64,6 +72,9 @@ class SurveyForm(UnitFormMixin, forms.Form):
         "indoor_air_c": ("Indoor air", -50, 80, False),
         "outdoor_air_c": ("Outdoor air", -60, 60, False),
         "ambient_air_c": ("Air around the equipment", -60, 200, False),
+        "roof_surface_c": ("Roof membrane, coldest dry part", -60, 80, False),
+        "design_indoor_c": ("Design indoor air", -10, 40, False),
+        "design_outdoor_c": ("Design outdoor air", -60, 30, False),
     }
     differences = {"camera_accuracy_c": ("Camera accuracy ±", 0, 50, True)}
 
@@ -71,11 +82,32 @@ class SurveyForm(UnitFormMixin, forms.Form):
     kind = forms.ChoiceField(choices=Survey.Kind.choices)
     title = forms.CharField(max_length=200, required=False)
     date = forms.DateField(widget=forms.DateInput(attrs={"type": "date"}))
+    start_time = forms.TimeField(
+        required=False,
+        label="Start time",
+        widget=forms.TimeInput(attrs={"type": "time"}, format="%H:%M"),
+        help_text="Local time the survey began; a roof survey is made at night.",
+        error_messages={"invalid": "Enter the time as hours and minutes, for example 21:30."},
+    )
     crew = forms.CharField(max_length=300, required=False)
     thermographer = forms.ModelChoiceField(queryset=None, required=False)
     reviewer = forms.ModelChoiceField(queryset=None, required=False)
-    instrument = forms.CharField(max_length=200, required=False, label="Camera make, model, serial")
-    ifov_mrad = number_field("IFOV of one pixel (mrad)", 0.01, 100, unit_text=" mrad")
+    camera = forms.ModelChoiceField(
+        queryset=None,
+        required=False,
+        label="Camera",
+        empty_label="Not one of our instruments",
+        help_text="Its field of view and detector width give the pixel footprint; its stated "
+        "accuracy replaces the two accuracy fields below.",
+    )
+    instrument = forms.CharField(
+        max_length=200,
+        required=False,
+        label="Camera make, model, serial (if not one of our instruments)",
+    )
+    ifov_mrad = number_field(
+        "IFOV of one pixel (mrad, if not one of our instruments)", 0.01, 100, unit_text=" mrad"
+    )
     camera_accuracy_pct = number_field("Camera accuracy ± % of reading", 0, 50, True, " %")
     scope_examined = forms.CharField(
         widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
@@ -104,6 +136,7 @@ class SurveyForm(UnitFormMixin, forms.Form):
     )
     sunny_day_before = yes_no_field("Sunny day before (roof surveys)")
     load_pct = number_field("Electrical load (% of rating)", 0, 150, unit_text=" %")
+    design_indoor_rh_pct = number_field("Design indoor RH (%)", 1, 100, unit_text=" %")
     equipment_steady = yes_no_field("Equipment at steady load")
     covers_opened_by_qualified = yes_no_field("Covers opened by a qualified person")
     conditions_notes = forms.CharField(
@@ -113,11 +146,12 @@ class SurveyForm(UnitFormMixin, forms.Form):
         max_length=TEXT_LIMIT,
     )
 
-    def __init__(self, *args, sites, members, **kwargs):
+    def __init__(self, *args, sites, members, instruments, **kwargs):
         super().__init__(*args, **kwargs)
         self.fields["site"].queryset = sites
         self.fields["thermographer"].queryset = members
         self.fields["reviewer"].queryset = members
+        self.fields["camera"].queryset = instruments
 
     def clean_date(self):
         value = self.cleaned_data["date"]
@@ -138,13 +172,39 @@ class SurveyForm(UnitFormMixin, forms.Form):
     def clean_ambient_air_c(self):
         return self._temperature_c("ambient_air_c")
 
+    def clean_roof_surface_c(self):
+        return self._temperature_c("roof_surface_c")
+
+    def clean_design_indoor_c(self):
+        return self._temperature_c("design_indoor_c")
+
+    def clean_design_outdoor_c(self):
+        return self._temperature_c("design_outdoor_c")
+
+    def clean(self):
+        data = super().clean()
+        design = [
+            data.get(n) for n in ("design_indoor_c", "design_indoor_rh_pct", "design_outdoor_c")
+        ]
+        if any(v is not None for v in design) and None in design:
+            raise ValidationError(
+                "For design conditions give the indoor temperature, the indoor humidity and "
+                "the outdoor temperature, or none of them."
+            )
+        if None not in design and design[2] >= design[0]:
+            self.add_error(
+                "design_outdoor_c", "The design outdoor air must be colder than indoors."
+            )
+        return data
+
     def clean_camera_accuracy_c(self):
         return self._difference_c("camera_accuracy_c")
 
     def survey_values(self) -> dict:
         names = (
-            "site kind title date crew thermographer reviewer instrument ifov_mrad "
-            "camera_accuracy_c camera_accuracy_pct scope_examined scope_not_examined notes"
+            "site kind title date start_time crew thermographer reviewer camera instrument "
+            "ifov_mrad camera_accuracy_c camera_accuracy_pct scope_examined "
+            "scope_not_examined notes"
         ).split()
         return {name: self.cleaned_data[name] for name in names}
 
@@ -164,12 +224,15 @@ class SurveyForm(UnitFormMixin, forms.Form):
         values = {
             name: getattr(survey, name)
             for name in (
-                "kind title date crew instrument ifov_mrad camera_accuracy_c "
+                "kind title date start_time crew instrument ifov_mrad camera_accuracy_c "
                 "camera_accuracy_pct scope_examined scope_not_examined notes"
             ).split()
         }
         values.update(
-            site=survey.site_id, thermographer=survey.thermographer_id, reviewer=survey.reviewer_id
+            site=survey.site_id,
+            thermographer=survey.thermographer_id,
+            reviewer=survey.reviewer_id,
+            camera=survey.camera_id,
         )
         conditions = getattr(survey, "conditions", None)
         if conditions is not None:
@@ -195,4 +258,35 @@ class DeleteForm(forms.Form):
     confirm = forms.BooleanField(
         label="Yes, delete this survey (it can be restored later)",
         error_messages={"required": "Tick the box to confirm."},
+    )
+
+
+class InstrumentForm(forms.Form):
+    """A camera of the organization, as its data sheet and calibration certificate say."""
+
+    model_name = forms.CharField(max_length=200, label="Make and model")
+    serial_number = forms.CharField(max_length=100, required=False)
+    detector_width_px = forms.IntegerField(
+        label="Detector width (pixels)", min_value=8, max_value=10000
+    )
+    detector_height_px = forms.IntegerField(
+        label="Detector height (pixels)", min_value=8, max_value=10000
+    )
+    lens_hfov_deg = forms.FloatField(
+        label="Lens horizontal field of view (°)",
+        min_value=1,
+        max_value=170,
+        help_text="Across the detector's width, from the lens's data sheet (for example 24).",
+    )
+    netd_mk = number_field("Thermal sensitivity, NETD (mK)", 1, 1000, unit_text=" mK")
+    accuracy_c = number_field("Stated accuracy ± (°C)", 0, 50, True, " °C")
+    accuracy_pct = number_field("Stated accuracy ± (% of reading)", 0, 50, True, " %")
+    calibration_date = forms.DateField(
+        required=False, widget=forms.DateInput(attrs={"type": "date"}), label="Calibrated on"
+    )
+    calibration_due = forms.DateField(
+        required=False, widget=forms.DateInput(attrs={"type": "date"}), label="Calibration due"
+    )
+    certificate_reference = forms.CharField(
+        max_length=200, required=False, label="Calibration certificate reference"
     )

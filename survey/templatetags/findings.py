@@ -3,6 +3,7 @@
 from django import template
 
 from survey import severity
+from survey.services.readings import DECISION_TEXT
 
 register = template.Library()
 
@@ -11,3 +12,9 @@ register = template.Library()
 def category_label(finding) -> str:
     """The readable category of a finding, e.g. 'Missing or displaced insulation'."""
     return severity.category_label(finding.survey.kind, finding.category)
+
+
+@register.filter
+def decision(value) -> str:
+    """The words of a guarded-acceptance decision: 'cannot tell within the camera's accuracy'."""
+    return DECISION_TEXT.get(value, "") if value else ""

@@ -30,9 +30,13 @@ from survey.services import marks as mark_services
 from survey.services.arrays import (
     ENCODINGS,
     ThermogramNotReady,
+    thermogram_array_digest,
     thermogram_temperatures_encoded,
 )
 from survey.services.readings import (
+    DECISION_TEXT,
+    HUMIDITY_KEYS,
+    UNCERTAINTY_NOTE,
     condensation_overlay,
     correction_table,
     mark_readings,
@@ -40,6 +44,7 @@ from survey.services.readings import (
     thermogram_readings,
 )
 from survey.services.surveys import thermogram_update_settings
+from survey.severity import category_label
 
 WORKSPACE_CAUTION = (
     "Shiny, low-emissivity surfaces reflect their surroundings: their corrected values are "
@@ -125,6 +130,19 @@ class MarkForm(forms.Form):
         },
     )
     note = forms.CharField(required=False, max_length=4000, strip=True)
+    name = forms.CharField(
+        required=False,
+        max_length=20,
+        strip=True,
+        error_messages={"max_length": "A mark's name is at most 20 characters (L1, N, lug 3)."},
+    )
+    rise_method = forms.ChoiceField(
+        choices=Mark.RiseMethod.choices,
+        required=False,
+        error_messages={
+            "invalid_choice": "rise_method is hottest_to_hottest (the default) or hottest_to_mean."
+        },
+    )
     reference = forms.CharField(required=False, max_length=8)
     single_pixel = forms.BooleanField(required=False)
 
@@ -151,6 +169,7 @@ class MarkForm(forms.Form):
 def _mark_options(data: dict, thermogram: Thermogram, mark: Mark | None = None) -> dict:
     """Validate the JSON fields given; returns only those, as service keyword arguments."""
     allowed = {"emissivity", "reflected_c", "note", "reference", "single_pixel", "points"}
+    allowed |= {"name", "rise_method"}
     allowed |= {"kind"} if mark is None else set()
     unknown = sorted(set(data) - allowed)
     if unknown:
@@ -158,6 +177,11 @@ def _mark_options(data: dict, thermogram: Thermogram, mark: Mark | None = None) 
     for name in ("emissivity", "reflected_c"):
         if isinstance(data.get(name), (bool, str)):
             raise ValidationError({name: f"{name} must be a number or null."})
+    for name in ("name", "rise_method", "note"):
+        if name in data and data[name] is not None and not isinstance(data[name], str):
+            raise ValidationError({name: f"{name} must be text."})
+    if data.get("rise_method") is None and "rise_method" in data:
+        raise ValidationError({"rise_method": "Give hottest_to_hottest or hottest_to_mean."})
     form = MarkForm({k: v for k, v in data.items() if k != "points"}, thermogram, mark)
     if not form.is_valid():
         raise ValidationError({name: errors for name, errors in form.errors.items()})
@@ -167,18 +191,37 @@ def _mark_options(data: dict, thermogram: Thermogram, mark: Mark | None = None) 
             options |= form.cleaned_data["reference"]
         elif name == "points":
             options["points"] = data["points"]
+        elif name == "name":
+            options["name"] = form.cleaned_data["name"] or ""
         else:
             options[name] = form.cleaned_data[name]
     return options
 
 
+RISE_KEYS = (
+    "delta_t_c",
+    "delta_t_method",
+    "delta_t_text",
+    "delta_t_quantitative",
+    "full_load_delta_t_c",
+    "load_exponent",
+    "load_too_low",
+    "suggested_level",
+    "suggestion",
+)
+
+
 def mark_json(mark: Mark, readings: dict) -> dict:
-    """A mark as the API shows it: stats (apparent) and corrected figures."""
+    """A mark as the API shows it: stats (apparent), corrected figures and judgements."""
     stats = {k: v for k, v in (mark.stats or {}).items() if k != "profile"}
     corrected = readings["corrected"]
+    humidity = {key: readings.get(key) for key in HUMIDITY_KEYS}
     return {
         "id": mark.pk,
         "label": mark.label,
+        "name": mark.name,
+        "title": mark.title,
+        "rise_method": mark.rise_method,
         "kind": mark.kind,
         "points": mark.points,
         "single_pixel": mark.single_pixel,
@@ -189,6 +232,7 @@ def mark_json(mark: Mark, readings: dict) -> dict:
         "effective_reflected_c": readings["reflected_c"],
         "emissivity_warning": readings["emissivity_warning"],
         "reference": readings["reference"],
+        "reference_title": readings.get("reference_title"),
         "stats": stats,
         "corrected": {
             "min_c": corrected["min"],
@@ -197,12 +241,14 @@ def mark_json(mark: Mark, readings: dict) -> dict:
             "uncertainty_c": readings["uncertainty_c"],
         },
         "error": readings.get("error"),
-        "delta_t_c": readings["delta_t_c"],
-        "delta_t_quantitative": readings["delta_t_quantitative"],
-        "dew_point_c": readings["dew_point_c"],
-        "surface_rh_pct": readings["surface_rh_pct"],
-        "condensation_margin_k": readings["condensation_margin_k"],
-        "mould_margin_k": readings["mould_margin_k"],
+        **{key: readings.get(key) for key in RISE_KEYS},
+        **humidity,
+        "decisions": {
+            key: DECISION_TEXT[value]
+            for key in ("condensation_decision", "mould_decision", "factor_decision")
+            if (value := humidity.get(key))
+        },
+        "uncertainty_note": UNCERTAINTY_NOTE,
         "profile": readings["profile"],
         "url": reverse("survey:api-mark", args=[mark.pk]),
     }
@@ -384,7 +430,7 @@ def thermogram_temperatures_binary(request: HttpRequest, pk: int) -> HttpRespons
     dtype = request.GET.get("dtype", "float32")
     if dtype not in ENCODINGS:
         return _error(400, "dtype must be float32 or float16.", {"dtype": "float32 or float16"})
-    etag = f'"{thermogram.original_sha256[:16]}-{thermogram.array.name}-{dtype}"'
+    etag = f'"{thermogram_array_digest(thermogram)[:32]}-{dtype}"'
     if request.headers.get("If-None-Match") == etag:
         response = HttpResponse(status=304)
     else:
@@ -422,7 +468,21 @@ def mark_detail(request: HttpRequest, pk: int) -> HttpResponse:
         return JsonResponse(mark_json(mark, mark_readings(mark)))
     require_editor(get_member(request))
     if request.method == "DELETE":
-        mark_services.mark_delete(mark=mark, user=request.user)
+        try:
+            mark_services.mark_delete(mark=mark, user=request.user)
+        except mark_services.MarkInUse as error:
+            findings = [
+                {
+                    "id": finding.pk,
+                    "category": category_label(finding.survey.kind, finding.category),
+                    "url": reverse("survey:finding", args=[finding.pk]),
+                }
+                for finding in error.findings
+            ]
+            return JsonResponse(
+                {"error": " ".join(error.messages), "fields": {}, "findings": findings},
+                status=409,
+            )
         return HttpResponse(status=204)
     options = _mark_options(_body(request), mark.thermogram, mark)
     mark = mark_services.mark_update(mark=mark, user=request.user, **options)

@@ -31,7 +31,9 @@ from survey.forms.findings import (
     FindingEditForm,
     FindingForm,
     FindingStatusForm,
+    FindingVerifyOverrideForm,
     HeatLossForm,
+    finding_label,
 )
 from survey.models import Finding
 from survey.services import assets as asset_services
@@ -101,11 +103,48 @@ def finding_detail(request: HttpRequest, pk: int) -> HttpResponse:
         "survey": finding.survey,
         "category": severity.category_label(finding.survey.kind, finding.category),
         "status_form": FindingStatusForm(initial={"status": finding.status}),
+        "override_form": FindingVerifyOverrideForm(),
         "verification": asset_services.repair_verification(finding),
+        "verified_text": finding_services.verification_text(finding),
+        "changes": finding_services.finding_changes(finding),
+        "marks": sorted(finding.marks.all(), key=lambda m: (len(m.label), m.label)),
+        "previous_label": finding_label(finding.previous) if finding.previous_id else "",
         "estimates": finding.heat_loss_estimates.all(),
         "cautions": cautions_for(finding.survey.kind),
     }
     return render(request, "survey/findings/detail.html", context)
+
+
+@login_required
+@require_POST
+def finding_rejudge(request: HttpRequest, pk: int) -> HttpResponse:
+    finding = get_finding_for_user(request, pk)
+    require_editor(get_member(request))
+    try:
+        finding_services.finding_rejudge(finding=finding, user=request.user)
+        messages.success(request, "Judged again on the current readings.")
+    except ValidationError as error:
+        messages.error(request, " ".join(error.messages))
+    return redirect("survey:finding", finding.pk)
+
+
+@login_required
+@require_POST
+def finding_verify_override(request: HttpRequest, pk: int) -> HttpResponse:
+    finding = get_finding_for_user(request, pk)
+    require_editor(get_member(request))
+    form = FindingVerifyOverrideForm(request.POST)
+    if not form.is_valid():
+        messages.error(request, "Say how the repair was confirmed without a later measurement.")
+        return redirect("survey:finding", finding.pk)
+    try:
+        finding_services.finding_verify_override(
+            finding=finding, user=request.user, reason=form.cleaned_data["reason"]
+        )
+        messages.success(request, "Verified, with your reason kept and printed.")
+    except ValidationError as error:
+        messages.error(request, " ".join(error.messages))
+    return redirect("survey:finding", finding.pk)
 
 
 @login_required
@@ -132,7 +171,7 @@ def finding_status(request: HttpRequest, pk: int) -> HttpResponse:
     require_editor(get_member(request))
     form = FindingStatusForm(request.POST)
     if not form.is_valid():
-        messages.error(request, "Choose open, repaired or verified.")
+        messages.error(request, " ".join(form.errors.get("status", ["Choose open or repaired."])))
         return redirect("survey:finding", finding.pk)
     try:
         finding_services.finding_set_status(finding=finding, user=request.user, **form.cleaned_data)
@@ -160,10 +199,15 @@ def finding_verify(request: HttpRequest, pk: int) -> HttpResponse:
 @login_required
 def survey_findings(request: HttpRequest, pk: int) -> HttpResponse:
     survey = get_survey_for_user(request, pk)
-    findings = survey.findings.select_related("thermogram", "asset").order_by("level", "created_at")
+    findings = _with_changes(
+        survey.findings.select_related("thermogram", "asset", "survey")
+        .prefetch_related("thermogram__marks__reference_mark")
+        .order_by("level", "created_at")
+    )
     context = {
         "survey": survey,
         "findings": findings,
+        "heat_loss_refusal": finding_services.heat_loss_refusal(survey),
         "thermograms": survey.thermograms.filter(status="ready"),
         "conditions_checks": conditions_check(survey),
         "estimates": survey.heat_loss_estimates.select_related("mark", "finding"),
@@ -179,11 +223,21 @@ def site_findings(request: HttpRequest, pk: int) -> HttpResponse:
         findings_for(get_member(request))
         .filter(survey__site=site, status__in=OPEN)
         .select_related("survey", "asset", "thermogram")
+        .prefetch_related("thermogram__marks__reference_mark")
         .order_by("level", "survey__date", "created_at")
     )
+    findings = _with_changes(findings)
     kinds = sorted({f.survey.kind for f in findings})
     context = {"site": site, "findings": findings, "cautions": cautions_for_kinds(kinds)}
     return render(request, "survey/findings/site_findings.html", context)
+
+
+def _with_changes(findings) -> list:
+    """The findings, each with `changes`: what changed since it was judged."""
+    findings = list(findings)
+    for finding in findings:
+        finding.changes = finding_services.finding_changes(finding)
+    return findings
 
 
 @login_required
@@ -224,6 +278,10 @@ def asset_trend_svg(request: HttpRequest, pk: int) -> HttpResponse:
 def heat_loss_create(request: HttpRequest, pk: int) -> HttpResponse:
     survey = get_survey_for_user(request, pk)
     require_editor(get_member(request))
+    refusal = finding_services.heat_loss_refusal(survey)
+    if refusal:
+        context = {"survey": survey, "refusal": refusal}
+        return render(request, "survey/findings/heat_loss_form.html", context)
     initial = {k: request.GET[k] for k in ("mark", "finding") if request.GET.get(k, "").isdigit()}
     form = HeatLossForm(request.POST or None, survey=survey, initial=initial)
     if request.method == "POST" and form.is_valid():
@@ -239,6 +297,7 @@ def heat_loss_create(request: HttpRequest, pk: int) -> HttpResponse:
     context = {
         "form": form,
         "survey": survey,
+        "applies": finding_services.HEAT_LOSS_APPLIES,
         "cautions": cautions_for(survey.kind, heat_loss=True),
     }
     return render(request, "survey/findings/heat_loss_form.html", context)

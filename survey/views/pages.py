@@ -22,6 +22,7 @@ from survey.access import (
     get_member,
     get_survey_for_user,
     get_thermogram_for_user,
+    instruments_for,
     members_for,
     require_editor,
     require_reviewer,
@@ -38,7 +39,7 @@ from survey.forms.thermograms import (
     UploadForm,
 )
 from survey.models import Survey, Thermogram
-from survey.services import ingest, members, processing, surveys
+from survey.services import ingest, instruments, members, processing, surveys
 
 
 @login_required
@@ -107,6 +108,7 @@ def _survey_form(request: HttpRequest, member, **kwargs) -> SurveyForm:
         unit=member.temperature_unit,
         sites=sites_for(member).select_related("client"),
         members=members_for(member),
+        instruments=instruments_for(member),
         **kwargs,
     )
 
@@ -169,7 +171,9 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
     survey = get_survey_for_user(request, pk)
     survey = (
         surveys_for(member)
-        .select_related("site__client", "conditions", "thermographer__user", "reviewer__user")
+        .select_related(
+            "site__client", "conditions", "thermographer__user", "reviewer__user", "camera"
+        )
         .prefetch_related(Prefetch("thermograms", queryset=_survey_thermograms(survey)))
         .get(pk=survey.pk)
     )
@@ -179,11 +183,14 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
     thermograms = list(survey.thermograms.all())
     for thermogram in thermograms:
         thermogram.stalled = processing.thermogram_is_stalled(thermogram)
+    ifov_mrad, ifov_source = instruments.survey_ifov(survey)
     context = {
         "survey": survey,
         "thermograms": thermograms,
         "upload_form": upload_form,
         "conditions_checks": conditions_check(survey),
+        "ifov_mrad": ifov_mrad,
+        "ifov_source": ifov_source,
     }
     return render(request, "survey/survey_detail.html", context)
 
