@@ -38,7 +38,7 @@ canvas.addEventListener("pointerdown", function (event) {
   if (state.tool === "select") {
     var current = selected(), vertex = hitVertex(current, s[0], s[1]);
     if (vertex >= 0) {
-      state.drag = { type: "vertex", mark: current, vertex: vertex, moved: false };
+      state.drag = { type: "vertex", mark: current, vertex: vertex, original: current.points.map(function (q) { return q.slice(); }), moved: false };
     } else {
       var mark = hitMark(s[0], s[1]);
       if (mark) {
@@ -118,7 +118,7 @@ function endDrag() {
     if (same && state.drawing.kind !== "rectangle") { state.drawing = null; draw(); status("Drag to draw: the two ends must differ."); return; }
     createMark(state.drawing.kind, pts);
   } else if ((drag.type === "move" || drag.type === "vertex") && drag.moved) {
-    updateMark(drag.mark, { points: drag.mark.points }, "Mark " + drag.mark.label + " changed.");
+    updateMark(drag.mark, { points: drag.mark.points }, "Mark " + drag.mark.label + " changed.", { points: drag.original });
   }
 }
 canvas.addEventListener("pointerup", endDrag);
@@ -298,7 +298,8 @@ export function setupOverlays(meta) {
   if (!cond.available) { state.cond = false; $("ws-cond").checked = false; }
   $("ws-cond-note").textContent = cond.available
     ? "Indoor air " + fmtTU(cond.indoor_air_c) + ", " + cond.indoor_rh_pct + " % RH: mould risk at surfaces below " +
-      fmtTU(cond.surface_c.rh80) + ", condensation below " + fmtTU(cond.surface_c.rh100) + " (at the thermogram's ε)."
+      fmtTU(cond.surface_c.rh80) + ", condensation at or below " + fmtTU(cond.surface_c.rh100) + " (the " + (cond.rh100_name || "dew point") +
+      "; saturation over ice below 0 °C), at the thermogram's ε."
     : cond.reason;
   $("ws-cond-legend").hidden = !cond.available;
   var mould = meta.colours.mould_risk, wet = meta.colours.condensation, iso = meta.colours.isotherm;

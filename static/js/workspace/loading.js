@@ -7,6 +7,7 @@ import { setupPhoto } from "./photo.js";
 import { fit, renderPicture, resize } from "./rendering.js";
 import { api } from "./server.js";
 import { $, picture, state, fmtTU, status, unitLabel } from "./state.js";
+import { resetHistory } from "./undo.js";
 
 export function load(apiUrl, pushHistory) {
   status("Loading…");
@@ -31,6 +32,7 @@ export function load(apiUrl, pushHistory) {
 }
 
 export function start(meta, temps) {
+  if (!state.meta || state.meta.id !== meta.id) { resetHistory(); }
   state.meta = meta;
   state.temps = temps;
   state.w = meta.width;

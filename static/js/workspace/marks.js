@@ -3,10 +3,12 @@
    and note. */
 
 import { markAt, vertexAt } from "./geometry.js";
+import { fieldsOf, snapshot } from "./history.js";
 import { draw } from "./rendering.js";
 import { api } from "./server.js";
 import { $, canvas, state, HANDLE_PX, clampPixel, fmtT, fromUnit, status } from "./state.js";
 import { renderTable } from "./table.js";
+import { record, updateButtons } from "./undo.js";
 
 export function selected() {
   for (var i = 0; i < state.marks.length; i++) { if (state.marks[i].id === state.selectedId) { return state.marks[i]; } }
@@ -32,6 +34,7 @@ export function refreshTable() {
     draw();
     renderTable();
     showEditor();
+    updateButtons();
   }).catch(function (error) { status(error.message, true); });
 }
 
@@ -40,13 +43,18 @@ export function createMark(kind, points) {
   points = points.map(clampPixel);
   api("POST", state.meta.urls.marks, { kind: kind, points: points }).then(function (mark) {
     state.selectedId = mark.id;
+    record({ type: "add", markId: mark.id, label: mark.label, after: snapshot(mark) });
     status("Mark " + mark.label + " added.");
     return refreshTable();
   }).catch(function (error) { status(error.message, true); draw(); });
 }
 
-export function updateMark(mark, changes, message) {
+// `before` holds the changed fields as they were (a drag changes the mark's points on
+// screen before it is saved); without it they are read from the mark.
+export function updateMark(mark, changes, message, before) {
+  var old = before || fieldsOf(mark, changes);
   return api("PATCH", mark.url, changes).then(function (updated) {
+    record({ type: "change", markId: updated.id, label: updated.label, before: old, after: changes });
     status(message || ("Mark " + updated.label + " saved."));
     return refreshTable();
   }).catch(function (error) { status(error.message, true); return refreshTable(); });
@@ -54,14 +62,22 @@ export function updateMark(mark, changes, message) {
 
 export function deleteMark(mark) {
   if (!mark) { return; }
+  if (!window.confirm("Delete mark " + mark.title + " (" + mark.kind + ")? Ctrl+Z brings it back.")) {
+    status("Mark " + mark.title + " kept.");
+    return;
+  }
+  var before = snapshot(mark);
+  var referencedBy = state.marks.filter(function (m) { return m.reference === mark.label; })
+    .map(function (m) { return m.id; });
   api("DELETE", mark.url).then(function () {
-    status("Mark " + mark.label + " deleted.");
+    record({ type: "delete", markId: mark.id, label: mark.label, before: before, referencedBy: referencedBy });
+    status("Mark " + mark.title + " deleted. Ctrl+Z brings it back.");
     state.selectedId = null;
     return refreshTable();
   }).catch(function (error) { status(error.message, true); });
 }
 
-var nudgeTimer = null;
+var nudgeTimer = null, nudgeBefore = null;
 export function shiftMark(mark, dx, dy, vertex) {
   var pts = mark.points.map(function (p, i) {
     if (vertex !== undefined && i !== vertex) { return p.slice(); }
@@ -70,10 +86,15 @@ export function shiftMark(mark, dx, dy, vertex) {
   for (var i = 0; i < pts.length; i++) {
     if (pts[i][0] < 0 || pts[i][1] < 0 || pts[i][0] > state.w - 1 || pts[i][1] > state.h - 1) { return; }
   }
+  if (!nudgeBefore || nudgeBefore.id !== mark.id) { nudgeBefore = { id: mark.id, points: mark.points.map(function (p) { return p.slice(); }) }; }
   mark.points = pts;
   draw();
   clearTimeout(nudgeTimer);
-  nudgeTimer = setTimeout(function () { updateMark(mark, { points: mark.points }, "Mark " + mark.label + " moved."); }, 350);
+  nudgeTimer = setTimeout(function () {
+    var before = { points: nudgeBefore.points };
+    nudgeBefore = null;
+    updateMark(mark, { points: mark.points }, "Mark " + mark.label + " moved.", before);
+  }, 350);
 }
 
 export function finishPolygon() {
@@ -87,10 +108,13 @@ export function showEditor() {
   var mark = selected(), box = $("ws-editor");
   if (!mark || !state.meta.can_edit) { box.hidden = true; return; }
   box.hidden = false;
-  $("ws-ed-label").textContent = mark.label;
+  $("ws-ed-label").textContent = mark.title;
   $("ws-ed-kind").textContent = mark.kind;
   var eps = $("ws-ed-eps"), refl = $("ws-ed-refl"), ref = $("ws-ed-ref"), note = $("ws-ed-note");
+  var name = $("ws-ed-name"), method = $("ws-ed-method");
   if (box.dataset.markId !== String(mark.id) || document.activeElement === canvas || !box.contains(document.activeElement)) {
+    name.value = mark.name || "";
+    method.value = mark.rise_method || "hottest_to_hottest";
     eps.value = mark.emissivity === null ? "" : mark.emissivity;
     eps.placeholder = state.meta.capture.emissivity;
     refl.value = mark.reflected_c === null ? "" : fmtT(mark.reflected_c);
@@ -98,7 +122,7 @@ export function showEditor() {
     note.value = mark.note;
     ref.textContent = "";
     [["", "Nothing"], ["ambient", "Air temperature"]].concat(state.marks.filter(function (m) { return m.id !== mark.id; })
-      .map(function (m) { return [m.label, "Mark " + m.label]; })).forEach(function (item) {
+      .map(function (m) { return [m.label, "Mark " + m.title]; })).forEach(function (item) {
       var option = document.createElement("option");
       option.value = item[0]; option.textContent = item[1];
       ref.appendChild(option);
@@ -117,11 +141,15 @@ $("ws-ed-form").addEventListener("submit", function (event) {
     emissivity: epsText === "" ? null : parseFloat(epsText),
     reflected_c: reflText === "" ? null : Math.round(fromUnit(parseFloat(reflText)) * 1000) / 1000,
     reference: $("ws-ed-ref").value,
-    note: $("ws-ed-note").value
+    note: $("ws-ed-note").value,
+    name: $("ws-ed-name").value.trim(),
+    rise_method: $("ws-ed-method").value
   };
   if (changes.emissivity !== null && !isFinite(changes.emissivity)) { status("Emissivity must be a number between 0.01 and 1.", true); return; }
   if (changes.reflected_c !== null && !isFinite(changes.reflected_c)) { status("Reflected temperature must be a number.", true); return; }
   $("ws-editor").dataset.markId = "";
-  updateMark(mark, changes);
+  var before = fieldsOf(mark, changes);
+  before.reference = mark.reference || "";
+  updateMark(mark, changes, null, before);
 });
 $("ws-ed-delete").addEventListener("click", function () { deleteMark(selected()); });

@@ -2,7 +2,8 @@
 
 import { select, selected } from "./marks.js";
 import { $, canvas, state, fmtDelta, fmtT, toUnit, unitLabel } from "./state.js";
-import { differenceToUnit, formatNumber as fmtNum } from "./units.js";
+import { differenceToUnit } from "./units.js";
+import { decisionText, intervalText, marginText, riseText, surfaceRhText } from "./wording.js";
 
 export function cell(row, text, className) {
   var td = document.createElement("td");
@@ -14,8 +15,9 @@ export function cell(row, text, className) {
 
 export function renderTable() {
   var building = state.meta.survey.is_building, u = unitLabel();
-  var heads = ["Mark", "ε", "Max " + u, "Min " + u, "Mean " + u, "Corrected max", "Corrected min", "Corrected mean", "±", "ΔT", "Against"];
-  if (building) { heads = heads.concat(["Dew point", "Surface RH", "To condensation", "To mould (80 %)"]); }
+  var heads = ["Mark", "ε", "Max " + u, "Min " + u, "Mean " + u, "Corrected max", "Corrected min", "Corrected mean", "± (95 %)", "ΔT", "Against"];
+  if (!building) { heads.push("Suggested level"); }
+  if (building) { heads = heads.concat(["Dew or frost point", "Surface RH (95 % interval)", "To condensation", "To mould (80 %)", "fRsi (needed)"]); }
   heads.push("Note");
   var head = $("ws-table-head");
   head.textContent = "";
@@ -35,8 +37,8 @@ export function renderTable() {
     if (mark.id === state.selectedId) { row.className = "ws-selected"; }
     var first = document.createElement("td"), button = document.createElement("button");
     button.type = "button"; button.className = "secondary ws-label";
-    button.textContent = mark.label;
-    button.title = "Pick mark " + mark.label + " (" + mark.kind + ")";
+    button.textContent = mark.title || mark.label;
+    button.title = "Pick mark " + (mark.title || mark.label) + " (" + mark.kind + ")";
     button.addEventListener("click", function () { select(mark.id); canvas.focus(); });
     first.appendChild(button);
     first.appendChild(document.createTextNode(" " + mark.kind));
@@ -56,14 +58,28 @@ export function renderTable() {
     cell(row, fmtT(corrected.min_c), "num");
     cell(row, fmtT(corrected.mean_c), "num");
     cell(row, corrected.uncertainty_c === null ? "–" : "± " + differenceToUnit(corrected.uncertainty_c, state.unit).toFixed(1), "num");
-    var dt = cell(row, fmtDelta(mark.delta_t_c), "num");
+    var dt = cell(row, mark.delta_t_c === null ? fmtDelta(null) : riseText(mark.delta_t_c, mark.full_load_delta_t_c, mark.load_exponent, state.unit), "num");
     if (mark.delta_t_quantitative === false) { dt.textContent += " (not quantitative)"; dt.className = "num ws-warn"; }
-    cell(row, mark.reference === "ambient" ? "air" : (mark.reference ? "mark " + mark.reference : "–"), "num");
+    cell(row, mark.delta_t_text || "–", "ws-wrap");
+    if (!building) {
+      var level = mark.suggested_level;
+      var levelCell = cell(row, level ? String(level) : (mark.delta_t_c === null ? "–" : "no finding"), "num");
+      if (mark.suggestion) { levelCell.title = "Table row " + mark.suggestion.row + " (" + mark.suggestion.interval + ")"; }
+      if (mark.load_too_low) { levelCell.textContent += " (load too low to rank)"; levelCell.className = "num ws-warn"; }
+    }
     if (building) {
-      cell(row, fmtT(mark.dew_point_c), "num");
-      cell(row, fmtNum(mark.surface_rh_pct, 0, " %"), "num" + (mark.surface_rh_pct >= 80 ? " ws-bad" : ""));
-      cell(row, fmtDelta(mark.condensation_margin_k), "num" + (mark.condensation_margin_k !== null && mark.condensation_margin_k <= 0 ? " ws-bad" : ""));
-      cell(row, fmtDelta(mark.mould_margin_k), "num" + (mark.mould_margin_k !== null && mark.mould_margin_k <= 0 ? " ws-bad" : ""));
+      cell(row, mark.dew_point_c === null ? "–" : fmtT(mark.dew_point_c) + " " + (mark.dew_point_name || ""), "num");
+      var rh = cell(row, surfaceRhText(mark.surface_rh_pct, mark.condensation), "num" + (mark.surface_rh_pct >= 80 ? " ws-bad" : ""));
+      if (mark.surface_rh_low_pct !== null) { rh.textContent += " (" + intervalText(mark.surface_rh_low_pct, mark.surface_rh_high_pct) + ")"; }
+      var wet = cell(row, marginText(mark.condensation_margin_k, mark.margin_u_k, mark.dew_point_name, state.unit), "num" + (mark.condensation_margin_k !== null && mark.condensation_margin_k <= 0 ? " ws-bad" : ""));
+      if (mark.condensation_decision) { wet.textContent += ": " + decisionText(mark.condensation_decision); }
+      var mould = cell(row, marginText(mark.mould_margin_k, mark.margin_u_k, "80 % limit", state.unit), "num" + (mark.mould_margin_k !== null && mark.mould_margin_k <= 0 ? " ws-bad" : ""));
+      if (mark.mould_decision) { mould.textContent += ": " + decisionText(mark.mould_decision); }
+      var factor = "–";
+      if (mark.temperature_factor !== null) {
+        factor = mark.temperature_factor.toFixed(2) + " (" + mark.critical_factor.toFixed(2) + (mark.design_critical_factor !== null ? "; design " + mark.design_critical_factor.toFixed(2) : "") + "): " + decisionText(mark.factor_decision);
+      }
+      cell(row, factor, "num");
     }
     cell(row, mark.note || "", "ws-wrap");
     body.appendChild(row);
@@ -73,6 +89,7 @@ export function renderTable() {
       body.appendChild(errorRow);
     }
   });
+  $("ws-table-note").textContent = state.marks.length ? "± is the expanded uncertainty at k = 2 (about 95 %); a limit is exceeded only when the whole interval lies beyond it." : "";
   drawProfile();
 }
 
@@ -84,7 +101,7 @@ export function drawProfile() {
   var box = $("ws-profile");
   if (!mark || !mark.profile || mark.profile.length < 2) { box.hidden = true; return; }
   box.hidden = false;
-  $("ws-profile-title").textContent = "Apparent temperature along line " + mark.label + " (" + unitLabel() + " against pixels from its start)";
+  $("ws-profile-title").textContent = "Apparent temperature along line " + (mark.title || mark.label) + " (" + unitLabel() + " against pixels from its start)";
   var c = $("ws-profile-canvas"), g = c.getContext("2d"), W = c.width, H = c.height, left = 46, bottom = 22;
   var values = mark.profile.filter(function (p) { return p[1] !== null; }).map(function (p) { return toUnit(p[1]); });
   g.clearRect(0, 0, W, H);
