@@ -35,6 +35,7 @@ from survey.models import (
     CriteriaTable,
     Finding,
     HeatLossEstimate,
+    Instrument,
     Mark,
     Member,
     Organization,
@@ -74,6 +75,8 @@ SKIPPED = {
     "original",
     "photo",
     "array",
+    "array_sha256",
+    "camera",
     "preview",
     "thumbnail",
     "error",
@@ -162,13 +165,14 @@ def survey_export(*, survey: Survey, user: AbstractBaseUser | None) -> bytes:
         manifest_thermograms.append(entry)
     findings = []
     for finding in survey.findings.prefetch_related("marks").select_related(
-        "criteria_table", "thermogram"
+        "criteria_table", "thermogram", "reference_mark"
     ):
         entry = _values(finding)
         entry["key"] = finding.pk
         entry["thermogram"] = finding.thermogram_id
         entry["asset"] = finding.asset_id
         entry["marks"] = sorted(mark.label for mark in finding.marks.all())
+        entry["reference_mark"] = finding.reference_mark.label if finding.reference_mark else None
         table = finding.criteria_table
         entry["criteria_table"] = (
             {"key": table.key, "name": table.name, "source": table.source, "rows": table.rows}
@@ -206,6 +210,7 @@ def survey_export(*, survey: Survey, user: AbstractBaseUser | None) -> bytes:
         | {
             "thermographer": _member_ref(survey.thermographer),
             "reviewer": _member_ref(survey.reviewer),
+            "camera": _values(survey.camera) if survey.camera_id else None,
         },
         "conditions": _values(conditions) if conditions else None,
         "assets": [_values(asset) | {"key": key} for key, asset in sorted(assets.items())],
@@ -361,11 +366,13 @@ class _Importer:
         survey_entry = dict(m["survey"])
         thermographer = _member_of(self.organization, survey_entry.pop("thermographer", None))
         reviewer = _member_of(self.organization, survey_entry.pop("reviewer", None))
+        camera = self.camera(survey_entry.pop("camera", None))
         survey = Survey(
             organization=self.organization,
             site=site,
             thermographer=thermographer,
             reviewer=reviewer,
+            camera=camera,
             created_by=self.user,
             **_restore(Survey, survey_entry),
         )
@@ -383,6 +390,18 @@ class _Importer:
         for entry in m.get("reports", []):
             self.report(survey, entry)
         return survey
+
+    def camera(self, entry: dict | None) -> Instrument | None:
+        """The archive's camera: the organization's record of the same model and serial."""
+        if not entry:
+            return None
+        values = _restore(Instrument, dict(entry))
+        lookup = {
+            "organization": self.organization,
+            "model_name": values.pop("model_name"),
+            "serial_number": values.pop("serial_number", ""),
+        }
+        return _find_or_create(Instrument, lookup, values)
 
     def thermogram(self, survey: Survey, entry: dict) -> None:
         key = entry.pop("key")
@@ -426,6 +445,7 @@ class _Importer:
         key = entry.pop("key")
         thermogram_key = entry.pop("thermogram")
         labels = entry.pop("marks", [])
+        reference = entry.pop("reference_mark", None)
         asset = self.assets.get(entry.pop("asset"))
         table = _criteria_table(self.organization, entry.pop("criteria_table", None))
         finding = Finding(
@@ -434,6 +454,7 @@ class _Importer:
             thermogram=self.thermograms.get(thermogram_key),
             asset=asset,
             criteria_table=table,
+            reference_mark=self.marks.get((thermogram_key, reference)) if reference else None,
             created_by=self.user,
             **_restore(Finding, entry),
         )

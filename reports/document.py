@@ -22,6 +22,9 @@ from reports.pictures import Pictures, draft_watermark_png, draw_thermogram, tre
 from reports.results import content_digest, readings_by_thermogram, survey_results
 from survey.cautions import cautions_for
 from survey.models import Finding, Survey, Thermogram
+from survey.services.findings import verification_text
+from survey.services.instruments import survey_ifov
+from survey.services.readings import design_conditions
 from survey.severity import category_label
 
 TOP_FINDINGS = 5
@@ -135,11 +138,16 @@ def method_context(survey: Survey, thermograms: list, findings: list) -> dict:
             tables[finding.criteria_table_id] = finding.criteria_table
     conditions = getattr(survey, "conditions", None)
     load_pct = conditions.load_pct if conditions else None
+    exponents = sorted({f.load_exponent for f in findings if f.load_exponent is not None})
+    ifov_mrad, ifov_source = survey_ifov(survey)
     return {
         "settings_used": sorted(pairs.items()),
         "criteria_tables": list(tables.values()),
         "load_pct": load_pct,
-        "load_factor": (100.0 / load_pct) ** 2 if load_pct else None,
+        "exponents": [f"{n:g}" for n in exponents],
+        "ifov_mrad": ifov_mrad,
+        "ifov_source": ifov_source,
+        "design": design_conditions(survey),
         "any_transmittance": any(t.transmittance < 1 for t in thermograms),
     }
 
@@ -178,7 +186,7 @@ def cautions(survey: Survey, *, heat_loss: bool) -> list[str]:
 def build_context(version: ReportVersion, pictures: Pictures, progress: Progress) -> dict:
     report = version.report
     survey = Survey.objects.select_related(
-        "site__client", "organization", "thermographer__user", "reviewer__user"
+        "site__client", "organization", "thermographer__user", "reviewer__user", "camera"
     ).get(pk=report.survey_id)
     progress("Collecting the survey's numbers", 5)
     thermograms = list(
@@ -194,6 +202,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
     by_thermogram: dict[int, list[Finding]] = {}
     for finding in findings:
         finding.category_text = category_label(survey.kind, finding.category)
+        finding.verified_text = verification_text(finding)
         by_thermogram.setdefault(finding.thermogram_id, []).append(finding)
     readings = readings_by_thermogram(survey, thermograms)
     results = survey_results(survey, readings=readings)
@@ -257,6 +266,9 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         "act_first": [f for f in open_ranked if f.level == first_level],
         "conditions": conditions_rows(survey),
         "conditions_check": results["conditions_check"],
+        "conditions_shortfalls": [
+            row for row in results["conditions_check"] if row["status"] != "met"
+        ],
         "method": method_context(survey, thermograms, findings),
         "sections": sections,
         "heat_loss": heat_loss,

@@ -9,7 +9,8 @@ import math
 
 from survey.conditions import conditions_check
 from survey.models import Finding, Survey, Thermogram
-from survey.services.readings import mark_readings
+from survey.services.readings import readings_of_marks
+from survey.severity import category_label
 
 _PLAIN = frozenset({str, int, bool, type(None)})
 
@@ -62,11 +63,7 @@ def _thermogram_readings(thermogram: Thermogram) -> list[dict]:
         mark.thermogram = thermogram
         if mark.reference_mark_id in by_pk:
             mark.reference_mark = by_pk[mark.reference_mark_id]
-    # Referenced marks first, so each reference's readings are computed once.
-    referenced = {m.reference_mark_id for m in marks if m.reference_mark_id}
-    by_id: dict[int, dict] = {}
-    for mark in sorted(marks, key=lambda m: m.pk not in referenced):
-        by_id[mark.pk] = mark_readings(mark, by_id=by_id)
+    by_id = readings_of_marks(marks)
     return [by_id[mark.pk] for mark in marks]
 
 
@@ -81,13 +78,17 @@ def conditions_check_rows(survey: Survey) -> list[dict]:
 
 
 def _finding_dict(finding: Finding) -> dict:
+    values = (finding.suggestion or {}).get("values") or {}
     return {
         "id": finding.pk,
         "thermogram_id": finding.thermogram_id,
         "asset": finding.asset.name if finding.asset else None,
         "asset_tag": finding.asset.tag if finding.asset else None,
         "marks": sorted(mark.label for mark in finding.marks.all()),
+        "mark_names": {mark.label: mark.name for mark in finding.marks.all() if mark.name},
+        "reference_mark": finding.reference_mark.label if finding.reference_mark else None,
         "category": finding.category,
+        "category_label": category_label(finding.survey.kind, finding.category),
         "location": finding.location,
         "description": finding.description,
         "basis": finding.basis,
@@ -99,9 +100,15 @@ def _finding_dict(finding: Finding) -> dict:
         "criteria_row": finding.criteria_row,
         "rise_c": finding.rise_c,
         "corrected_rise_c": finding.corrected_rise_c,
+        "rise_method": finding.rise_method,
+        "load_exponent": finding.load_exponent,
         "max_corrected_c": finding.max_corrected_c,
+        "wet_area_m2": values.get("wet_area_m2"),
+        "wet_area_u_m2": values.get("wet_area_u_m2"),
         "recommendation": finding.recommendation,
         "status": finding.status,
+        "verification": finding.verification,
+        "verification_reason": finding.verification_reason,
     }
 
 
@@ -132,7 +139,8 @@ def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = N
                 "date": survey.date.isoformat(),
                 "client": survey.site.client.name,
                 "site": survey.site.name,
-                "instrument": survey.instrument,
+                "instrument": str(survey.camera) if survey.camera_id else survey.instrument,
+                "start_time": survey.start_time.strftime("%H:%M") if survey.start_time else None,
                 "thermographer": str(survey.thermographer) if survey.thermographer else None,
                 "reviewer": str(survey.reviewer) if survey.reviewer else None,
             },
@@ -156,7 +164,9 @@ def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = N
             ],
             "findings": [
                 _finding_dict(f)
-                for f in survey.findings.select_related("asset", "criteria_table")
+                for f in survey.findings.select_related(
+                    "asset", "criteria_table", "survey", "reference_mark"
+                )
                 .prefetch_related("marks")
                 .order_by("id")
             ],
