@@ -12,7 +12,7 @@ from pypdf import PdfReader
 from reports.document import render_pdf
 from reports.models import Report, ReportVersion
 from reports.results import content_digest, survey_results
-from survey.models import Conditions, Member, Survey
+from survey.models import Conditions, Finding, Member, Survey
 from tests.conftest import make_envelope_survey, make_organization, make_person, make_site
 from tests.reports.conftest import (
     COLD_C,
@@ -103,26 +103,39 @@ def test_it_lays_out_cover_contents_header_and_page_numbers(rendered):
 
 
 def test_it_prints_the_corrected_numbers_of_a_hand_built_survey(rendered):
-    """Mark B's corrected value, ΔT against A, dew point and surface RH match scipy/psychrolib."""
+    """Mark B's corrected value, ΔT against A, dew point, surface RH and fRsi match
+    scipy/psychrolib; the straddling RH interval reads "cannot tell"."""
     corrected_cold = object_c(COLD_C, EMISSIVITY, REFLECTED_C)  # scipy Planck 8–14 µm
     corrected_sound = object_c(SOUND_C, EMISSIVITY, REFLECTED_C)
     dew = dew_point_c(20.0, 50.0)  # psychrolib, indoor air of the envelope_survey fixture
     rh = surface_rh_pct(20.0, 50.0, corrected_cold)
+    text = pdf_text(rendered.pdf)
     row = re.search(
-        rf"^\s*B point\s+0\.93 / 19\.0\s+12\.0 · 12\.0\s+{NUMBER}\s+{NUMBER}\s+{NUMBER}"
-        rf"\s+{NUMBER}\s+(\d+)\s*$",
-        pdf_text(rendered.pdf),
+        rf"^\s*B point\s+0\.93 /\s+12\.0 ·\s+{NUMBER}\s+{NUMBER}\s+{NUMBER}"
+        rf"\s+{NUMBER}\s+(\d+) %\s+(\d\.\d\d) \((\d\.\d\d)\)\s*$",
+        text,
         re.MULTILINE,
     )
     assert row, "row of mark B not found"
-    corrected, _uncertainty, delta_t, dew_printed, rh_printed = row.groups()
+    corrected, _uncertainty, delta_t, dew_printed, rh_printed, factor, needed = row.groups()
     assert float(corrected) == pytest.approx(corrected_cold, abs=0.06)
+    # Hottest to hottest: B's max minus A's max (A is uniform, so its max is its mean).
     assert float(delta_t) == pytest.approx(corrected_cold - corrected_sound, abs=0.06)
     assert float(dew_printed) == pytest.approx(dew, abs=0.06)
     assert int(rh_printed) == pytest.approx(rh, abs=0.6)
-    text = flat(pdf_text(rendered.pdf))
-    assert "Inside–outside difference 25.0 K" in text  # 20 − (−5), the fixture's air
-    assert "Conditions check" in text and "not recorded" in text
+    # fRsi = (θsi − θe)/(θi − θe) by hand with −5 °C outside; fRsi,min 0.705
+    # (docs/references.md § Building envelope, computed).
+    assert float(factor) == pytest.approx((corrected_cold + 5.0) / 25.0, abs=0.006)
+    assert float(needed) == pytest.approx(0.705, abs=0.006)
+    flat_text = flat(text)
+    cells = flat(pdf_text(rendered.pdf, layout=False))
+    assert "rise over mark A, hottest to hottest" in cells
+    # 87 % with ±2.5 K: the interval reaches both 80 % and 100 % (ILAC-G8 guarded acceptance).
+    assert "condensation cannot tell within the camera's accuracy" in cells
+    assert "± is the expanded uncertainty at k = 2 (about 95 %)" in flat_text
+    assert "Inside–outside difference 25.0 K" in flat_text  # 20 − (−5), the fixture's air
+    assert "Conditions check" in flat_text and "not recorded" in flat_text
+    assert "start time not recorded" in flat_text
 
 
 @pytest.mark.parametrize(
@@ -145,10 +158,17 @@ def test_it_prints_the_cautions_of_each_survey_kind(org, site, thermographer, ki
 
 
 def test_it_prints_the_load_correction_of_an_electrical_survey(electrical_report_survey):
-    """65 % load: rises scale by (100/65)² = 2.37 (square law, computed by hand)."""
+    """65 % load and a finding judged with n = 1.5: the report prints that n, the measured
+    rise first and the full-load rise beside it, and never says the square law is always
+    used. 20 K·(100/65)^1.5 = 38.2 K (computed by hand)."""
+    Finding.objects.filter(survey=electrical_report_survey).update(
+        load_exponent=1.5, corrected_rise_c=38.2, rise_method="hottest_to_hottest"
+    )
     text = flat(pdf_text(render(electrical_report_survey).pdf))
     assert "load was 65 % of rating" in text
-    assert "factor 2.37" in text
+    assert "(used here: n = 1.5)" in text
+    assert "20.0 K measured, 38.2 K at full load (n = 1.5)" in text
+    assert "factor 2.37" not in text and "(100 / 65)2" not in text
     assert "1 act now" in text and "re-terminate the L2 lug" in text
 
 
@@ -188,7 +208,6 @@ def test_it_reports_a_survey_without_conditions_or_thermograms(org, site, thermo
 
 def test_it_draws_the_trend_of_an_asset_seen_before(electrical_report_survey, thermographer):
     """An asset with an earlier visit gets its history chart beside its thermogram."""
-    from survey.models import Finding
 
     finding = Finding.objects.get(survey=electrical_report_survey)
     earlier = kind_survey(

@@ -24,7 +24,7 @@ from django.utils import timezone
 from PIL import Image
 
 from reports.models import Report, ReportVersion, ShareLink
-from survey.models import Asset, AuditEvent, Finding, Survey, Thermogram
+from survey.models import Asset, AuditEvent, Finding, Instrument, Survey, Thermogram
 from survey.services.criteria_tables import criteria_table_copy_defaults
 from survey.services.marks import mark_add
 from survey.services.processing import thermogram_process
@@ -84,6 +84,15 @@ class World:
             site=self.survey.site,
             kind=Survey.Kind.ROOF,
             date=datetime.date(2026, 2, 3),
+        ).pk
+
+    def instrument(self) -> int:
+        return Instrument.objects.create(
+            organization=self.survey.organization,
+            model_name="Quillfeather LW-640",
+            detector_width_px=640,
+            detector_height_px=480,
+            lens_hfov_deg=24.0,
         ).pk
 
     def share_link(self) -> int:
@@ -231,6 +240,12 @@ MATRIX: dict[str, Entry] = {
     "survey:finding_edit": Entry("get", finding, editors(200)),
     "survey:finding_status": Entry("post", finding, editors(302), data={"status": "open"}),
     "survey:finding_verify": Entry("post", finding, editors(302)),
+    "survey:finding_verify_override": Entry(
+        "post", finding, editors(302), data={"reason": "Replaced, work order 9."}
+    ),
+    "survey:finding_rejudge": Entry("post", finding, editors(302)),
+    "survey:instrument_edit": Entry("get", lambda w: {"pk": w.instrument()}, editors(200)),
+    "survey:instrument_delete": Entry("get", lambda w: {"pk": w.instrument()}, editors(200)),
     "survey:survey_findings": Entry("get", survey, everyone(200)),
     "survey:heat_loss_create": Entry("get", survey, editors(200)),
     "survey:site_findings": Entry("get", lambda w: {"pk": w.survey.site_id}, everyone(200)),

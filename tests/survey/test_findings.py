@@ -63,8 +63,8 @@ def test_it_flags_low_load_and_corrects_the_rise(org, site, thermographer):
     _, hot, _ = hot_and_reference(survey, 20.0, 25.0)
     suggestion = finding_suggest(survey=survey, basis="similar", marks=[hot])
     # I²R correction ΔT·(I_full/I)² (docs/references.md § Electrical and mechanical ranking,
-    # practice): 5·(100/30)² = 55.56 K.
-    assert suggestion["values"]["corrected_rise_c"] == pytest.approx(55.56, abs=0.01)
+    # practice): 5·(100/30)² = 55.56 K, shown and stored at 0.1 K: 55.6 K.
+    assert suggestion["values"]["corrected_rise_c"] == 55.6
     assert "low_load" in suggestion["flags"]
     assert suggestion["level"] == 1  # above 15 K over a like component [memory, NETA MTS]
 
@@ -74,8 +74,8 @@ def test_it_does_not_flag_a_load_of_forty_percent_or_more(org, site, thermograph
     survey = equipment_survey(org, site, thermographer, ambient_air_c=24.0, load_pct=65.0)
     _, hot, _ = hot_and_reference(survey, 20.0, 25.0)
     suggestion = finding_suggest(survey=survey, basis="similar", marks=[hot])
-    # 5·(100/65)² = 11.83 K, computed by hand.
-    assert suggestion["values"]["corrected_rise_c"] == pytest.approx(11.83, abs=0.01)
+    # 5·(100/65)² = 11.83 K, computed by hand; stored at 0.1 K.
+    assert suggestion["values"]["corrected_rise_c"] == 11.8
     assert "low_load" not in suggestion["flags"]
 
 
@@ -385,6 +385,7 @@ def test_it_estimates_heat_loss_energy_and_cost(envelope_survey, thermographer):
         survey=envelope_survey,
         user=thermographer.user,
         label="Warm riser duct",
+        side="outside",
         t_surface_c=30.0,
         t_air_c=20.0,
         emissivity=0.9,
@@ -418,6 +419,7 @@ def test_it_counts_only_the_excess_over_a_sound_surface(envelope_survey, thermog
         survey=envelope_survey,
         user=thermographer.user,
         label="Same as sound wall",
+        side="outside",
         t_surface_c=12.0,
         t_reference_c=12.0,
         t_air_c=-5.0,
@@ -439,6 +441,7 @@ def test_it_refuses_an_efficiency_of_zero(envelope_survey, thermographer):
             survey=envelope_survey,
             user=thermographer.user,
             label="x",
+            side="outside",
             t_surface_c=12.0,
             t_air_c=-5.0,
             emissivity=0.93,

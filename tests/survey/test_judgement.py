@@ -17,7 +17,9 @@ def test_judge_rise_load_corrects_before_reading_the_table():
     result = judge_rise(
         hot_c=30.0,
         reference_c=25.0,
+        method="hottest_to_hottest",
         where="mark A",
+        over="mark B",
         against="mark B",
         load_pct=50.0,
         exponent=2.0,
@@ -36,7 +38,9 @@ def test_judge_rise_flags_a_load_too_low_to_rank():
     result = judge_rise(
         hot_c=22.0,
         reference_c=21.0,
+        method="hottest_to_air",
         where="mark A",
+        over="the air",
         against="the ambient air",
         load_pct=30.0,
         exponent=2.0,

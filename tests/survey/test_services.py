@@ -232,14 +232,37 @@ def test_it_marks_a_corrupt_file_failed_with_its_message(
     """A file that passes the header check but cannot be decoded ends failed, explained."""
     thermogram = ingest(
         envelope_survey,
-        "ragged.csv",
-        b"20.1,20.2,20.3\n20.4,20.5\n",
+        "cut.tif",
+        _tiff_float()[:40],
         capture=django_capture_on_commit_callbacks,
     )
     assert thermogram.status == Thermogram.Status.FAILED
-    assert "row 2" in thermogram.error
+    assert "cut.tif" in thermogram.error
     with pytest.raises(ThermogramNotReady):
         thermogram_temperatures(thermogram)
+
+
+@pytest.mark.parametrize(
+    ("name", "data", "words"),
+    [
+        # Both a decimal comma and two columns (docs/references.md § Decoding and rendering).
+        ("wall.csv", b"20,5\n21,3\n", "semicolons between values"),
+        # Text under a TIFF's name (docs/references.md § Decoding and rendering).
+        ("wall.tif", b"20.5;21.0\n22.0;23.5\n", "is not a TIFF"),
+        ("ragged.csv", b"20.1,20.2,20.3\n20.4,20.5\n", "row 2"),
+    ],
+)
+def test_it_refuses_at_upload_what_the_decoder_refuses(
+    envelope_survey, settings, django_capture_on_commit_callbacks, name, data, words
+):
+    """The decoder's refusal reaches the uploader at once, with its fix; nothing is kept."""
+    with pytest.raises(ValidationError) as error, django_capture_on_commit_callbacks():
+        ingest_services.thermogram_ingest(
+            survey=envelope_survey, uploaded_file=upload(name, data), user=None
+        )
+    assert words in " ".join(error.value.messages)
+    assert not Thermogram.objects.exists()
+    assert media_files(settings) == []
 
 
 def test_it_reprocesses_a_failed_file_with_new_settings(

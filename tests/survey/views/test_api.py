@@ -371,17 +371,19 @@ def test_it_rejects_bad_changes_and_keeps_the_mark(thermographer_client, thermog
 def test_it_takes_a_delta_t_against_another_mark_and_the_air(
     thermographer_client, electrical_survey
 ):
-    """ΔT = corrected max − reference's corrected mean, or − the survey's ambient air (24 °C)."""
+    """ΔT = corrected max − reference's corrected max (like components, hottest to hottest),
+    or − the survey's ambient air (24 °C); shown at 0.1 K."""
     thermogram = make_thermogram(electrical_survey)
     ref = add_mark(thermographer_client, thermogram, points=[[5, 5], [15, 15]])
     hot = add_mark(thermographer_client, thermogram, points=[[100, 40], [120, 55]], reference="A")
     assert hot["reference"] == "A"
+    assert hot["delta_t_method"] == "hottest_to_hottest"
     assert hot["delta_t_c"] == pytest.approx(
-        hot["corrected"]["max_c"] - ref["corrected"]["mean_c"], abs=0.02
+        hot["corrected"]["max_c"] - ref["corrected"]["max_c"], abs=0.06
     )
     assert hot["delta_t_quantitative"] is True
     air = post_json(thermographer_client, hot["url"], {"reference": "ambient"}, "patch").json()
-    assert air["delta_t_c"] == pytest.approx(air["corrected"]["max_c"] - 24.0, abs=0.01)
+    assert air["delta_t_c"] == pytest.approx(air["corrected"]["max_c"] - 24.0, abs=0.06)
     assert air["dew_point_c"] is None  # electrical survey: no humidity figures
 
 

@@ -5,7 +5,14 @@ from django.urls import reverse
 
 from survey.models import CriteriaTable, Finding, HeatLossEstimate
 from survey.services.findings import finding_create, finding_suggest
-from tests.survey.findings_data import equipment_survey, hot_and_reference, make_asset
+from survey.services.marks import mark_add
+from tests.factories import make_thermogram
+from tests.survey.findings_data import (
+    block_field,
+    equipment_survey,
+    hot_and_reference,
+    make_asset,
+)
 
 
 @pytest.fixture
@@ -49,7 +56,13 @@ def test_it_answers_404_to_an_outsider_on_every_page(setup, outsider_client):
     """Another organization's findings, assets, sites and surveys do not exist for Otto."""
     for url in _get_urls(setup):
         assert outsider_client.get(url).status_code == 404, url
-    for name in ("finding_status", "finding_verify", "finding_edit"):
+    for name in (
+        "finding_status",
+        "finding_verify",
+        "finding_edit",
+        "finding_verify_override",
+        "finding_rejudge",
+    ):
         url = reverse(f"survey:{name}", args=[setup["finding"].pk])
         assert outsider_client.post(url, {"status": "open"}).status_code == 404, url
     table = CriteriaTable.objects.filter(organization__isnull=True).first()
@@ -95,7 +108,7 @@ def test_it_shows_the_suggestion_and_why(setup, thermographer_client):
         {"marks": [setup["hot"].pk], "basis": "similar", "category": "component", "suggest": "1"},
     )
     assert response.status_code == 200
-    assert b"rise 10.0 K" in response.content
+    assert "Rise over mark A, hottest to hottest: 10.0 K measured" in response.content.decode()
     assert Finding.objects.count() == 1
 
 
@@ -125,20 +138,26 @@ def test_it_answers_bad_input_with_a_message(setup, thermographer_client):
     )
     assert response.status_code == 200
     assert b"errorlist" in response.content
-    heat = reverse("survey:heat_loss_create", args=[setup["survey"].pk])
+
+
+def test_it_answers_bad_heat_loss_input_with_a_message(envelope_survey, thermographer_client):
+    """Nonsense numbers and no side chosen give form messages, nothing saved."""
+    heat = reverse("survey:heat_loss_create", args=[envelope_survey.pk])
     response = thermographer_client.post(heat, {"label": "x", "t_air_c": "warm", "size_m": "-1"})
     assert response.status_code == 200
     assert b"errorlist" in response.content
+    assert b"inside or an outside surface" in response.content
     assert not HeatLossEstimate.objects.exists()
 
 
-def test_it_adds_a_heat_loss_estimate_from_a_mark(setup, thermographer_client):
-    """A mark's corrected mean and emissivity are used when left empty."""
+def test_it_refuses_a_heat_loss_estimate_on_an_electrical_lug(setup, thermographer_client):
+    """An electrical survey takes no heat-loss estimate: the page says why, nothing is saved."""
     url = reverse("survey:heat_loss_create", args=[setup["survey"].pk])
     response = thermographer_client.post(
         url,
         {
             "label": "Hot lug",
+            "side": "outside",
             "mark": setup["hot"].pk,
             "t_air_c": "24",
             "geometry": "vertical",
@@ -150,22 +169,70 @@ def test_it_adds_a_heat_loss_estimate_from_a_mark(setup, thermographer_client):
             "efficiency_pct": "100",
         },
     )
+    assert response.status_code == 200
+    assert b"not a building heat loss" in response.content
+    assert not HeatLossEstimate.objects.exists()
+    findings_page = thermographer_client.get(
+        reverse("survey:survey_findings", args=[setup["survey"].pk])
+    )
+    assert b"New heat-loss estimate" not in findings_page.content
+
+
+def test_it_adds_a_heat_loss_estimate_from_a_mark(envelope_survey, thermographer_client):
+    """A mark's corrected mean and emissivity are used when left empty; an inside cold
+    patch loses heat to the outside, counted positive."""
+    thermogram = make_thermogram(envelope_survey, block_field(19.0, 12.0), emissivity=1.0)
+    mark = mark_add(thermogram=thermogram, kind="rectangle", points=[[10, 10], [20, 20]], user=None)
+    url = reverse("survey:heat_loss_create", args=[envelope_survey.pk])
+    response = thermographer_client.post(
+        url,
+        {
+            "label": "Cold corner",
+            "side": "inside",
+            "mark": mark.pk,
+            "t_air_c": "20",
+            "geometry": "vertical",
+            "size_m": "2.5",
+            "area_m2": "0.5",
+            "wind_m_s": "0",
+            "hours_per_year": "5000",
+            "price_per_kwh": "0.2",
+            "efficiency_pct": "100",
+        },
+    )
     assert response.status_code == 302
     estimate = HeatLossEstimate.objects.get()
-    assert estimate.inputs["t_surface_c"] == pytest.approx(30.0, abs=0.01)
+    assert estimate.inputs["t_surface_c"] == pytest.approx(12.0, abs=0.01)
     assert estimate.inputs["emissivity"] == 1.0
+    assert estimate.results["watts"] > 0 and estimate.results["cost_per_year"] > 0
 
 
-def test_it_changes_the_status_and_refuses_verified_without_a_note(setup, thermographer_client):
-    """Repaired is set; verified without a note shows a message and changes nothing."""
+def test_it_no_longer_offers_verified_in_the_status_list(setup, thermographer_client):
+    """Repaired is set; verified from the drop-down is refused and changes nothing; verifying
+    without a later measurement needs a reason, which is kept and shown."""
     url = reverse("survey:finding_status", args=[setup["finding"].pk])
     thermographer_client.post(url, {"status": "repaired"})
     setup["finding"].refresh_from_db()
     assert setup["finding"].status == "repaired"
+    page = thermographer_client.get(reverse("survey:finding", args=[setup["finding"].pk]))
+    assert b'<option value="verified"' not in page.content
     response = thermographer_client.post(url, {"status": "verified"}, follow=True)
-    assert b"Say how the repair was confirmed" in response.content
+    assert b"verified needs a later measurement" in response.content
     setup["finding"].refresh_from_db()
     assert setup["finding"].status == "repaired"
+    override = reverse("survey:finding_verify_override", args=[setup["finding"].pk])
+    response = thermographer_client.post(override, {"reason": "  "}, follow=True)
+    setup["finding"].refresh_from_db()
+    assert setup["finding"].status == "repaired"
+    response = thermographer_client.post(
+        override, {"reason": "Lug replaced, work order 4411."}, follow=True
+    )
+    setup["finding"].refresh_from_db()
+    assert setup["finding"].status == "verified"
+    assert setup["finding"].verification_reason == "Lug replaced, work order 4411."
+    assert b"Verified without a later measurement: Lug replaced, work order 4411." in (
+        response.content
+    )
 
 
 def test_it_lists_open_findings_of_a_site_by_severity(setup, thermographer_client, thermographer):
