@@ -119,6 +119,15 @@ def table_rows(browser):
     )
 
 
+def _alert(browser):
+    from selenium.common.exceptions import NoAlertPresentException
+
+    try:
+        return browser.switch_to.alert
+    except NoAlertPresentException:
+        return None
+
+
 def severe_console_errors(browser):
     entries = browser.get_log("browser")
     return [e for e in entries if e["level"] == "SEVERE" and "favicon.ico" not in e["message"]]
@@ -236,6 +245,9 @@ def test_it_changes_emissivity_deletes_by_keyboard_and_shows_the_overlay(
         message="mark picked",
     )
     canvas.send_keys(Keys.DELETE)
+    alert = wait_for(lambda: _alert(browser), message="the deletion asked first")
+    assert "Delete mark A" in alert.text
+    alert.accept()
     wait_for(lambda: len(table_rows(browser)) == 0, message="the mark deleted")
     assert not Mark.objects.filter(thermogram=thermogram).exists()
 
@@ -279,3 +291,104 @@ def test_it_stays_readable_on_a_tablet(browser, live_server, thermographer, work
         )
     finally:
         browser.set_window_size(1280, 800)
+
+
+def test_it_undoes_and_redoes_mark_edits_and_keeps_a_mark_a_finding_uses(
+    browser, live_server, thermographer, workspace_thermogram
+):
+    """Ctrl+Z brings a deleted mark back with its name and undoes a move; Ctrl+Shift+Z redoes
+    it; a mark a finding uses is not deleted and the workspace says which finding uses it."""
+    from selenium.webdriver.common.action_chains import ActionChains
+    from selenium.webdriver.common.by import By
+    from selenium.webdriver.common.keys import Keys
+
+    from survey.models import Finding
+    from survey.services.marks import mark_add
+
+    thermogram = workspace_thermogram
+    kept = mark_add(thermogram=thermogram, kind="point", points=[[20, 20]], user=None, name="N")
+    finding = Finding.objects.create(
+        organization=thermogram.organization,
+        survey=thermogram.survey,
+        thermogram=thermogram,
+        category="thermal_bridge",
+        level=4,
+    )
+    finding.marks.set([kept])
+    mark_add(
+        thermogram=thermogram,
+        kind="rectangle",
+        points=[[100, 38], [124, 58]],
+        user=None,
+        name="L1",
+    )
+    open_workspace(browser, live_server, thermographer, thermogram)
+    wait_for(lambda: len(table_rows(browser)) == 2, message="marks A and B listed")
+    assert [row[0] for row in table_rows(browser)] == ["A", "B"]
+    labels = browser.execute_script(
+        "return Array.from(document.querySelectorAll('#ws-table-body button.ws-label'))"
+        ".map(b => b.textContent);"
+    )
+    assert labels == ["A (N)", "B (L1)"]
+    canvas = browser.find_element(By.ID, "ws-canvas")
+
+    def pick(label):
+        browser.find_element(
+            By.CSS_SELECTOR, f"#ws-table-body tr[data-label={label}] button.ws-label"
+        ).click()
+
+    def undo(shift=False):
+        keys = ActionChains(browser).key_down(Keys.CONTROL)
+        if shift:
+            keys = keys.key_down(Keys.SHIFT)
+        keys = keys.send_keys("z")
+        if shift:
+            keys = keys.key_up(Keys.SHIFT)
+        keys.key_up(Keys.CONTROL).perform()
+
+    # A mark a finding uses: refused, and the workspace names the finding.
+    pick("A")
+    canvas.send_keys(Keys.DELETE)
+    wait_for(lambda: _alert(browser), message="the question").accept()
+    wait_for(
+        lambda: f"finding #{finding.pk}" in browser.find_element(By.ID, "ws-status").text,
+        message="the refusal",
+    )
+    assert Mark.objects.filter(pk=kept.pk).exists()
+
+    # Delete B, undo, redo.
+    pick("B")
+    canvas.send_keys(Keys.DELETE)
+    wait_for(lambda: _alert(browser), message="the question").accept()
+    wait_for(lambda: len(table_rows(browser)) == 1, message="B deleted")
+    canvas.click()
+    undo()
+    wait_for(lambda: len(table_rows(browser)) == 2, message="B back")
+    again = Mark.objects.get(thermogram=thermogram, label="B")
+    assert (again.name, again.points) == ("L1", [[100.0, 38.0], [124.0, 58.0]])
+    undo(shift=True)
+    wait_for(lambda: len(table_rows(browser)) == 1, message="B deleted again")
+    undo()
+    wait_for(lambda: len(table_rows(browser)) == 2, message="B back again")
+
+    # Move B with the keyboard, then undo the move.
+    pick("B")
+    canvas.click()
+    pick("B")
+    canvas.send_keys(Keys.ARROW_RIGHT)
+    moved = [[101.0, 38.0], [125.0, 58.0]]
+    wait_for(
+        lambda: Mark.objects.get(thermogram=thermogram, label="B").points == moved,
+        message="B moved",
+    )
+    undo()
+    wait_for(
+        lambda: (
+            Mark.objects.get(thermogram=thermogram, label="B").points
+            == [[100.0, 38.0], [124.0, 58.0]]
+        ),
+        message="the move undone",
+    )
+    assert severe_console_errors(browser) == [] or all(
+        "409" in e["message"] for e in severe_console_errors(browser)
+    )

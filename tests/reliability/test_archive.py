@@ -28,13 +28,16 @@ from survey.models import (
     AuditEvent,
     Finding,
     HeatLossEstimate,
+    Instrument,
     Mark,
     Survey,
     Thermogram,
 )
+from survey.services.findings import finding_changes, finding_create, finding_suggest
 from survey.services.ingest import thermogram_ingest
 from survey.services.marks import mark_add
 from tests.factories import make_thermogram, synthetic_field
+from tests.survey.findings_data import equipment_survey, hot_and_reference
 
 
 def _png() -> bytes:
@@ -274,3 +277,40 @@ def test_it_keeps_a_survey_with_an_issued_report_from_any_deletion(full_survey, 
     with pytest.raises(ValidationError, match="issued report"):
         survey_purge(survey=full_survey, user=None)
     assert Report.objects.filter(survey=full_survey).exists()
+
+
+def test_it_moves_the_camera_and_what_a_finding_was_judged_on(
+    org, site, thermographer, other_org, outsider, django_capture_on_commit_callbacks
+):
+    """The survey's camera arrives as the other firm's record; the finding keeps its
+    reference, rise method and n, and is not taken for stale once the worker has decoded
+    the originals again."""
+    survey = equipment_survey(org, site, thermographer, ambient_air_c=24.0, load_pct=80.0)
+    survey.camera = Instrument.objects.create(
+        organization=org,
+        model_name="Invented LW-640",
+        serial_number="7",
+        detector_width_px=640,
+        detector_height_px=480,
+        lens_hfov_deg=45.0,
+    )
+    survey.save()
+    _, hot, reference = hot_and_reference(survey, 20.0, 30.0)
+    suggestion = finding_suggest(survey=survey, basis="similar", marks=[hot], load_exponent=1.6)
+    finding_create(
+        survey=survey,
+        user=thermographer.user,
+        category="connection",
+        suggestion=suggestion,
+        marks=[hot],
+    )
+    data = survey_export(survey=survey, user=None)
+    with django_capture_on_commit_callbacks(execute=True):
+        imported = survey_import(data=data, organization=other_org, user=outsider.user)
+    imported = Survey.objects.get(pk=imported.pk)
+    assert imported.camera.organization == other_org
+    assert (imported.camera.model_name, imported.camera.lens_hfov_deg) == ("Invented LW-640", 45)
+    finding = imported.findings.get()
+    assert finding.reference_mark.label == "A"
+    assert (finding.rise_method, finding.load_exponent) == ("hottest_to_hottest", 1.6)
+    assert finding_changes(finding) == []

@@ -4,6 +4,7 @@ import io
 import re
 from types import SimpleNamespace
 
+import numpy as np
 import pytest
 from django.db import transaction
 from django.test import override_settings
@@ -13,7 +14,10 @@ from reports.document import render_pdf
 from reports.models import Report, ReportVersion
 from reports.results import content_digest, survey_results
 from survey.models import Conditions, Finding, Member, Survey
+from survey.services.findings import finding_create, finding_suggest
+from survey.services.marks import mark_add, mark_update
 from tests.conftest import make_envelope_survey, make_organization, make_person, make_site
+from tests.factories import make_thermogram
 from tests.reports.conftest import (
     COLD_C,
     EMISSIVITY,
@@ -255,3 +259,49 @@ def test_it_puts_the_garbage_collector_thresholds_back_after_a_render(org, site,
     before = gc.get_threshold()
     render(kind_survey(org, site, thermographer, "roof"))
     assert gc.get_threshold() == before
+
+
+def test_it_prints_condensation_as_such_with_its_margin(org, site, thermographer):
+    """22 °C / 55 % air at a 10 °C surface is 118 % [computed, psychrolib;
+    docs/references.md § Psychrometrics]: printed "≥ 100 % (condensation)" with the margin
+    below the dew point and its ±, never as 118 %."""
+
+    survey = kind_survey(org, site, thermographer, "envelope")
+    Conditions.objects.create(survey=survey, indoor_air_c=22.0, indoor_rh_pct=55.0)
+    field = np.full((20, 30), 10.0, dtype=np.float32)
+    thermogram = make_thermogram(survey, field, emissivity=1.0)
+    mark = mark_add(thermogram=thermogram, kind="rectangle", points=[[2, 2], [12, 12]], user=None)
+    mark_update(mark=mark, user=None, name="sill")
+    cells = flat(pdf_text(render(survey).pdf, layout=False))
+    assert "≥ 100 % (condensation)" in cells
+    assert "118 %" not in cells
+    assert re.search(r"K below the dew point", cells)
+    assert "A (sill)" in cells
+
+
+def test_it_prints_a_wet_area_with_its_spread_and_a_missing_survey_time(org, site, thermographer):
+    """A roof finding's wet area is printed with its ±; a roof survey without a start time
+    says so in the summary, with the night-survey check not recorded."""
+
+    survey = kind_survey(org, site, thermographer, "roof")
+    survey.ifov_mrad = 1.309
+    survey.save()
+    Conditions.objects.create(survey=survey)
+    thermogram = make_thermogram(survey, np.full((40, 60), 6.0), distance_m=20.0)
+    mark = mark_add(thermogram=thermogram, kind="rectangle", points=[[2, 2], [51, 31]], user=None)
+    suggestion = finding_suggest(survey=survey, basis="roof", marks=[mark])
+    finding_create(
+        survey=survey,
+        user=thermographer.user,
+        category="wet_insulation",
+        suggestion=suggestion,
+        marks=[mark],
+    )
+    values = suggestion["values"]
+    text = pdf_text(render(survey).pdf, layout=False)
+    cells = flat(text)
+    area = f"Wet area {values['wet_area_m2']:.2f} ± {values['wet_area_u_m2']:.2f} m²"
+    assert area in cells
+    summary = flat(text[text.index("Summary\n") : text.index("What to do first")])
+    assert "start time not recorded" in summary
+    assert "surveyed at night not recorded" in summary

@@ -185,3 +185,15 @@ def test_it_carries_the_findings_exponent_into_the_history(org, site, thermograp
     assert check["after_value"] == 1.5
     assert check["after_text"] == "1.5 K full-load (n = 1.5)"
     assert check["before_text"] == "19.1 K full-load (n = 1.5)"
+
+
+def test_it_judges_a_repair_on_the_rise_it_prints(
+    repaired_finding, org, site, thermographer, asset
+):
+    """0.7 K at 83.7 % load is 0.7·(100/83.7)² = 0.999 K at full load (by hand), printed
+    1.0 K: at the 1 K limit of the table, so not fixed, as the printed number says."""
+    _later_visit(org, site, thermographer, asset, 0.7, load_pct=83.7)
+    check = repair_verification(repaired_finding)
+    assert check["after_value"] == 1.0
+    assert check["outcome"] == "not_fixed"
+    assert check["message"].startswith("Now 1.0 K full-load (n = 2), still at or above 1 K")

@@ -1,14 +1,19 @@
 """Conditions criteria, table rows, cautions and the trend chart."""
 
 import datetime
+import math
 from xml.dom import minidom
 
+import psychrolib
 import pytest
+from scipy.optimize import brentq
 
 from survey import conditions, severity
 from survey.cautions import cautions_for, cautions_for_kinds
 from survey.charts import trend_svg
 from survey.models import Conditions, Survey
+
+psychrolib.SetUnitSystem(psychrolib.SI)
 
 
 def _by_key(checks):
@@ -139,3 +144,74 @@ def test_trend_svg_draws_a_readable_chart_with_gaps():
 def test_trend_svg_says_when_there_is_nothing_to_chart():
     """No values: a short message instead of an empty frame."""
     assert "No readings" in trend_svg([], 300, 120, "K")
+
+
+def _roof(org, site, start_time=None, **values):
+    survey = Survey.objects.create(
+        organization=org,
+        site=site,
+        kind="roof",
+        date=datetime.date(2026, 6, 2),
+        start_time=start_time,
+    )
+    Conditions.objects.create(survey=survey, **values)
+    return survey
+
+
+@pytest.mark.parametrize(
+    ("start", "status"),
+    [
+        (datetime.time(22, 30), "met"),
+        (datetime.time(3, 0), "met"),
+        (datetime.time(14, 0), "not_met"),
+        (None, "not_recorded"),
+    ],
+)
+def test_it_checks_that_a_roof_was_surveyed_at_night(org, site, start, status):
+    """ASTM C1153 surveys at night (the 18:00–06:00 window is common practice); a survey
+    without a start time says not recorded."""
+    checks = _by_key(conditions.conditions_check(_roof(org, site, start)))
+    assert checks["night_survey"]["status"] == status
+    if start is None:
+        assert checks["night_survey"]["value_text"] == "not recorded"
+
+
+@pytest.mark.parametrize(
+    ("membrane_c", "air_c", "rh_pct"),
+    [(2.0, 5.0, 90.0), (6.0, 5.0, 90.0), (-4.0, -1.0, 85.0), (-2.0, -1.0, 85.0)],
+)
+def test_it_checks_the_roof_membrane_against_the_outdoor_dew_point(
+    org, site, membrane_c, air_c, rh_pct
+):
+    """Dew or frost on the membrane hides wet insulation: the membrane must be above the
+    outdoor dew point, the frost point below 0 °C (over ice, ISO 13788). Limits from
+    psychrolib's saturation pressures solved with scipy (docs/references.md
+    § Psychrometrics)."""
+    # RH is over liquid water also below 0 °C (docs/references.md § Psychrometrics,
+    # conventions), while psychrolib switches to ice there: the air's vapour pressure takes
+    # psychrolib's formula over water, the limit psychrolib's own (over ice below 0 °C).
+    vapour = rh_pct / 100 * _water_saturation(air_c)
+    limit = brentq(lambda t: psychrolib.GetSatVapPres(t) - vapour, -40.0, 40.0)
+    survey = _roof(
+        org,
+        site,
+        datetime.time(23, 0),
+        roof_surface_c=membrane_c,
+        outdoor_air_c=air_c,
+        outdoor_rh_pct=rh_pct,
+    )
+    check = _by_key(conditions.conditions_check(survey))["roof_above_dew_point"]
+    assert check["value"] == pytest.approx(membrane_c - limit, abs=0.02)
+    assert check["status"] == ("met" if membrane_c > limit else "not_met")
+    side = "above" if membrane_c > limit else "below"
+    assert check["value_text"] == f"{abs(membrane_c - limit):.1f} K {side} it"
+
+
+def _water_saturation(t_c: float) -> float:
+    """Saturation over (supercooled) water: ASHRAE Handbook Fundamentals 2017 ch. 1 eq. 6
+    (Hyland–Wexler) with psychrolib's coefficients, which it matches to the last digit above
+    0 °C (docs/references.md § Psychrometrics)."""
+    t_k = t_c + 273.15
+    c8, c9, c10 = -5.8002206e03, 1.3914993, -4.8640239e-02
+    c11, c12, c13 = 4.1764768e-05, -1.4452093e-08, 6.5459673
+    return math.exp(c8 / t_k + c9 + c10 * t_k + c11 * t_k**2 + c12 * t_k**3 + c13 * math.log(t_k))

@@ -17,6 +17,7 @@ from survey.services.findings import (
     heat_loss_estimate_create,
 )
 from survey.services.marks import mark_add
+from survey.thermal import surface_heat_flux
 from survey.thermal.electrical import DEFAULT_CRITERIA
 from tests.factories import make_thermogram
 from tests.survey.findings_data import block_field, equipment_survey, hot_and_reference
@@ -452,3 +453,56 @@ def test_it_refuses_an_efficiency_of_zero(envelope_survey, thermographer):
             efficiency_pct=0.0,
         )
     assert not envelope_survey.heat_loss_estimates.exists()
+
+
+def _estimate(survey, user, **values):
+    arguments = {
+        "label": "Cold patch",
+        "side": "inside",
+        "t_surface_c": 12.0,
+        "t_air_c": 20.0,
+        "emissivity": 0.93,
+        "geometry": "vertical",
+        "size_m": 2.5,
+        "area_m2": 2.0,
+        "hours_per_year": 4000.0,
+        "price_per_kwh": 0.3,
+    } | values
+    return heat_loss_estimate_create(survey=survey, user=user, **arguments)
+
+
+def test_it_counts_heat_leaving_the_building_positive(envelope_survey, thermographer):
+    """An inside cold patch (12 °C in 20 °C room air) loses heat outwards: positive watts and
+    cost. The sign is a definition: leaving = −(flux from the surface to the room air)."""
+    inside = _estimate(envelope_survey, thermographer.user)
+    flux = surface_heat_flux(12.0, 20.0, 0.93, "vertical", 2.5)
+    assert float(flux["total_w_m2"]) < 0  # the room warms the surface
+    assert inside.results["total_w_m2"] == pytest.approx(-float(flux["total_w_m2"]), abs=0.01)
+    assert inside.results["watts"] > 0 and inside.results["cost_per_year"] > 0
+    assert inside.results["sign"] == "heat leaving the building is positive"
+    # The same patch beside a sound wall at 17 °C: only the excess (defect colder) counts.
+    excess = _estimate(envelope_survey, thermographer.user, t_reference_c=17.0)
+    assert 0 < excess.results["total_w_m2"] < inside.results["total_w_m2"]
+
+
+@pytest.mark.parametrize(
+    ("values", "words"),
+    [
+        ({"t_surface_c": 25.0}, "gives heat to the room"),
+        ({"side": "outside", "t_surface_c": -8.0, "t_air_c": -5.0}, "takes heat from it"),
+        ({"t_reference_c": 10.0}, "loses less heat than the sound surface"),
+    ],
+)
+def test_it_refuses_an_estimate_that_is_not_a_loss(envelope_survey, thermographer, values, words):
+    """Heat entering the building is no heat loss: refused with the reason, nothing saved."""
+    with pytest.raises(ValidationError, match=words):
+        _estimate(envelope_survey, thermographer.user, **values)
+    assert not envelope_survey.heat_loss_estimates.exists()
+
+
+def test_it_refuses_a_heat_loss_estimate_on_electrical_equipment(full_load_survey, thermographer):
+    """An electrical survey takes no estimate, with a message saying where they apply."""
+    _, hot, _ = hot_and_reference(full_load_survey, 20.0, 30.0)
+    with pytest.raises(ValidationError, match="envelope and roof surfaces"):
+        _estimate(full_load_survey, thermographer.user, side="outside", mark=hot)
+    assert not full_load_survey.heat_loss_estimates.exists()

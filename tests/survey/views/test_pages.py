@@ -236,6 +236,28 @@ def test_it_uploads_many_files_and_names_the_rejected_ones(
     assert set(envelope_survey.thermograms.values_list("emissivity", flat=True)) == {0.9}
 
 
+def test_it_shows_the_decoders_refusals_on_the_upload_page(
+    thermographer_client, envelope_survey, django_capture_on_commit_callbacks
+):
+    """An ambiguous decimal comma and a text file named .tif are refused at upload with the
+    decoder's message and its fix, on the survey page (docs/references.md § Decoding and
+    rendering)."""
+    files = [
+        SimpleUploadedFile("column.csv", b"20,5\n21,3\n"),
+        SimpleUploadedFile("fake.tif", b"20.5;21.0\n22.0;23.5\n"),
+    ]
+    with django_capture_on_commit_callbacks(execute=True):
+        response = thermographer_client.post(
+            reverse("survey:survey_upload", args=[envelope_survey.pk]),
+            {"files": files, "source_unit": "C"},
+            follow=True,
+        )
+    texts = " ".join(messages_of(response))
+    assert "column.csv was not stored" in texts and "semicolons between values" in texts
+    assert "fake.tif was not stored" in texts and "fake.tif is not a TIFF" in texts
+    assert not envelope_survey.thermograms.exists()
+
+
 def test_it_reports_bad_upload_options_without_storing(owner_client, envelope_survey):
     """An emissivity of 1.5 is a message, not a 500, and nothing is stored."""
     response = owner_client.post(
