@@ -305,11 +305,11 @@ def _suggest_roof(survey, marks, view_angle_deg, table) -> dict:
         "ifov_mrad": rounded(ifov, 4),
         "ifov_source": ifov_source,
         "view_angle_deg": angle,
-        "wet_area_square_on_m2": rounded(square_on.area_m2, 4),
-        "wet_area_m2": rounded(area_m2, 4),
-        "wet_area_u_m2": rounded(u_m2, 4),
-        "wet_area_low_m2": rounded(area.low_m2, 4),
-        "wet_area_high_m2": rounded(area.high_m2, 4),
+        "wet_area_square_on_m2": rounded(square_on.area_m2, 6),
+        "wet_area_m2": rounded(area_m2, 6),
+        "wet_area_u_m2": rounded(u_m2, 6),
+        "wet_area_low_m2": rounded(area.low_m2, 6),
+        "wet_area_high_m2": rounded(area.high_m2, 6),
         "max_corrected_c": None,
     }
     result = judgement.with_level(severity.classify(area_m2, table.rows, unit="m²"), reasons)

@@ -279,9 +279,9 @@ def humidity_figures(survey: Survey, coldest_c: float | None, coldest_u_c: float
         "condensation": bool(rh >= CONDENSATION_SURFACE_RH_PCT),
         "condensation_decision": _decision(low, high, CONDENSATION_SURFACE_RH_PCT),
         "mould_decision": _decision(low, high, MOULD_SURFACE_RH_PCT),
-        "condensation_margin_k": rounded(condensation_margin_k(t_air_c, rh_pct, coldest_c), 1),
+        "condensation_margin_k": rounded(condensation_margin_k(t_air_c, rh_pct, coldest_c)),
         "mould_margin_k": rounded(
-            surface_margin_k(t_air_c, rh_pct, coldest_c, MOULD_SURFACE_RH_PCT), 1
+            surface_margin_k(t_air_c, rh_pct, coldest_c, MOULD_SURFACE_RH_PCT)
         ),
         # Only the surface temperature is uncertain: every margin is margin ± U exactly.
         "margin_u_k": rounded((float(wet_high) - float(wet_low)) / 2.0, 1),
