@@ -18,6 +18,7 @@ from django.utils import timezone
 from reports.models import DownloadLog, Report, ReportVersion, ShareLink
 from survey.models import Member, Survey
 from survey.services.audit import audit_record
+from survey.severity import category_label
 
 SHARE_DAYS_MIN, SHARE_DAYS_MAX = 1, 365
 
@@ -293,6 +294,9 @@ FINDING_COLUMNS = [
     "description",
     "recommendation",
     "thermogram",
+    "category_label",
+    "rise_method",
+    "load_exponent",
 ]
 
 
@@ -330,6 +334,9 @@ def findings_csv(survey: Survey) -> str:
                 f.description,
                 f.recommendation,
                 str(f.thermogram) if f.thermogram else "",
+                category_label(survey.kind, f.category),
+                f.get_rise_method_display() if f.rise_method else "",
+                f.load_exponent,
             ]
         )
     return buffer.getvalue()

@@ -149,6 +149,7 @@ def test_it_exports_findings_as_csv_with_formulas_quoted(report_survey):
     rows = list(csv.DictReader(io.StringIO(services.findings_csv(report_survey))))
     assert len(rows) == 1
     assert rows[0]["level"] == "2" and rows[0]["category"] == "missing_insulation"
+    assert rows[0]["category_label"] == "Missing or displaced insulation"
     assert rows[0]["location"] == "'=HYPERLINK(1)"
 
 
