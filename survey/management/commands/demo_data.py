@@ -16,8 +16,17 @@ from django.core.files.uploadedfile import SimpleUploadedFile
 from django.core.management.base import BaseCommand
 from django.db import transaction
 
-from survey.models import Asset, Client, Member, Organization, Site, Survey, Thermogram
-from survey.services import ingest, processing, surveys
+from survey.models import (
+    Asset,
+    Client,
+    Instrument,
+    Member,
+    Organization,
+    Site,
+    Survey,
+    Thermogram,
+)
+from survey.services import ingest, instruments, processing, surveys
 
 PASSWORD = "demo-thermal-2026"
 FICTION = "Fictional demonstration data: every name, place and image here is invented."
@@ -123,6 +132,7 @@ class Command(BaseCommand):
         org, members = self._firm()
         admin = members["demo"]
         alder, kestrel = self._clients(org, admin)
+        camera = self._camera(org, admin)
         envelope = self._survey(
             org,
             admin,
@@ -157,8 +167,8 @@ class Command(BaseCommand):
             date=datetime.date(2026, 4, 22),
             title="Flat roof moisture survey",
             thermographer=members["tess"],
-            instrument="Invented LWIR camera, 320×240, serial DEMO-0001",
-            ifov_mrad=1.36,
+            camera=camera,
+            start_time=datetime.time(21, 30),
             scope_examined="Flat roof over Block B, from the parapet walk.",
             conditions={
                 "outdoor_air_c": 6.0,
@@ -360,6 +370,24 @@ class Command(BaseCommand):
             notes=FICTION,
             conditions=conditions,
             **fields,
+        )
+
+    def _camera(self, org: Organization, admin: Member) -> Instrument:
+        camera = Instrument.objects.filter(organization=org, serial_number="DEMO-0001").first()
+        if camera is not None:
+            return camera
+        return instruments.instrument_create(
+            organization=org,
+            user=admin.user,
+            model_name="Invented LWIR camera",
+            serial_number="DEMO-0001",
+            detector_width_px=320,
+            detector_height_px=240,
+            lens_hfov_deg=25.0,
+            netd_mk=50.0,
+            calibration_date=datetime.date(2025, 6, 2),
+            calibration_due=datetime.date(2026, 6, 2),
+            certificate_reference="CAL-DEMO-0001 (invented)",
         )
 
     def _asset(self, site: Site, admin: Member, name: str, kind: str, tag: str) -> Asset:
