@@ -9,7 +9,7 @@ import math
 
 from survey.conditions import conditions_check
 from survey.models import Finding, Survey, Thermogram
-from survey.services.readings import readings_of_marks
+from survey.services.readings import readings_of_marks, rise_context
 from survey.severity import category_label
 
 _PLAIN = frozenset({str, int, bool, type(None)})
@@ -48,14 +48,15 @@ def readings_by_thermogram(survey: Survey, thermograms) -> dict[int, list[dict]]
     `thermograms` should come with their marks prefetched: the readings are then made from
     those rows instead of one query per thermogram.
     """
+    context = rise_context(survey)
     return {
-        thermogram.pk: json_safe(_thermogram_readings(thermogram))
+        thermogram.pk: json_safe(_thermogram_readings(thermogram, context))
         for thermogram in thermograms
         if thermogram.is_ready and thermogram.marks.all()
     }
 
 
-def _thermogram_readings(thermogram: Thermogram) -> list[dict]:
+def _thermogram_readings(thermogram: Thermogram, context: dict) -> list[dict]:
     """survey.services.readings.thermogram_readings, on the thermogram's prefetched marks."""
     marks = sorted(thermogram.marks.all(), key=lambda m: (len(m.label), m.label))
     by_pk = {mark.pk: mark for mark in marks}
@@ -63,7 +64,7 @@ def _thermogram_readings(thermogram: Thermogram) -> list[dict]:
         mark.thermogram = thermogram
         if mark.reference_mark_id in by_pk:
             mark.reference_mark = by_pk[mark.reference_mark_id]
-    by_id = readings_of_marks(marks)
+    by_id = readings_of_marks(marks, context)
     return [by_id[mark.pk] for mark in marks]
 
 

@@ -501,11 +501,15 @@ def mark_readings(
     return readings
 
 
-def readings_of_marks(marks: list[Mark]) -> dict[int, dict]:
-    """Readings of marks of one thermogram (reference marks loaded), by mark id."""
+def readings_of_marks(marks: list[Mark], context: dict | None = None) -> dict[int, dict]:
+    """Readings of marks of one thermogram (reference marks loaded), by mark id.
+
+    `context` is rise_context(survey), passed in when many thermograms of one survey are read.
+    """
     if not marks:
         return {}
-    context = rise_context(marks[0].thermogram.survey)
+    if context is None:
+        context = rise_context(marks[0].thermogram.survey)
     # Referenced marks first, so each reference's readings are computed once.
     referenced = {m.reference_mark_id for m in marks if m.reference_mark_id}
     by_id: dict[int, dict] = {}
