@@ -62,6 +62,27 @@ def indoor_air(survey: Survey) -> tuple[float, float] | None:
     return conditions.indoor_air_c, conditions.indoor_rh_pct
 
 
+def thermogram_indoor_air(thermogram: Thermogram) -> tuple[float, float] | None:
+    """(indoor air °C, indoor RH %) for a building thermogram: logged at its capture time
+    (survey/services/loggers.py), else the survey's recorded conditions."""
+    from survey.services.loggers import thermogram_air
+
+    if not thermogram.survey.is_building:
+        return None
+    air = thermogram_air(thermogram)
+    if air.indoor_c is None or air.indoor_rh_pct is None or air.indoor_rh_pct <= 0:
+        return None
+    return air.indoor_c, air.indoor_rh_pct
+
+
+def thermogram_reference_air_c(thermogram: Thermogram) -> float | None:
+    """The air a mark's ΔT against the ambient uses: logged at the capture time, else recorded."""
+    from survey.services.loggers import thermogram_air
+
+    air = thermogram_air(thermogram)
+    return air.indoor_c if thermogram.survey.is_building else air.ambient_c
+
+
 def surface_limit_c(t_air_c: float, rh_pct: float, limit_rh_pct: float) -> float:
     """Surface temperature at which the air layer at the surface reaches limit_rh_pct.
 
@@ -174,13 +195,13 @@ def _corrected(mark: Mark, stats: dict) -> tuple[dict, str | None]:
     return {key: rounded(value) for key, value in zip(keys, values, strict=True)}, None
 
 
-def _humidity(survey: Survey, coldest_c: float | None) -> dict:
+def _humidity(thermogram: Thermogram, coldest_c: float | None) -> dict:
     from survey.thermal import dew_point, surface_rh
 
     empty = dict.fromkeys(
         ("dew_point_c", "surface_rh_pct", "condensation_margin_k", "mould_margin_k")
     )
-    air = indoor_air(survey)
+    air = thermogram_indoor_air(thermogram)
     if air is None:
         return empty
     t_air_c, rh_pct = air
@@ -217,10 +238,9 @@ def _apparent(stats: dict) -> dict:
 def _reference(mark: Mark, corrected: dict, by_id: dict[int, dict]) -> dict:
     """ΔT against the reference; by_id holds readings already computed for other marks."""
     result = {"reference": None, "delta_t_c": None, "delta_t_quantitative": None}
-    survey = mark.thermogram.survey
     if mark.reference_kind == Mark.ReferenceKind.AMBIENT:
         result["reference"] = "ambient"
-        air_c = reference_air_c(survey)
+        air_c = thermogram_reference_air_c(mark.thermogram)
         if air_c is not None and corrected["max"] is not None:
             result["delta_t_c"] = rounded(corrected["max"] - air_c)
         quantitative = mark.effective_emissivity >= NOT_QUANTITATIVE_BELOW
@@ -276,7 +296,7 @@ def mark_readings(
         "error": error,
     }
     readings |= _reference(mark, corrected, by_id if by_id is not None else {})
-    readings |= _humidity(mark.thermogram.survey, corrected["min"])
+    readings |= _humidity(mark.thermogram, corrected["min"])
     readings["profile"] = stats.get("profile") if mark.kind == Mark.Kind.LINE else None
     return readings
 
@@ -306,7 +326,7 @@ def condensation_overlay(thermogram: Thermogram) -> dict:
     """Apparent-temperature thresholds at and below which surfaces reach 80 % and 100 % RH."""
     from survey.thermal import apparent_temperature
 
-    air = indoor_air(thermogram.survey)
+    air = thermogram_indoor_air(thermogram)
     if air is None:
         return {
             "available": False,

@@ -35,6 +35,7 @@ SURVEY_FIELDS = (
     "scope_examined",
     "scope_not_examined",
     "notes",
+    "time_zone",
 )
 
 
