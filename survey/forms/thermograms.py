@@ -3,6 +3,7 @@ settings, and decoding again."""
 
 from django import forms
 from django.core.exceptions import ValidationError
+from django.utils import timezone
 
 from survey import thermal
 from survey.forms.fields import TEXT_LIMIT, UnitFormMixin, number_field
@@ -143,11 +144,25 @@ class UploadForm(DecodeFieldsMixin, UnitFormMixin, forms.Form):
     emissivity = number_field("Emissivity", 0.01, 1.0)
     distance_m = number_field("Distance (m)", 0.01, 10000, unit_text=" m")
     asset = forms.ModelChoiceField(queryset=None, required=False, empty_label="No asset")
+    captured_at = forms.DateTimeField(
+        required=False,
+        label="Taken at (local time)",
+        widget=forms.DateTimeInput(attrs={"type": "datetime-local"}, format="%Y-%m-%dT%H:%M"),
+        input_formats=["%Y-%m-%dT%H:%M", "%Y-%m-%dT%H:%M:%S", "%Y-%m-%d %H:%M"],
+        help_text="For files without their own date-time tag; a file's tag wins.",
+    )
 
     def __init__(self, *args, assets, **kwargs):
         super().__init__(*args, **kwargs)
         self._add_decode_fields()
         self.fields["asset"].queryset = assets
+
+    def clean_captured_at(self):
+        """The wall-clock time as typed (the survey's time zone is applied by the service)."""
+        value = self.cleaned_data.get("captured_at")
+        if value is None or timezone.is_naive(value):
+            return value
+        return timezone.make_naive(value, timezone.get_current_timezone())
 
     def clean_reflected_c(self):
         return self._temperature_c("reflected_c")
@@ -174,6 +189,7 @@ class UploadForm(DecodeFieldsMixin, UnitFormMixin, forms.Form):
             "reflected_c": data.get("reflected_c"),
             "distance_m": data.get("distance_m"),
             "asset": data.get("asset"),
+            "captured_at": data.get("captured_at"),
         }
 
 

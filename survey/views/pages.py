@@ -38,7 +38,7 @@ from survey.forms.thermograms import (
     UploadForm,
 )
 from survey.models import Survey, Thermogram
-from survey.services import ingest, members, processing, surveys
+from survey.services import ingest, loggers, members, processing, surveys
 
 
 @login_required
@@ -177,13 +177,21 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
         unit=member.temperature_unit, assets=assets_for(member).filter(site=survey.site_id)
     )
     thermograms = list(survey.thermograms.all())
+    logger_rows = loggers.survey_log_summary(survey)
     for thermogram in thermograms:
         thermogram.stalled = processing.thermogram_is_stalled(thermogram)
+        thermogram.survey = survey
+        thermogram.logged = (
+            loggers.thermogram_logged_conditions(thermogram) if logger_rows else None
+        )
+        thermogram.taken = loggers.local_text(survey, thermogram.captured_at)
     context = {
         "survey": survey,
         "thermograms": thermograms,
         "upload_form": upload_form,
         "conditions_checks": conditions_check(survey),
+        "logger_rows": logger_rows,
+        "logger_zone": loggers.survey_time_zone_name(survey),
     }
     return render(request, "survey/survey_detail.html", context)
 
