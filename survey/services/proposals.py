@@ -311,7 +311,7 @@ def thermogram_propose_after_processing(thermogram_id: int) -> int | None:
 
 def _lock_open(proposal: Proposal) -> Proposal:
     proposal = (
-        Proposal.objects.select_for_update()
+        Proposal.objects.select_for_update(of=("self",))
         .select_related("thermogram__survey", "reference__mark")
         .get(pk=proposal.pk)
     )

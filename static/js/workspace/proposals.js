@@ -13,12 +13,13 @@ var CURRENT_COLOUR = "#ff8c00";
 var OUTLINE = "#002b33";
 
 var list = $("ws-proposals");
+var items = $("ws-proposals-list");
 var proposals = { items: [], current: -1, url: null, canEdit: false, busy: false };
 
 function current() { return proposals.items[proposals.current] || null; }
 
 function render() {
-  list.textContent = "";
+  items.textContent = "";
   var count = proposals.items.length;
   proposals.items.forEach(function (item, i) {
     var li = document.createElement("li");
@@ -46,7 +47,7 @@ function render() {
       if (event.target.tagName === "BUTTON") { return; }
       proposals.current = i; render(); draw();
     });
-    list.appendChild(li);
+    items.appendChild(li);
   });
   $("ws-proposals-count").textContent = count ? "(" + count + ")" : "";
   list.hidden = count === 0;
