@@ -77,10 +77,12 @@ function decide(action) {
   var item = current();
   if (!item) { status("No proposal to " + action + "."); return; }
   if (!proposals.canEdit) { status("Your role can read proposals but not decide them.", true); return; }
-  if (proposals.busy) { return; }
+  if (proposals.busy) { status("Still saving the last decision…"); return; }
   proposals.busy = true;
   var index = proposals.current, count = proposals.items.length;
   api("POST", action === "accept" ? item.accept : item.reject).then(function (mark) {
+    // Decided: the next key may act on the next proposal while the readings reload.
+    proposals.busy = false;
     proposals.items.splice(index, 1);
     proposals.current = afterRemoval(count, index);
     render();
@@ -91,9 +93,8 @@ function decide(action) {
     }
     status("Proposal rejected; this place will not be proposed again.");
     draw();
-    return null;
-  }).catch(function (error) { status(error.message, true); return loadProposals(); })
-    .then(function () { proposals.busy = false; });
+    return loadProposals();
+  }).catch(function (error) { proposals.busy = false; status(error.message, true); return loadProposals(); });
 }
 
 function onKey(event) {
