@@ -315,6 +315,12 @@ def logged_checks(survey, checks: list[dict]) -> list[dict]:
         checks[by_key[_DELTA_T_HELD.key]] = _row(
             _DELTA_T_HELD, status, held, f"{text} ({LOGGER_LABEL})"
         )
+    ambient = next((c for c in checks if c["key"] == "ambient_recorded"), None)
+    if ambient is not None and "inside" in window["logs"]:
+        criterion = next(c for c in CONDITIONS_CRITERIA[survey.kind] if c.key == ambient["key"])
+        checks[checks.index(ambient)] = _row(
+            criterion, "met", None, f"logged by the inside logger ({LOGGER_LABEL})"
+        )
     if "outdoor_min" in window and survey.kind in ("envelope", "roof"):
         low, high = window["outdoor_min"], window["outdoor_max"]
         covered = low.value is not None and high.value is not None

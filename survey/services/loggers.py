@@ -58,6 +58,13 @@ def local_to_aware(survey: Survey, local: dt.datetime) -> dt.datetime:
     return local.replace(tzinfo=survey_time_zone(survey))
 
 
+def local_wall_clock(survey: Survey, moment: dt.datetime | None) -> dt.datetime | None:
+    """An aware moment as the survey's naive wall-clock time (what a form shows)."""
+    if moment is None:
+        return None
+    return moment.astimezone(survey_time_zone(survey)).replace(tzinfo=None)
+
+
 def capture_time_from_file(survey: Survey, data: bytes) -> dt.datetime | None:
     """The capture time tagged in an original, made aware in the survey's zone (or None)."""
     local = read_capture_time(data)

@@ -292,7 +292,8 @@ def thermogram_settings(request: HttpRequest, pk: int) -> HttpResponse:
         submitted(request),
         unit=member.temperature_unit,
         assets=assets_for(member).filter(site=thermogram.survey.site_id),
-        initial=ThermogramSettingsForm.initial_for(thermogram, member.temperature_unit),
+        initial=ThermogramSettingsForm.initial_for(thermogram, member.temperature_unit)
+        | {"captured_at": loggers.local_wall_clock(thermogram.survey, thermogram.captured_at)},
     )
     if request.method == "POST" and form.is_valid():
         try:

@@ -376,3 +376,49 @@ def test_it_keeps_logger_pages_from_outsiders_and_viewers(
     assert client.post(reverse("survey:condition_log_delete", args=[log.pk])).status_code == 403
     assert client.get(reverse("survey:logger_chart", args=[envelope_survey.pk])).status_code == 200
     assert ConditionLog.objects.count() == 2
+
+
+def test_it_keeps_a_corrected_capture_time_in_the_surveys_zone(
+    client, envelope_survey, thermographer
+):
+    """Typed 22:30:15 in Europe/Berlin (CET, UTC+1) is 21:30:15 UTC, and the form shows it
+    back as typed; saving the other settings keeps the seconds."""
+    envelope_survey.time_zone = "Europe/Berlin"
+    envelope_survey.save()
+    thermogram = make_thermogram(envelope_survey)
+    client.force_login(thermographer.user)
+    url = reverse("survey:thermogram_settings", args=[thermogram.pk])
+    values = {"emissivity": "0.95", "reflected_c": "20", "palette": "black-red-yellow"}
+    response = client.post(url, values | {"captured_at": "2026-01-14T22:30:15"})
+    assert response.status_code == 302
+    thermogram.refresh_from_db()
+    assert thermogram.captured_at == utc(2026, 1, 14, 21, 30, 15)
+    shown = client.get(url).context["form"]["captured_at"].value()
+    assert shown == dt.datetime(2026, 1, 14, 22, 30, 15)
+    assert 'value="2026-01-14T22:30:15"' in client.get(url).content.decode()
+
+
+def test_it_takes_the_air_around_equipment_from_the_inside_logger(electrical_survey, thermographer):
+    """Electrical surveys: the inside logger is the air around the equipment, so a mark's
+    rise over the ambient uses it (41.0 − 26.0 = 15.0 K, by hand) and the check says so."""
+    condition_log_import(
+        survey=electrical_survey,
+        role="inside",
+        name="switch-room.csv",
+        data=b"time,t\n2026-03-02T10:00Z,25.0\n2026-03-02T10:20Z,27.0\n",
+        user=None,
+        time_column="time",
+        temperature_column="t",
+        time_zone="UTC",
+    )
+    field = np.full((20, 20), 41.0, dtype=np.float32)
+    thermogram = make_thermogram(
+        electrical_survey, field, emissivity=1.0, captured_at=utc(2026, 3, 2, 10, 10)
+    )
+    mark = mark_add(
+        thermogram=thermogram, kind="point", points=[[5, 5]], user=None, reference_kind="ambient"
+    )
+    assert mark_readings(mark)["delta_t_c"] == pytest.approx(15.0, abs=0.05)
+    checks = {check["key"]: check for check in conditions_check(electrical_survey)}
+    assert checks["ambient_recorded"]["status"] == "met"
+    assert "inside logger" in checks["ambient_recorded"]["value_text"]
