@@ -31,6 +31,7 @@ from reports.results import survey_results
 from survey.models import (
     Asset,
     Client,
+    ConditionLog,
     Conditions,
     CriteriaTable,
     Finding,
@@ -213,6 +214,7 @@ def survey_export(*, survey: Survey, user: AbstractBaseUser | None) -> bytes:
             "camera": _values(survey.camera) if survey.camera_id else None,
         },
         "conditions": _values(conditions) if conditions else None,
+        "condition_logs": [_values(log) for log in survey.condition_logs.order_by("role")],
         "assets": [_values(asset) | {"key": key} for key, asset in sorted(assets.items())],
         "thermograms": manifest_thermograms,
         "findings": findings,
@@ -381,6 +383,15 @@ class _Importer:
         conditions = Conditions(survey=survey, **_restore(Conditions, m.get("conditions") or {}))
         conditions.full_clean()
         conditions.save()
+        for entry in m.get("condition_logs", []):
+            log = ConditionLog(
+                organization=self.organization,
+                survey=survey,
+                created_by=self.user,
+                **_restore(ConditionLog, entry),
+            )
+            log.full_clean()
+            log.save()
         for entry in m.get("thermograms", []):
             self.thermogram(survey, dict(entry))
         for entry in m.get("findings", []):

@@ -179,6 +179,39 @@ def heat_loss_rows(survey: Survey) -> tuple[list[dict], dict]:
     return rows, totals
 
 
+def logged_conditions_context(survey: Survey, thermograms: list) -> dict | None:
+    """The loggers' chart and each thermogram's logged air, for the report's conditions
+    (templates/reports/pdf/_logged_conditions.html); None when the survey has no log."""
+    from django.utils.safestring import mark_safe
+
+    from survey.services import loggers
+
+    logs = loggers.survey_log_summary(survey)
+    if not logs:
+        return None
+    rows = []
+    for thermogram in thermograms:
+        thermogram.survey = survey
+        logged = loggers.thermogram_logged_conditions(thermogram)
+        rows.append(
+            {
+                "sequence": thermogram.sequence,
+                "title": str(thermogram),
+                "taken": loggers.local_text(survey, thermogram.captured_at),
+                "inside": logged["inside"],
+                "outside": logged["outside"],
+                "label": logged["label"] or "no capture time",
+            }
+        )
+    svg = loggers.survey_logger_chart(survey, unit="C", width=640, height=230)
+    return {
+        "logs": logs,
+        "zone": loggers.survey_time_zone_name(survey),
+        "chart": mark_safe(svg) if svg else None,
+        "thermograms": rows,
+    }
+
+
 def cautions(survey: Survey, *, heat_loss: bool) -> list[str]:
     return list(cautions_for(survey.kind, heat_loss=True if heat_loss else None))
 
@@ -269,6 +302,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         "conditions_shortfalls": [
             row for row in results["conditions_check"] if row["status"] != "met"
         ],
+        "logged_conditions": logged_conditions_context(survey, thermograms),
         "method": method_context(survey, thermograms, findings),
         "sections": sections,
         "heat_loss": heat_loss,

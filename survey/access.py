@@ -13,11 +13,14 @@ from survey.models import (
     Asset,
     AuditEvent,
     Client,
+    ConditionLog,
     CriteriaTable,
     Finding,
     Instrument,
     Mark,
+    MarkTemplate,
     Member,
+    Proposal,
     Site,
     Survey,
     Thermogram,
@@ -146,3 +149,33 @@ def get_criteria_table_for_user(request: HttpRequest, pk: int) -> CriteriaTable:
 
 def audit_events_for(member: Member) -> QuerySet[AuditEvent]:
     return AuditEvent.objects.filter(organization=member.organization)
+
+
+# --- proposals, logged conditions, mark templates ---
+def get_proposal_for_user(request: HttpRequest, pk: int) -> Proposal:
+    member = get_member(request)
+    return get_object_or_404(
+        Proposal.objects.select_related("thermogram__survey").filter(
+            thermogram__organization=member.organization,
+            thermogram__survey__status=Survey.Status.ACTIVE,
+        ),
+        pk=pk,
+    )
+
+
+def get_condition_log_for_user(request: HttpRequest, pk: int) -> ConditionLog:
+    member = get_member(request)
+    return get_object_or_404(
+        ConditionLog.objects.select_related("survey").filter(
+            organization=member.organization, survey__status=Survey.Status.ACTIVE
+        ),
+        pk=pk,
+    )
+
+
+def mark_templates_for(member: Member) -> QuerySet[MarkTemplate]:
+    return MarkTemplate.objects.filter(organization=member.organization)
+
+
+def get_mark_template_for_user(request: HttpRequest, pk: int) -> MarkTemplate:
+    return get_object_or_404(mark_templates_for(get_member(request)), pk=pk)

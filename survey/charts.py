@@ -159,3 +159,193 @@ def trend_svg(
     )
     parts.append("</svg>")
     return "".join(parts)
+
+
+INSIDE = "#0b5c8a"
+OUTSIDE = "#a04a00"
+CAPTURE = "#5b6472"
+# Steps of the time axis, hours: whole hours, quarter and half days, days, weeks.
+TIME_STEPS_H = (1, 2, 3, 6, 12, 24, 48, 72, 168)
+MAX_CHART_POINTS = 1200
+MAX_CAPTURE_LABELS = 30
+
+
+def _time_step(span_h: float, target: int = 6) -> float:
+    raw = span_h / max(target - 1, 1)
+    return min(TIME_STEPS_H, key=lambda step: abs(math.log(step / max(raw, 1e-9))))
+
+
+def _thinned(times, values, limit: int = MAX_CHART_POINTS):
+    """At most about `limit` points: each bucket's lowest and highest reading, in time order,
+    so that a long log's extremes survive in the drawing."""
+    pairs = [(float(t), float(v)) for t, v in zip(times, values, strict=True)]
+    if len(pairs) <= limit:
+        return pairs
+    size = math.ceil(len(pairs) / (limit // 2))
+    kept = []
+    for start in range(0, len(pairs), size):
+        bucket = [p for p in pairs[start : start + size] if math.isfinite(p[1])]
+        if not bucket:
+            kept.append(pairs[start])
+            continue
+        low = min(bucket, key=lambda p: p[1])
+        high = max(bucket, key=lambda p: p[1])
+        kept.extend(sorted({low, high}))
+    return kept
+
+
+def logger_svg(
+    series,
+    captures,
+    *,
+    zone: datetime.tzinfo,
+    unit: str = "C",
+    width: int = 640,
+    height: int = 240,
+    title: str = "",
+    max_gap_s: float = 7200.0,
+) -> str:
+    """An SVG chart of logged air temperatures with the thermograms' capture times marked.
+
+    Parameters
+    ----------
+    series : sequence of (label, times_s, values_c, role)
+        POSIX seconds and °C (NaN for no reading); role "inside" or "outside" picks the colour.
+    captures : sequence of (time_s, label)
+        Capture times, drawn as dashed vertical lines with their label.
+    zone : tzinfo
+        Local time of the axis labels.
+    unit : "C" or "F"
+        Unit of the value axis.
+    max_gap_s : float
+        Readings further apart than this are not joined (as the interpolation does).
+    """
+    from survey.thermal import units
+
+    series = [(label, list(t), list(v), role) for label, t, v, role in series]
+    left, right, top, bottom = 52.0, width - 14.0, 30.0, height - 44.0
+    aria = title or "Logged air temperatures with the thermograms' capture times"
+    parts = [
+        f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{height}" '
+        f'viewBox="0 0 {width} {height}" role="img" font-family="DejaVu Sans, sans-serif" '
+        f'font-size="11" class="logger-chart">',
+        f"<title>{escape(aria)}</title>",
+    ]
+    if title:
+        parts.append(f'<text x="{left}" y="14" fill="{INK}" font-size="12">{escape(title)}</text>')
+    times = [t for _, ts, _, _ in series for t in ts] + [t for t, _ in captures]
+    values = [
+        float(units.from_celsius(v, unit))
+        for _, _, vs, _ in series
+        for v in vs
+        if v is not None and math.isfinite(v)
+    ]
+    if not times or not values:
+        parts.append(
+            f'<text x="{width / 2}" y="{height / 2}" text-anchor="middle" fill="{MUTED}">'
+            "Nothing logged to chart.</text></svg>"
+        )
+        return "".join(parts)
+    start, end = min(times), max(times)
+    if end - start < 3600:
+        start, end = start - 1800, end + 1800
+    low, high = min(values), max(values)
+    if high - low < 1e-9:
+        low, high = low - 1.0, high + 1.0
+    step = nice_step(low, high, 5)
+    low, high = math.floor(low / step) * step, math.ceil(high / step) * step
+
+    def x_of(t: float) -> float:
+        return left + (t - start) / (end - start) * (right - left)
+
+    def y_of(value: float) -> float:
+        return bottom - (value - low) / (high - low) * (bottom - top)
+
+    for tick in nice_ticks(low, high, step=step):
+        y = y_of(tick)
+        parts.append(
+            f'<line x1="{left}" y1="{y:.1f}" x2="{right}" y2="{y:.1f}" stroke="{GRID}" '
+            'stroke-width="1"/>'
+            f'<text x="{left - 6}" y="{y + 4:.1f}" text-anchor="end" fill="{MUTED}">'
+            f"{tick:g}</text>"
+        )
+    symbol = units.symbol(unit)
+    parts.append(
+        f'<text x="12" y="{(top + bottom) / 2:.1f}" fill="{MUTED}" text-anchor="middle" '
+        f'transform="rotate(-90 12 {(top + bottom) / 2:.1f})">{escape(symbol)}</text>'
+    )
+    offset_h = (
+        zone.utcoffset(datetime.datetime.fromtimestamp(start, datetime.UTC)) or datetime.timedelta()
+    ).total_seconds() / 3600.0
+    span_h = (end - start) / 3600.0
+    hour_step = _time_step(span_h)
+    first_local_h = start / 3600.0 + offset_h
+    previous_day = None
+    for tick_h in nice_ticks(first_local_h, first_local_h + span_h, step=hour_step):
+        t = (tick_h - offset_h) * 3600.0
+        x = x_of(t)
+        local = datetime.datetime.fromtimestamp(t, datetime.UTC).astimezone(zone)
+        label = local.strftime("%H:%M")
+        if local.date() != previous_day:
+            label = f"{local.day} {local:%b %H:%M}" if hour_step < 24 else f"{local.day} {local:%b}"
+            previous_day = local.date()
+        parts.append(
+            f'<line x1="{x:.1f}" y1="{bottom}" x2="{x:.1f}" y2="{bottom + 4}" stroke="{MUTED}"/>'
+            f'<text x="{x:.1f}" y="{bottom + 16}" text-anchor="middle" fill="{MUTED}">'
+            f"{escape(label)}</text>"
+        )
+    for index, (capture_s, label) in enumerate(sorted(captures)):
+        x = x_of(capture_s)
+        parts.append(
+            f'<line x1="{x:.1f}" y1="{top}" x2="{x:.1f}" y2="{bottom}" stroke="{CAPTURE}" '
+            'stroke-width="1" stroke-dasharray="3 3"/>'
+        )
+        if len(captures) <= MAX_CAPTURE_LABELS:
+            y = top - 4 - (index % 2) * 9
+            parts.append(
+                f'<text x="{x:.1f}" y="{y:.1f}" text-anchor="middle" fill="{CAPTURE}" '
+                f'font-size="9">{escape(str(label))}</text>'
+            )
+    legend_x = left
+    for label, ts, vs, role in series:
+        colour = INSIDE if role == "inside" else OUTSIDE
+        segment: list[str] = []
+        previous_t = None
+        for t, value in _thinned(ts, vs):
+            if (
+                value is None
+                or not math.isfinite(value)
+                or (previous_t is not None and t - previous_t > max_gap_s)
+            ):
+                if len(segment) > 1:
+                    parts.append(_polyline(segment, colour))
+                segment = []
+            if value is not None and math.isfinite(value):
+                y = y_of(float(units.from_celsius(value, unit)))
+                segment.append(f"{x_of(t):.1f},{y:.1f}")
+                previous_t = t
+        if len(segment) > 1:
+            parts.append(_polyline(segment, colour))
+        parts.append(
+            f'<line x1="{legend_x}" y1="{height - 8}" x2="{legend_x + 18}" y2="{height - 8}" '
+            f'stroke="{colour}" stroke-width="2"/>'
+            f'<text x="{legend_x + 22}" y="{height - 4}" fill="{INK}">{escape(label)}</text>'
+        )
+        legend_x += 30 + 6.5 * len(label)
+    if captures:
+        parts.append(
+            f'<line x1="{legend_x}" y1="{height - 12}" x2="{legend_x}" y2="{height - 2}" '
+            f'stroke="{CAPTURE}" stroke-dasharray="3 3"/>'
+            f'<text x="{legend_x + 6}" y="{height - 4}" fill="{INK}">thermograms</text>'
+        )
+    parts.append(
+        f'<line x1="{left}" y1="{bottom}" x2="{right}" y2="{bottom}" stroke="{MUTED}" '
+        'stroke-width="1"/></svg>'
+    )
+    return "".join(parts)
+
+
+def _polyline(points: list[str], colour: str) -> str:
+    return (
+        f'<polyline points="{" ".join(points)}" fill="none" stroke="{colour}" stroke-width="1.5"/>'
+    )

@@ -316,6 +316,96 @@ def _value_text(criterion: Criterion, value, conditions) -> str:
     return str(value)
 
 
+def _row(criterion: Criterion, status: str, value, value_text: str) -> dict:
+    return {
+        "key": criterion.key,
+        "criterion": criterion.label,
+        "status": status,
+        "status_text": status.replace("_", " "),
+        "value": value,
+        "value_text": value_text,
+        "requirement": criterion.requirement,
+        "source": criterion.source,
+        "confidence": criterion.confidence,
+        "confidence_text": CONFIDENCE_LABELS[criterion.confidence],
+        "from_logger": True,
+    }
+
+
+_OUTDOOR_RANGE = Criterion(
+    key="outdoor_range",
+    label="Outdoor air over the 24 h before the first thermogram",
+    field="",
+    test="recorded",
+    requirement="logged: a warm day or a frost before the survey shows here",
+    source="read from the outside logger; no limit is asked",
+    confidence="practice",
+)
+
+
+def _window_text(result, what: str) -> str:
+    if result.value is not None:
+        return what
+    if result.observed is None:
+        return "the logs do not cover this window"
+    return (
+        f"the logs cover only {result.coverage * 100:.0f} % of the window "
+        f"({result.observed:.1f} where covered)"
+    )
+
+
+def logged_checks(survey, checks: list[dict]) -> list[dict]:
+    """The checks with what the loggers measured in place of typed values.
+
+    The inside–outside difference becomes the smallest difference actually held from 24 h
+    before the first thermogram to the last, the hours held are read from the logs, and the
+    outdoor minimum and maximum over the 24 h before are added.
+    """
+    from survey.services.loggers import LOGGER_LABEL, survey_logged_window
+
+    window = survey_logged_window(survey, difference_k=float(_DELTA_T.limit))
+    if window is None or window["span"] is None:
+        return checks
+    by_key = {check["key"]: index for index, check in enumerate(checks)}
+    if "difference" in window and _DELTA_T.key in by_key:
+        result = window["difference"]
+        status = _DELTA_T.evaluate(result.value)
+        text = _window_text(
+            result,
+            f"{result.value:.1f} K lowest, from 24 h before the first thermogram to the last "
+            f"({LOGGER_LABEL})"
+            if result.value is not None
+            else "",
+        )
+        checks[by_key[_DELTA_T.key]] = _row(_DELTA_T, status, result.value, text)
+    if "held_h" in window and _DELTA_T_HELD.key in by_key:
+        held, whole_log = window["held_h"], window["held_whole_log"]
+        status = _DELTA_T_HELD.evaluate(held)
+        text = f"{held:.1f} h at {_DELTA_T.limit:g} K or more before the first thermogram"
+        if whole_log:
+            text = f"at least {held:.1f} h: the logs start then"
+            if status == "not_met":
+                status = "not_recorded"
+        checks[by_key[_DELTA_T_HELD.key]] = _row(
+            _DELTA_T_HELD, status, held, f"{text} ({LOGGER_LABEL})"
+        )
+    ambient = next((c for c in checks if c["key"] == "ambient_recorded"), None)
+    if ambient is not None and "inside" in window["logs"]:
+        criterion = next(c for c in CONDITIONS_CRITERIA[survey.kind] if c.key == ambient["key"])
+        checks[checks.index(ambient)] = _row(
+            criterion, "met", None, f"logged by the inside logger ({LOGGER_LABEL})"
+        )
+    if "outdoor_min" in window and survey.kind in ("envelope", "roof"):
+        low, high = window["outdoor_min"], window["outdoor_max"]
+        covered = low.value is not None and high.value is not None
+        text = _window_text(
+            low,
+            f"{low.value:.1f} to {high.value:.1f} °C ({LOGGER_LABEL})" if covered else "",
+        )
+        checks.append(_row(_OUTDOOR_RANGE, "met" if covered else "not_recorded", low.value, text))
+    return checks
+
+
 def conditions_check(survey) -> list[dict]:
     """Check the survey's recorded conditions against the criteria of its kind.
 
@@ -344,4 +434,4 @@ def conditions_check(survey) -> list[dict]:
                 "confidence_text": CONFIDENCE_LABELS[criterion.confidence],
             }
         )
-    return checks
+    return logged_checks(survey, checks) if survey.pk else checks

@@ -178,6 +178,23 @@ class Instrument(models.Model):
         return f"{self.model_name}{serial} ({size}, {self.lens_hfov_deg:g}°)"
 
 
+def validate_time_zone(value: str) -> None:
+    """An IANA zone name ("Europe/Berlin") or a fixed UTC offset ("+01:00")."""
+    from django.core.exceptions import ValidationError
+
+    from survey.thermal.logger import parse_time_zone
+
+    if not value:
+        return
+    try:
+        parse_time_zone(value)
+    except ValueError:
+        raise ValidationError(
+            f"{value!r} is not a time zone: give a name such as Europe/Berlin or "
+            "America/Chicago, or a UTC offset such as +01:00."
+        ) from None
+
+
 class Survey(models.Model):
     class Kind(models.TextChoices):
         ENVELOPE = "envelope", "Building envelope"
@@ -227,6 +244,13 @@ class Survey(models.Model):
     scope_examined = models.TextField(blank=True, help_text="What was examined.")
     scope_not_examined = models.TextField(blank=True, help_text="What was not examined, and why.")
     notes = models.TextField(blank=True)
+    time_zone = models.CharField(
+        max_length=64,
+        blank=True,
+        validators=[validate_time_zone],
+        help_text="Of the site's clocks (camera and loggers), e.g. Europe/Berlin; "
+        "blank: the server's.",
+    )
     status = models.CharField(max_length=10, choices=Status.choices, default=Status.ACTIVE)
     deleted_at = models.DateTimeField(null=True, blank=True)
     created_by = models.ForeignKey(
@@ -705,3 +729,184 @@ class AuditEvent(models.Model):
 
     def __str__(self) -> str:
         return f"{self.action} {self.object_type} {self.object_id}"
+
+
+# --- beyond the desk: proposals, logged conditions, mark templates (issue 18) -------------
+
+
+class Proposal(models.Model):
+    """A mark the software suggests; the inspector accepts it (it becomes a mark) or not.
+
+    Rejected proposals stay, so that the same place is not proposed again.
+    """
+
+    class Category(models.TextChoices):
+        ENVELOPE = "envelope", "Mould or condensation risk"
+        HOT_SPOT = "hot_spot", "Hot spot"
+        REFERENCE = "reference", "Reference"
+        ROOF = "roof", "Possibly wet roof insulation"
+
+    class Status(models.TextChoices):
+        PROPOSED = "proposed", "Proposed"
+        ACCEPTED = "accepted", "Accepted"
+        REJECTED = "rejected", "Rejected"
+
+    thermogram = models.ForeignKey(Thermogram, on_delete=models.CASCADE, related_name="proposals")
+    rank = models.PositiveIntegerField(default=0)
+    category = models.CharField(max_length=12, choices=Category.choices)
+    kind = models.CharField(max_length=10, choices=Mark.Kind.choices)
+    points = models.JSONField(help_text="Pixel coordinates [[x, y], …].")
+    reason = models.CharField(max_length=300)
+    score = models.FloatField(default=0.0)
+    stats = models.JSONField(default=dict, blank=True)
+    reference = models.ForeignKey(
+        "self",
+        on_delete=models.SET_NULL,
+        null=True,
+        blank=True,
+        related_name="referenced_by",
+        help_text="The proposed reference mark of a hot spot.",
+    )
+    status = models.CharField(max_length=10, choices=Status.choices, default=Status.PROPOSED)
+    mark = models.ForeignKey(
+        Mark, on_delete=models.SET_NULL, null=True, blank=True, related_name="proposals"
+    )
+    decided_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
+    )
+    decided_at = models.DateTimeField(null=True, blank=True)
+    created_at = models.DateTimeField(auto_now_add=True)
+
+    class Meta:
+        ordering = ["thermogram", "rank", "id"]
+        indexes = [models.Index(fields=["thermogram", "status"], name="proposal_thermogram_status")]
+
+    def __str__(self) -> str:
+        return f"{self.get_category_display()}: {self.reason}"
+
+
+class ProposalSettings(models.Model):
+    """Thresholds of the proposal detectors for one survey kind of an organization, or for one
+    survey; a blank field keeps the value of the level above (survey → organization →
+    product default)."""
+
+    class Shape(models.TextChoices):
+        ELLIPSE = "ellipse", "An ellipse around the hot area"
+        POINT = "point", "A point at the hottest pixel"
+
+    organization = models.ForeignKey(
+        Organization, on_delete=models.CASCADE, related_name="proposal_settings"
+    )
+    survey = models.OneToOneField(
+        Survey,
+        on_delete=models.CASCADE,
+        null=True,
+        blank=True,
+        related_name="proposal_settings",
+    )
+    survey_kind = models.CharField(max_length=20, choices=Survey.Kind.choices, blank=True)
+    enabled = models.BooleanField(
+        null=True, blank=True, help_text="Propose marks when a thermogram is processed."
+    )
+    min_area_px = models.PositiveIntegerField(
+        null=True, blank=True, validators=[MinValueValidator(1), MaxValueValidator(1_000_000)]
+    )
+    min_area_m2 = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(0), MaxValueValidator(10_000)]
+    )
+    min_rise_c = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(0.1), MaxValueValidator(200)]
+    )
+    limit_rh_pct = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(50), MaxValueValidator(100)]
+    )
+    f_rsi_min = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(0.01), MaxValueValidator(0.99)]
+    )
+    hot_spot_shape = models.CharField(max_length=10, choices=Shape.choices, blank=True)
+    updated_at = models.DateTimeField(auto_now=True)
+
+    class Meta:
+        constraints = [
+            models.UniqueConstraint(
+                fields=["organization", "survey_kind"],
+                condition=Q(survey__isnull=True),
+                name="proposal_settings_kind_per_org",
+            ),
+        ]
+
+    def __str__(self) -> str:
+        return f"Proposal settings of {self.survey or self.get_survey_kind_display()}"
+
+
+class ConditionLog(models.Model):
+    """A data logger's series imported into a survey: air temperature, RH and wind over time.
+
+    Times are POSIX seconds (UTC); the arrays hold null where a reading was blank.
+    """
+
+    class Role(models.TextChoices):
+        INSIDE = "inside", "Inside (or the air around the equipment)"
+        OUTSIDE = "outside", "Outside"
+
+    organization = models.ForeignKey(
+        Organization, on_delete=models.CASCADE, related_name="condition_logs"
+    )
+    survey = models.ForeignKey(Survey, on_delete=models.CASCADE, related_name="condition_logs")
+    role = models.CharField(max_length=10, choices=Role.choices)
+    original_name = models.CharField(max_length=255)
+    original_sha256 = models.CharField(max_length=64)
+    read_settings = models.JSONField(default=dict, blank=True)
+    times_s = models.JSONField(default=list)
+    temperature_c = models.JSONField(default=list)
+    rh_pct = models.JSONField(null=True, blank=True)
+    wind_m_s = models.JSONField(null=True, blank=True)
+    row_count = models.PositiveIntegerField(default=0)
+    started_at = models.DateTimeField()
+    ended_at = models.DateTimeField()
+    created_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
+    )
+    created_at = models.DateTimeField(auto_now_add=True)
+
+    class Meta:
+        ordering = ["survey", "role"]
+        constraints = [
+            models.UniqueConstraint(
+                fields=["survey", "role"], name="condition_log_role_per_survey"
+            ),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.get_role_display()} log {self.original_name}"
+
+
+class MarkTemplate(models.Model):
+    """The marks of one thermogram, kept under a name to place on like equipment."""
+
+    organization = models.ForeignKey(
+        Organization, on_delete=models.CASCADE, related_name="mark_templates"
+    )
+    name = models.CharField(max_length=200)
+    source_thermogram = models.ForeignKey(
+        Thermogram, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
+    )
+    source_title = models.CharField(max_length=255, blank=True)
+    width = models.PositiveIntegerField()
+    height = models.PositiveIntegerField()
+    marks = models.JSONField(default=list)
+    # The source's °C array, kept so automatic alignment works after the source is gone.
+    reference_array = models.FileField(upload_to="templates/%Y/%m/", max_length=300)
+    created_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
+    )
+    created_at = models.DateTimeField(auto_now_add=True)
+
+    class Meta:
+        ordering = ["name"]
+        constraints = [
+            models.UniqueConstraint(fields=["organization", "name"], name="mark_template_name"),
+        ]
+
+    def __str__(self) -> str:
+        return self.name

@@ -21,4 +21,8 @@ def process_thermogram(self, thermogram_id: int) -> str | None:
     held = Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING)
     if status is None and held.exists():
         raise self.retry(countdown=STALLED_AFTER.total_seconds() + 1)
+    if status == Thermogram.Status.READY:
+        from survey.services.proposals import thermogram_propose_after_processing
+
+        thermogram_propose_after_processing(thermogram_id)
     return status

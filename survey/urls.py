@@ -4,7 +4,18 @@ from django.contrib import admin
 from django.contrib.auth import views as auth_views
 from django.urls import include, path
 
-from survey.views import api, audit, findings, instruments, media, members, pages
+from survey.views import (
+    api,
+    audit,
+    findings,
+    instruments,
+    loggers,
+    mark_templates,
+    media,
+    members,
+    pages,
+    proposal_settings,
+)
 from survey.views.signin import ThrottledLoginView
 
 # --- pages: home, clients, sites, surveys, upload (survey/views/pages.py) ---
@@ -66,6 +77,13 @@ api_patterns = [
         name="api-thermogram-neighbours",
     ),
     path("api/marks/<int:pk>/", api.mark_detail, name="api-mark"),
+    path(
+        "api/thermograms/<int:pk>/proposals",
+        api.thermogram_proposals,
+        name="api-thermogram-proposals",
+    ),
+    path("api/proposals/<int:pk>/accept", api.proposal_accept, name="api-proposal-accept"),
+    path("api/proposals/<int:pk>/reject", api.proposal_reject, name="api-proposal-reject"),
 ]
 
 # --- findings, assets, criteria, heat loss (survey/views/findings.py) ---
@@ -91,7 +109,43 @@ judgement_patterns = [
     path("criteria/<int:pk>/edit/", findings.criteria_edit, name="criteria_edit"),
 ]
 
-survey_patterns = page_patterns + api_patterns + judgement_patterns
+# --- beyond the desk: logged conditions, mark templates, proposal settings (issue 18) ---
+field_patterns = [
+    path("surveys/<int:pk>/loggers/import/", loggers.logger_import, name="logger_import"),
+    path("surveys/<int:pk>/loggers.svg", loggers.logger_chart, name="logger_chart"),
+    path("loggers/<int:pk>/delete/", loggers.condition_log_delete, name="condition_log_delete"),
+    path("templates/", mark_templates.mark_template_list, name="mark_templates"),
+    path("templates/<int:pk>/", mark_templates.mark_template_detail, name="mark_template"),
+    path(
+        "templates/<int:pk>/delete/",
+        mark_templates.mark_template_delete,
+        name="mark_template_delete",
+    ),
+    path(
+        "templates/<int:pk>/picture.png",
+        mark_templates.mark_template_picture,
+        name="mark_template_picture",
+    ),
+    path(
+        "templates/<int:pk>/align/<int:thermogram_pk>/",
+        mark_templates.template_align,
+        name="template_align",
+    ),
+    path(
+        "thermograms/<int:pk>/template/new/",
+        mark_templates.template_create,
+        name="template_create",
+    ),
+    path("surveys/<int:pk>/apply-template/", mark_templates.template_apply, name="template_apply"),
+    path("proposals/settings/", proposal_settings.proposal_settings, name="proposal_settings"),
+    path(
+        "surveys/<int:pk>/proposal-settings/",
+        proposal_settings.survey_proposal_settings,
+        name="survey_proposal_settings",
+    ),
+]
+
+survey_patterns = page_patterns + api_patterns + judgement_patterns + field_patterns
 
 urlpatterns = [
     path("admin/", admin.site.urls),

@@ -13,7 +13,7 @@ from survey.forms.fields import (
     yes_no_field,
     yes_no_initial,
 )
-from survey.models import Conditions, Member, Survey
+from survey.models import Conditions, Member, Survey, validate_time_zone
 
 
 class ClientForm(forms.Form):
@@ -121,6 +121,12 @@ class SurveyForm(UnitFormMixin, forms.Form):
     notes = forms.CharField(
         widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
     )
+    time_zone = forms.CharField(
+        max_length=64,
+        required=False,
+        label="Time zone of the site's clocks",
+        help_text="For camera and logger times, e.g. Europe/Berlin; empty: the server's.",
+    )
     # Conditions
     indoor_rh_pct = number_field("Indoor RH (%)", 0, 100, unit_text=" %")
     outdoor_rh_pct = number_field("Outdoor RH (%)", 0, 100, unit_text=" %")
@@ -200,11 +206,16 @@ class SurveyForm(UnitFormMixin, forms.Form):
     def clean_camera_accuracy_c(self):
         return self._difference_c("camera_accuracy_c")
 
+    def clean_time_zone(self):
+        value = (self.cleaned_data.get("time_zone") or "").strip()
+        validate_time_zone(value)
+        return value
+
     def survey_values(self) -> dict:
         names = (
             "site kind title date start_time crew thermographer reviewer camera instrument "
             "ifov_mrad camera_accuracy_c camera_accuracy_pct scope_examined "
-            "scope_not_examined notes"
+            "scope_not_examined notes time_zone"
         ).split()
         return {name: self.cleaned_data[name] for name in names}
 
@@ -225,7 +236,7 @@ class SurveyForm(UnitFormMixin, forms.Form):
             name: getattr(survey, name)
             for name in (
                 "kind title date start_time crew instrument ifov_mrad camera_accuracy_c "
-                "camera_accuracy_pct scope_examined scope_not_examined notes"
+                "camera_accuracy_pct scope_examined scope_not_examined notes time_zone"
             ).split()
         }
         values.update(

@@ -3,6 +3,7 @@ settings, and decoding again."""
 
 from django import forms
 from django.core.exceptions import ValidationError
+from django.utils import timezone
 
 from survey import thermal
 from survey.forms.fields import TEXT_LIMIT, UnitFormMixin, number_field
@@ -131,6 +132,26 @@ class DecodeFieldsMixin:
             )
 
 
+def captured_at_field(help_text: str) -> forms.DateTimeField:
+    """A capture time typed as the site's wall-clock time (the survey's time zone)."""
+    return forms.DateTimeField(
+        required=False,
+        label="Taken at (local time)",
+        widget=forms.DateTimeInput(
+            attrs={"type": "datetime-local", "step": "1"}, format="%Y-%m-%dT%H:%M:%S"
+        ),
+        input_formats=["%Y-%m-%dT%H:%M", "%Y-%m-%dT%H:%M:%S", "%Y-%m-%d %H:%M"],
+        help_text=help_text,
+    )
+
+
+def wall_clock(value):
+    """The time as typed, without a zone: the service applies the survey's time zone."""
+    if value is None or timezone.is_naive(value):
+        return value
+    return timezone.make_naive(value, timezone.get_current_timezone())
+
+
 class UploadForm(DecodeFieldsMixin, UnitFormMixin, forms.Form):
     temperatures = {
         "reflected_c": ("Reflected apparent temperature", -60, 500, False),
@@ -143,11 +164,15 @@ class UploadForm(DecodeFieldsMixin, UnitFormMixin, forms.Form):
     emissivity = number_field("Emissivity", 0.01, 1.0)
     distance_m = number_field("Distance (m)", 0.01, 10000, unit_text=" m")
     asset = forms.ModelChoiceField(queryset=None, required=False, empty_label="No asset")
+    captured_at = captured_at_field("For files without their own date-time tag; a file's tag wins.")
 
     def __init__(self, *args, assets, **kwargs):
         super().__init__(*args, **kwargs)
         self._add_decode_fields()
         self.fields["asset"].queryset = assets
+
+    def clean_captured_at(self):
+        return wall_clock(self.cleaned_data.get("captured_at"))
 
     def clean_reflected_c(self):
         return self._temperature_c("reflected_c")
@@ -174,6 +199,7 @@ class UploadForm(DecodeFieldsMixin, UnitFormMixin, forms.Form):
             "reflected_c": data.get("reflected_c"),
             "distance_m": data.get("distance_m"),
             "asset": data.get("asset"),
+            "captured_at": data.get("captured_at"),
         }
 
 
@@ -192,6 +218,10 @@ class ThermogramSettingsForm(UnitFormMixin, forms.Form):
     note = forms.CharField(
         widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
     )
+    captured_at = captured_at_field(
+        "In the survey's time zone. A file's own date-time tag sets it again when the file "
+        "is read again."
+    )
 
     def __init__(self, *args, assets, **kwargs):
         super().__init__(*args, **kwargs)
@@ -206,6 +236,9 @@ class ThermogramSettingsForm(UnitFormMixin, forms.Form):
 
     def clean_span_high_c(self):
         return self._temperature_c("span_high_c")
+
+    def clean_captured_at(self):
+        return wall_clock(self.cleaned_data.get("captured_at"))
 
     def clean(self):
         cleaned = super().clean()

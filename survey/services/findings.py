@@ -29,6 +29,7 @@ from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.audit import audit_record
 from survey.services.criteria_tables import criteria_table_for
 from survey.services.instruments import survey_ifov
+from survey.services.loggers import thermogram_air
 from survey.services.readings import mark_readings, thermogram_corrected_range
 from survey.thermal import surface_heat_flux
 from survey.thermal.units import rounded
@@ -211,10 +212,9 @@ def _suggest_rise(survey, basis, marks, thermogram, reference, method, exponent,
 
 
 def _suggest_envelope(survey, marks, thermogram, design, table) -> dict:
-    conditions = _conditions(survey)
-    t_in = conditions.indoor_air_c if conditions else None
-    rh_in = conditions.indoor_rh_pct if conditions else None
-    t_out = conditions.outdoor_air_c if conditions else None
+    # The air at the thermogram's capture time: logged when a logger covers it.
+    air = thermogram_air(marks[0].thermogram if marks else thermogram)
+    t_in, rh_in, t_out = air.indoor_c, air.indoor_rh_pct, air.outdoor_c
     if t_in is None or rh_in is None:
         raise ValidationError(
             "Record the indoor air temperature and humidity in the survey conditions first."

@@ -6,6 +6,7 @@ status `queued` and enqueues `process_thermogram` once the transaction commits; 
 then runs survey/services/processing.py.
 """
 
+import datetime
 import hashlib
 import logging
 from dataclasses import dataclass, field
@@ -24,6 +25,7 @@ from django.db.models import Max
 from survey import thermal
 from survey.models import Asset, Survey, Thermogram
 from survey.services.audit import audit_record
+from survey.services.loggers import local_to_aware
 from survey.services.surveys import check_same_org
 from survey.tasks import process_thermogram
 from survey.thermal import units
@@ -187,8 +189,12 @@ def thermogram_ingest(
     reflected_c: float | None = None,
     distance_m: float | None = None,
     asset: Asset | None = None,
+    captured_at: datetime.datetime | None = None,
 ) -> Thermogram:
     """Store one uploaded thermogram unchanged and queue its processing.
+
+    `captured_at` (naive: the survey's local time) stands for files without a date-time
+    tag of their own; the worker takes the file's tag when it has one.
 
     Raises ValidationError (nothing written) when the file is too big, empty, not a readable
     format, or already in this survey.
@@ -231,6 +237,8 @@ def thermogram_ingest(
         status=Thermogram.Status.QUEUED,
         created_by=user,
     )
+    if captured_at is not None:
+        thermogram.captured_at = local_to_aware(survey, captured_at)
     for attribute, value in (
         ("emissivity", emissivity),
         ("reflected_c", reflected_c),

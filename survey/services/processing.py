@@ -24,6 +24,7 @@ from PIL import Image
 from survey import thermal
 from survey.models import Thermogram
 from survey.services.audit import audit_record
+from survey.services.loggers import capture_time_from_file
 from survey.services.marks import marks_recompute
 from survey.thermal.drawing import encode_png
 
@@ -165,6 +166,9 @@ def thermogram_process(thermogram_id: int) -> str | None:
             data = handle.read()
         temperatures = decode_original(data, thermogram.original_name, thermogram.decode_settings)
         _check_array(temperatures)
+        tagged = (
+            {"captured_at": at} if (at := capture_time_from_file(thermogram.survey, data)) else {}
+        )
         _heartbeat(thermogram_id)
         buffer = io.BytesIO()
         np.save(buffer, temperatures, allow_pickle=False)
@@ -204,6 +208,7 @@ def thermogram_process(thermogram_id: int) -> str | None:
         width=int(temperatures.shape[1]),
         min_c=float(np.nanmin(temperatures)),
         max_c=float(np.nanmax(temperatures)),
+        **tagged,
     )
     return Thermogram.Status.READY
 

@@ -96,6 +96,27 @@ def limit_name(limit_c: float | None) -> str:
     return "frost point" if limit_c is not None and limit_c < 0 else "dew point"
 
 
+def thermogram_indoor_air(thermogram: Thermogram) -> tuple[float, float] | None:
+    """(indoor air °C, indoor RH %) for a building thermogram: logged at its capture time
+    (survey/services/loggers.py), else the survey's recorded conditions."""
+    from survey.services.loggers import thermogram_air
+
+    if not thermogram.survey.is_building:
+        return None
+    air = thermogram_air(thermogram)
+    if air.indoor_c is None or air.indoor_rh_pct is None or air.indoor_rh_pct <= 0:
+        return None
+    return air.indoor_c, air.indoor_rh_pct
+
+
+def thermogram_reference_air_c(thermogram: Thermogram) -> float | None:
+    """The air a mark's ΔT against the ambient uses: logged at the capture time, else recorded."""
+    from survey.services.loggers import thermogram_air
+
+    air = thermogram_air(thermogram)
+    return air.indoor_c if thermogram.survey.is_building else air.ambient_c
+
+
 def correct(
     thermogram: Thermogram, apparent_c: Any, emissivity: float, reflected_c: float
 ) -> np.ndarray:
@@ -216,11 +237,6 @@ HUMIDITY_KEYS = (
 )
 
 
-def outdoor_air(survey: Survey) -> float | None:
-    conditions = _conditions(survey)
-    return conditions.outdoor_air_c if conditions is not None else None
-
-
 def design_conditions(survey: Survey) -> tuple[float, float, float] | None:
     """(indoor °C, indoor RH %, outdoor °C) of the survey's design case, when all three."""
     conditions = _conditions(survey)
@@ -234,12 +250,16 @@ def design_conditions(survey: Survey) -> tuple[float, float, float] | None:
     return None if None in values else values
 
 
-def humidity_figures(survey: Survey, coldest_c: float | None, coldest_u_c: float | None) -> dict:
+def humidity_figures(
+    thermogram: Thermogram, coldest_c: float | None, coldest_u_c: float | None
+) -> dict:
     """Humidity figures of a surface at coldest_c ± coldest_u_c (U, k = 2); see the module.
 
-    Every value is None when the survey lacks indoor air temperature and RH, or the figure
-    cannot be computed (no surface temperature, outdoor air missing or not colder).
+    The air is the thermogram's: logged at its capture time, else the survey's recorded
+    conditions. Every value is None when there is no indoor air temperature and RH, or the
+    figure cannot be computed (no surface temperature, outdoor air missing or not colder).
     """
+    from survey.services.loggers import thermogram_air
     from survey.thermal import (
         condensation_margin_k,
         critical_temperature_factor,
@@ -252,8 +272,9 @@ def humidity_figures(survey: Survey, coldest_c: float | None, coldest_u_c: float
         temperature_factor_interval,
     )
 
+    survey = thermogram.survey
     result = dict.fromkeys(HUMIDITY_KEYS)
-    air = indoor_air(survey)
+    air = thermogram_indoor_air(thermogram)
     if air is None:
         return result
     t_air_c, rh_pct = air
@@ -286,7 +307,7 @@ def humidity_figures(survey: Survey, coldest_c: float | None, coldest_u_c: float
         # Only the surface temperature is uncertain: every margin is margin ± U exactly.
         "margin_u_k": rounded((float(wet_high) - float(wet_low)) / 2.0, 1),
     }
-    t_out = outdoor_air(survey)
+    t_out = thermogram_air(thermogram).outdoor_c
     if t_out is None or t_air_c - t_out < 1.0:
         return result
     factor = float(temperature_factor(coldest_c, t_air_c, t_out))
@@ -403,12 +424,11 @@ def _reference(mark: Mark, corrected: dict, by_id: dict[int, dict], context: dic
         "delta_t_text": "",
         "delta_t_quantitative": None,
     }
-    survey = mark.thermogram.survey
     rise = None
     if mark.reference_kind == Mark.ReferenceKind.AMBIENT:
         result |= {"reference": "ambient", "reference_title": "air"}
         result["delta_t_method"] = "hottest_to_air"
-        air_c = reference_air_c(survey)
+        air_c = thermogram_reference_air_c(mark.thermogram)
         if air_c is not None and corrected["max"] is not None:
             rise = corrected["max"] - air_c
         quantitative = mark.effective_emissivity >= NOT_QUANTITATIVE_BELOW
@@ -496,7 +516,7 @@ def mark_readings(
     if context is None:
         context = rise_context(survey)
     readings |= _reference(mark, corrected, by_id if by_id is not None else {}, context)
-    readings |= humidity_figures(survey, corrected["min"], u_min)
+    readings |= humidity_figures(mark.thermogram, corrected["min"], u_min)
     readings["profile"] = stats.get("profile") if mark.kind == Mark.Kind.LINE else None
     return readings
 
@@ -543,7 +563,7 @@ def condensation_overlay(thermogram: Thermogram) -> dict:
     """
     from survey.thermal import apparent_temperature, surface_limit_temperature
 
-    air = indoor_air(thermogram.survey)
+    air = thermogram_indoor_air(thermogram)
     if air is None:
         return {
             "available": False,

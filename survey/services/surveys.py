@@ -18,6 +18,7 @@ from survey.dependents import survey_hold
 from survey.models import Asset, Client, Conditions, Organization, Site, Survey, Thermogram
 from survey.services.arrays import thermogram_temperatures
 from survey.services.audit import audit_record
+from survey.services.loggers import local_to_aware
 from survey.services.processing import write_images
 
 SURVEY_FIELDS = (
@@ -37,6 +38,7 @@ SURVEY_FIELDS = (
     "scope_examined",
     "scope_not_examined",
     "notes",
+    "time_zone",
 )
 
 
@@ -53,6 +55,7 @@ THERMOGRAM_SETTINGS = (
     "asset",
     "title",
     "note",
+    "captured_at",
 )
 
 
@@ -239,6 +242,8 @@ def thermogram_update_settings(
     if unknown:
         raise TypeError(f"thermogram_update_settings() got unknown fields: {sorted(unknown)}")
     check_same_org(thermogram.organization, asset=changes.get("asset"))
+    if changes.get("captured_at") is not None:
+        changes["captured_at"] = local_to_aware(thermogram.survey, changes["captured_at"])
     low = changes.get("span_low_c", thermogram.span_low_c)
     high = changes.get("span_high_c", thermogram.span_high_c)
     if (low is None) != (high is None):

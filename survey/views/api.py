@@ -20,6 +20,7 @@ from django.views.decorators.csrf import ensure_csrf_cookie
 from survey.access import (
     get_mark_for_user,
     get_member,
+    get_proposal_for_user,
     get_thermogram_for_user,
     require_editor,
     thermograms_for,
@@ -27,12 +28,14 @@ from survey.access import (
 from survey.models import Mark, Thermogram
 from survey.services import display
 from survey.services import marks as mark_services
+from survey.services import proposals as proposal_services
 from survey.services.arrays import (
     ENCODINGS,
     ThermogramNotReady,
     thermogram_array_digest,
     thermogram_temperatures_encoded,
 )
+from survey.services.loggers import thermogram_logged_conditions
 from survey.services.readings import (
     DECISION_TEXT,
     HUMIDITY_KEYS,
@@ -40,8 +43,8 @@ from survey.services.readings import (
     condensation_overlay,
     correction_table,
     mark_readings,
-    reference_air_c,
     thermogram_readings,
+    thermogram_reference_air_c,
 )
 from survey.services.surveys import thermogram_update_settings
 from survey.severity import category_label
@@ -324,9 +327,10 @@ def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
             "title": str(survey),
             "kind": survey.kind,
             "is_building": survey.is_building,
-            "reference_air_c": reference_air_c(survey),
+            "reference_air_c": thermogram_reference_air_c(thermogram),
             "page": _survey_page(survey.pk),
         },
+        "logged_conditions": thermogram_logged_conditions(thermogram),
         "correction": correction_table(thermogram) if ready else None,
         "condensation": condensation_overlay(thermogram),
         "photo": {
@@ -342,6 +346,7 @@ def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
             "temperatures": reverse("survey:api-thermogram-temperatures", args=[pk]),
             "marks": reverse("survey:api-marks", args=[pk]),
             "alignment": reverse("survey:api-thermogram-alignment", args=[pk]),
+            "proposals": reverse("survey:api-thermogram-proposals", args=[pk]),
         },
         "marks": _marks_json(thermogram) if ready else [],
     }
@@ -514,3 +519,50 @@ def thermogram_overlays(request: HttpRequest, pk: int) -> JsonResponse:
 def thermogram_neighbours(request: HttpRequest, pk: int) -> JsonResponse:
     thermogram = get_thermogram_for_user(request, pk)
     return JsonResponse(_neighbours(request, thermogram))
+
+
+# --- proposed marks (survey/services/proposals.py) ---
+
+
+def _proposals_json(thermogram: Thermogram, member, note: str = "") -> dict:
+    items = [
+        proposal_services.proposal_dict(proposal, unit=member.temperature_unit)
+        | {
+            "accept": reverse("survey:api-proposal-accept", args=[proposal.pk]),
+            "reject": reverse("survey:api-proposal-reject", args=[proposal.pk]),
+        }
+        for proposal in proposal_services.open_proposals(thermogram)
+    ]
+    if not items and not note:
+        note = proposal_services.proposals_note(thermogram)
+    return {"proposals": items, "note": note, "can_edit": member.can_edit}
+
+
+@api("GET", "POST")
+def thermogram_proposals(request: HttpRequest, pk: int) -> JsonResponse:
+    """The open proposals; POST computes them again (rejected places stay left out)."""
+    thermogram = get_thermogram_for_user(request, pk)
+    member = get_member(request)
+    note = ""
+    if request.method == "POST":
+        require_editor(member)
+        note = proposal_services.thermogram_propose(thermogram=thermogram, user=request.user).note
+    return JsonResponse(_proposals_json(thermogram, member, note))
+
+
+@api("POST")
+def proposal_accept(request: HttpRequest, pk: int) -> JsonResponse:
+    """Accept a proposal: the new mark, with its readings (201)."""
+    proposal = get_proposal_for_user(request, pk)
+    require_editor(get_member(request))
+    mark = proposal_services.proposal_accept(proposal=proposal, user=request.user)
+    return JsonResponse(mark_json(mark, mark_readings(mark)), status=201)
+
+
+@api("POST")
+def proposal_reject(request: HttpRequest, pk: int) -> HttpResponse:
+    """Reject a proposal (204); the place is not proposed again."""
+    proposal = get_proposal_for_user(request, pk)
+    require_editor(get_member(request))
+    proposal_services.proposal_reject(proposal=proposal, user=request.user)
+    return HttpResponse(status=204)

@@ -39,7 +39,7 @@ from survey.forms.thermograms import (
     UploadForm,
 )
 from survey.models import Survey, Thermogram
-from survey.services import ingest, instruments, members, processing, surveys
+from survey.services import ingest, instruments, loggers, members, processing, surveys
 
 
 @login_required
@@ -181,8 +181,14 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
         unit=member.temperature_unit, assets=assets_for(member).filter(site=survey.site_id)
     )
     thermograms = list(survey.thermograms.all())
+    logger_rows = loggers.survey_log_summary(survey)
     for thermogram in thermograms:
         thermogram.stalled = processing.thermogram_is_stalled(thermogram)
+        thermogram.survey = survey
+        thermogram.logged = (
+            loggers.thermogram_logged_conditions(thermogram) if logger_rows else None
+        )
+        thermogram.taken = loggers.local_text(survey, thermogram.captured_at)
     ifov_mrad, ifov_source = instruments.survey_ifov(survey)
     context = {
         "survey": survey,
@@ -191,6 +197,8 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
         "conditions_checks": conditions_check(survey),
         "ifov_mrad": ifov_mrad,
         "ifov_source": ifov_source,
+        "logger_rows": logger_rows,
+        "logger_zone": loggers.survey_time_zone_name(survey),
     }
     return render(request, "survey/survey_detail.html", context)
 
@@ -291,7 +299,8 @@ def thermogram_settings(request: HttpRequest, pk: int) -> HttpResponse:
         submitted(request),
         unit=member.temperature_unit,
         assets=assets_for(member).filter(site=thermogram.survey.site_id),
-        initial=ThermogramSettingsForm.initial_for(thermogram, member.temperature_unit),
+        initial=ThermogramSettingsForm.initial_for(thermogram, member.temperature_unit)
+        | {"captured_at": loggers.local_wall_clock(thermogram.survey, thermogram.captured_at)},
     )
     if request.method == "POST" and form.is_valid():
         try:

@@ -116,7 +116,7 @@ def chromium():
 def demo_firm(transactional_db):
     """The demo firm, plus an issued report of its envelope survey and a live share link."""
     from reports.services import report_create, report_issue, share_link_create
-    from survey.models import Member, Survey
+    from survey.models import MarkTemplate, Member, Survey
     from survey.services.criteria_tables import criteria_table_copy_defaults
     from survey.services.surveys import survey_create, survey_soft_delete
 
@@ -146,6 +146,7 @@ def demo_firm(transactional_db):
         "thermogram": survey.thermograms.order_by("pk").first(),
         "finding": survey.findings.order_by("pk").first(),
         "share_token": link.token,
+        "template": MarkTemplate.objects.get(organization=admin.organization),
     }
 
 
@@ -273,6 +274,17 @@ FORM_ERRORS = [
     ("survey:survey_delete", ("survey",), "main form", {}, ".errorlist"),
     ("password_change", (), "main form", {}, ".errorlist"),
     ("reports:survey", ("survey",), "form.issue-form", {}, ".messages .msg-error"),
+    ("survey:logger_import", ("survey",), "main form", {}, ".errorlist"),
+    ("survey:template_create", ("thermogram",), "main form", {}, ".errorlist"),
+    ("survey:template_apply", ("survey",), "main form", {}, ".errorlist"),
+    ("survey:template_align", ("template", "thermogram"), "main form", {}, ".errorlist"),
+    (
+        "survey:survey_proposal_settings",
+        ("survey",),
+        "main form",
+        {"min_area_px": "0"},
+        ".errorlist",
+    ),
 ]
 
 
@@ -441,3 +453,52 @@ def test_it_finds_no_wcag_violation_and_no_html_error_on_any_page(chromium, live
     if html_errors:
         report.append(f"{len(html_errors)} HTML errors:\n  " + "\n  ".join(html_errors))
     assert not report, "\n\n".join(report)
+
+
+def test_it_serves_valid_html_after_a_bad_logger_file_and_a_template_run(
+    client, electrical_survey, thermographer
+):
+    """Pages only a POST reaches: the logger file's row errors, the template's results."""
+    from django.core.files.uploadedfile import SimpleUploadedFile
+
+    from survey.services.mark_templates import mark_template_create
+    from survey.services.marks import mark_add
+    from tests.factories import make_thermogram
+
+    _require_tools()
+    client.force_login(thermographer.user)
+    url = reverse("survey:logger_import", args=[electrical_survey.pk])
+    text = b"time;temp\n2026-03-02 10:00;24,0\n2026-03-02 10:10;warm\n"
+    step_two = client.post(
+        url, {"role": "inside", "file": SimpleUploadedFile("panel-room.csv", text)}
+    )
+    form = step_two.context["form"]
+    row_errors = client.post(
+        url,
+        {
+            "payload": form["payload"].value(),
+            "skip_rows": "0",
+            "role": "inside",
+            "time_column": "time",
+            "temperature_column": "temp",
+            "temperature_unit": "C",
+            "wind_unit": "m/s",
+            "time_zone": "UTC",
+        },
+    )
+    assert row_errors.context["row_errors"], "the bad row was not reported"
+    source = make_thermogram(electrical_survey)
+    mark_add(thermogram=source, kind="point", points=[[10, 10]], user=None)
+    template = mark_template_create(thermogram=source, name="Contactor", user=None)
+    target = make_thermogram(electrical_survey)
+    results = client.post(
+        reverse("survey:template_apply", args=[electrical_survey.pk]),
+        {"template": template.pk, "thermograms": [target.pk], "method": "register"},
+    )
+    assert results.context["results"], "no results table"
+    pages = {
+        "logger import, step 2": step_two.content.decode(),
+        "logger import, row errors": row_errors.content.decode(),
+        "template results": results.content.decode(),
+    }
+    assert _vnu_errors(pages) == []

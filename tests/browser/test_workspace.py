@@ -392,3 +392,58 @@ def test_it_undoes_and_redoes_mark_edits_and_keeps_a_mark_a_finding_uses(
     assert severe_console_errors(browser) == [] or all(
         "409" in e["message"] for e in severe_console_errors(browser)
     )
+
+
+def proposal_items(browser):
+    return browser.execute_script(
+        "return Array.from(document.querySelectorAll('#ws-proposals li'))"
+        ".map(li => li.textContent);"
+    )
+
+
+def test_it_accepts_a_proposal_with_the_keyboard(
+    browser, live_server, thermographer, workspace_thermogram
+):
+    """The cold corner is proposed; A in a number field does nothing, A on the picture makes
+    it a mark; R in the list rejects the next one and it is remembered."""
+    from selenium.webdriver.common.by import By
+
+    from survey.models import Proposal
+    from survey.services.proposals import thermogram_propose
+
+    thermogram = workspace_thermogram
+    run = thermogram_propose(thermogram=thermogram)
+    assert [p.category for p in run.proposals] == ["envelope"]
+    corner = run.proposals[0]
+    # A second, invented proposal elsewhere, to reject from the list.
+    spare = Proposal.objects.create(
+        thermogram=thermogram,
+        rank=1,
+        category=Proposal.Category.ENVELOPE,
+        kind="rectangle",
+        points=[[60, 10], [70, 20]],
+        reason="surface RH 85 %, 121 px",
+        stats={"surface_rh_pct": 85.0, "area_px": 121},
+    )
+    open_workspace(browser, live_server, thermographer, thermogram)
+    wait_for(lambda: len(proposal_items(browser)) == 2, message="two proposals listed")
+    assert "surface RH" in proposal_items(browser)[0]
+
+    browser.find_element(By.ID, "ws-low").send_keys("a")  # typing in a field: no decision
+    time.sleep(0.5)
+    assert not Mark.objects.filter(thermogram=thermogram).exists()
+
+    browser.find_element(By.ID, "ws-canvas").send_keys("a")
+    wait_for(lambda: len(table_rows(browser)) == 1, message="the accepted proposal as mark A")
+    mark = Mark.objects.get(thermogram=thermogram)
+    assert mark.kind == "polygon" and mark.points == corner.points
+    corner.refresh_from_db()
+    assert corner.status == Proposal.Status.ACCEPTED and corner.mark_id == mark.pk
+    wait_for(lambda: len(proposal_items(browser)) == 1, message="one proposal left")
+
+    browser.find_element(By.ID, "ws-proposals").send_keys("r")
+    wait_for(lambda: len(proposal_items(browser)) == 0, message="the spare rejected")
+    spare.refresh_from_db()
+    assert spare.status == Proposal.Status.REJECTED
+    assert Mark.objects.filter(thermogram=thermogram).count() == 1
+    assert severe_console_errors(browser) == []

@@ -314,3 +314,37 @@ def test_it_moves_the_camera_and_what_a_finding_was_judged_on(
     assert finding.reference_mark.label == "A"
     assert (finding.rise_method, finding.load_exponent) == ("hottest_to_hottest", 1.6)
     assert finding_changes(finding) == []
+
+
+def test_it_carries_the_logged_conditions_over(
+    full_survey, other_org, outsider, django_capture_on_commit_callbacks
+):
+    """The loggers' series travel in the archive: the copy's thermograms take the same logged
+    air (22:05 is halfway between 18.0 °C / 60 % and 19.0 °C / 62 %: 18.5 °C, 61 %)."""
+    import datetime as dt
+
+    from survey.models import ConditionLog
+    from survey.services.loggers import condition_log_import, thermogram_logged_conditions
+
+    first = full_survey.thermograms.get(sequence=1)
+    first.captured_at = dt.datetime(2026, 1, 14, 22, 5, tzinfo=dt.UTC)
+    first.save()
+    condition_log_import(
+        survey=full_survey,
+        role="inside",
+        name="hall.csv",
+        data=b"time,t,rh\n2026-01-14T22:00Z,18.0,60\n2026-01-14T22:10Z,19.0,62\n",
+        user=None,
+        time_column="time",
+        temperature_column="t",
+        humidity_column="rh",
+    )
+    data = survey_export(survey=full_survey, user=None)
+    with django_capture_on_commit_callbacks(execute=True):
+        imported = survey_import(data=data, organization=other_org, user=outsider.user)
+    log = ConditionLog.objects.get(survey=imported)
+    assert (log.organization, log.role, log.temperature_c) == (other_org, "inside", [18.0, 19.0])
+    copy = imported.thermograms.get(sequence=1)
+    logged = thermogram_logged_conditions(copy)["inside"]
+    assert (logged["t_air_c"], logged["rh_pct"]) == (18.5, 61.0)
+    assert _without_ids(survey_results(imported)) == _without_ids(survey_results(full_survey))

@@ -24,8 +24,19 @@ from django.utils import timezone
 from PIL import Image
 
 from reports.models import Report, ReportVersion, ShareLink
-from survey.models import Asset, AuditEvent, Finding, Instrument, Survey, Thermogram
+from survey.models import (
+    Asset,
+    AuditEvent,
+    ConditionLog,
+    Finding,
+    Instrument,
+    MarkTemplate,
+    Proposal,
+    Survey,
+    Thermogram,
+)
 from survey.services.criteria_tables import criteria_table_copy_defaults
+from survey.services.mark_templates import mark_template_create
 from survey.services.marks import mark_add
 from survey.services.processing import thermogram_process
 from tests.factories import make_thermogram, synthetic_field
@@ -94,6 +105,40 @@ class World:
             detector_height_px=480,
             lens_hfov_deg=24.0,
         ).pk
+
+    def fresh_proposal(self) -> int:
+        return Proposal.objects.create(
+            thermogram=self.thermogram,
+            category=Proposal.Category.HOT_SPOT,
+            kind="point",
+            points=[[40, 40]],
+            reason="4.0 K above its surroundings",
+            stats={"surroundings_rise_k": 4.0},
+        ).pk
+
+    def fresh_log(self) -> int:
+        moment = timezone.now()
+        ConditionLog.objects.filter(survey=self.survey).delete()  # one log per role
+        return ConditionLog.objects.create(
+            organization=self.survey.organization,
+            survey=self.survey,
+            role=ConditionLog.Role.OUTSIDE,
+            original_name="outside.csv",
+            original_sha256="0" * 64,
+            times_s=[0.0, 600.0],
+            temperature_c=[1.0, 2.0],
+            started_at=moment,
+            ended_at=moment,
+        ).pk
+
+    def fresh_template(self) -> int:
+        name = f"Quillfeather breaker {MarkTemplate.objects.count() + 1}"
+        return mark_template_create(thermogram=self.thermogram, name=name, user=None).pk
+
+    def template(self) -> int:
+        if not hasattr(self, "_template"):
+            self._template = self.fresh_template()
+        return self._template
 
     def share_link(self) -> int:
         link = ShareLink.objects.create(
@@ -264,6 +309,26 @@ MATRIX: dict[str, Entry] = {
     "reports:retry": Entry("post", version_id, editors(302)),
     "reports:share_create": Entry("post", version_id, reviewers(302), data={"days": "30"}),
     "reports:share_revoke": Entry("post", lambda w: {"link_id": w.share_link()}, reviewers(302)),
+    # proposals, logged conditions, mark templates (issue 18)
+    "survey:api-thermogram-proposals": Entry("post", thermogram, editors(200)),
+    "survey:api-proposal-accept": Entry("post", lambda w: {"pk": w.fresh_proposal()}, editors(201)),
+    "survey:api-proposal-reject": Entry("post", lambda w: {"pk": w.fresh_proposal()}, editors(204)),
+    "survey:survey_proposal_settings": Entry("get", survey, editors(200)),
+    "survey:logger_import": Entry("get", survey, editors(200)),
+    "survey:logger_chart": Entry("get", survey, everyone(200), media_type="image/svg+xml"),
+    "survey:condition_log_delete": Entry("post", lambda w: {"pk": w.fresh_log()}, editors(302)),
+    "survey:template_create": Entry("get", thermogram, editors(200)),
+    "survey:template_apply": Entry("get", survey, editors(200)),
+    "survey:mark_template": Entry("get", lambda w: {"pk": w.template()}, everyone(200)),
+    "survey:mark_template_picture": Entry(
+        "get", lambda w: {"pk": w.template()}, everyone(200), media_type="image/png"
+    ),
+    "survey:mark_template_delete": Entry(
+        "post", lambda w: {"pk": w.fresh_template()}, editors(302)
+    ),
+    "survey:template_align": Entry(
+        "get", lambda w: {"pk": w.template(), "thermogram_pk": w.thermogram.pk}, editors(200)
+    ),
 }
 
 

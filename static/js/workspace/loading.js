@@ -6,7 +6,7 @@ import { refreshTable } from "./marks.js";
 import { setupPhoto } from "./photo.js";
 import { fit, renderPicture, resize } from "./rendering.js";
 import { api } from "./server.js";
-import { $, picture, state, fmtTU, status, unitLabel } from "./state.js";
+import { $, picture, root, state, fmtTU, status, unitLabel } from "./state.js";
 import { resetHistory } from "./undo.js";
 
 export function load(apiUrl, pushHistory) {
@@ -64,12 +64,22 @@ export function start(meta, temps) {
   $("ws-settings").textContent = "Thermogram ε " + meta.capture.emissivity + ", reflected " +
     fmtTU(meta.capture.reflected_c) + ", transmittance " + meta.capture.transmittance +
     (meta.survey.reference_air_c !== null ? "; air " + fmtTU(meta.survey.reference_air_c) : "") +
+    loggedNote(meta.logged_conditions) +
     ". Corrected values use each mark's own ε and reflected temperature when set.";
   resize();
   fit();
   renderPicture();
   syncSpanInputs();
   refreshTable();
+  root.dispatchEvent(new CustomEvent("ws:loaded", { detail: meta }));
+}
+
+/* Where the air came from: the logger at the capture time, or why not. */
+function loggedNote(logged) {
+  if (!logged || logged.status === "no_log") { return ""; }
+  if (logged.status !== "logged") { return "; " + logged.label; }
+  var rh = logged.inside && logged.inside.rh_pct !== null ? ", " + Math.round(logged.inside.rh_pct) + " % RH" : "";
+  return " (" + logged.label + rh + ")";
 }
 
 export function showHeader(meta) {

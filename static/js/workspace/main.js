@@ -10,6 +10,7 @@
 import { setTool } from "./input.js";
 import { goTo, load } from "./loading.js";
 import "./photo.js";
+import "./proposals.js";
 import { resize } from "./rendering.js";
 import { $, root } from "./state.js";
 

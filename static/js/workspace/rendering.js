@@ -3,7 +3,7 @@
 
 import { apparentAt, correctedFrom } from "./readout.js";
 import {
-  $, canvas, ctx, scaleBar, picture, photoImg, state,
+  $, canvas, ctx, drawHooks, scaleBar, picture, photoImg, state,
   MARK_COLOUR, SELECTED_COLOUR, OUTLINE_COLOUR,
   clampPixel, fmtTU, inside, toScreen
 } from "./state.js";
@@ -114,6 +114,7 @@ export function draw() {
   ctx.globalAlpha = 1;
   $("ws-zoom").textContent = Math.round(state.zoom * (window.devicePixelRatio || 1) * 100) + " %";
   state.marks.forEach(function (mark) { drawMark(mark, mark.id === state.selectedId); });
+  drawHooks.forEach(function (hook) { hook(); });
   if (state.drawing) { drawShape(state.drawing.kind, state.drawing.points, SELECTED_COLOUR, null, true); }
   if (state.cursor) { drawCursor(state.cursor); }
   if (state.aligning) {

@@ -18,6 +18,8 @@ export var HANDLE_PX = 7;
 export var MARK_COLOUR = "#00ff00";
 export var SELECTED_COLOUR = "#ffe600";
 export var OUTLINE_COLOUR = "#003300";
+// Functions drawing more over the picture after the marks (proposals.js adds one).
+export var drawHooks = [];
 
 export var state = {
   meta: null, temps: null, w: 0, h: 0,

@@ -296,6 +296,7 @@ class Command(BaseCommand):
             ],
         )
         self._findings(envelope, electrical, slab, window, lugs, admin)
+        self._logs_proposals_template(envelope, [slab, window, patch, wet, lugs], lugs, admin)
 
         elapsed = time.monotonic() - started
         self.stdout.write(
@@ -419,6 +420,50 @@ class Command(BaseCommand):
                 f"Demo thermogram {name} ended {thermogram.status}: {thermogram.error}"
             )
         return thermogram
+
+    def _logs_proposals_template(self, envelope, thermograms, lugs, admin) -> None:
+        """Invented logger files of the envelope survey, capture times, proposed marks and
+        a mark template (issue 18)."""
+        from survey.models import ConditionLog, MarkTemplate
+        from survey.services.loggers import condition_log_import
+        from survey.services.mark_templates import mark_template_create
+        from survey.services.proposals import thermogram_propose
+
+        if not envelope.time_zone:
+            envelope.time_zone = "Europe/London"
+            envelope.save(update_fields=["time_zone"])
+        start = datetime.datetime(2026, 1, 12, 18, 0, tzinfo=datetime.UTC)
+        for minutes, thermogram in zip((0, 12, 25), thermograms[:3], strict=True):
+            if thermogram.captured_at is None:
+                thermogram.captured_at = start + datetime.timedelta(hours=48, minutes=minutes)
+                thermogram.save(update_fields=["captured_at"])
+        if not ConditionLog.objects.filter(survey=envelope).exists():
+            hours = np.arange(0, 50, 0.25)
+            outside = -4.0 + 2.5 * np.cos((hours - 15.0) / 24.0 * 2 * np.pi)
+            inside = 20.5 + 0.3 * np.sin(hours / 24.0 * 2 * np.pi)
+            for role, values, rh in (("inside", inside, 52.0), ("outside", outside, 85.0)):
+                rows = ["Time;Air °C;RH %"] + [
+                    f"{(start + datetime.timedelta(hours=float(h))):%d.%m.%Y %H:%M};"
+                    + f"{v:.1f};{rh:.0f}".replace(".", ",")
+                    for h, v in zip(hours, values, strict=True)
+                ]
+                condition_log_import(
+                    survey=envelope,
+                    role=role,
+                    name=f"demo-{role}-logger.csv",
+                    data="\n".join(rows).encode(),
+                    user=admin.user,
+                    time_column="Time",
+                    temperature_column="Air °C",
+                    humidity_column="RH %",
+                    time_format="%d.%m.%Y %H:%M",
+                    time_zone="UTC",
+                )
+        for thermogram in thermograms:
+            if not thermogram.proposals.exists():
+                thermogram_propose(thermogram=thermogram, user=admin.user)
+        if not MarkTemplate.objects.filter(organization=envelope.organization).exists():
+            mark_template_create(thermogram=lugs, name="Three-phase incomer lugs", user=admin.user)
 
     def _marks(self, thermogram: Thermogram, admin: Member, marks: list) -> None:
         if thermogram.marks.exists():
