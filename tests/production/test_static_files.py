@@ -67,7 +67,7 @@ def test_it_serves_every_script_and_stylesheet_behind_gunicorn(tmp_path, collect
         pages.update(_crawl(browser, "/"))
         assert any(path.startswith("/thermograms/") for path in pages), sorted(pages)
         referenced = {}
-        for path, html in pages.items():
+        for html in pages.values():
             for kind, url in assets_of(html):
                 referenced.setdefault(url, kind)
         assert any("workspace" in url for url in referenced), referenced
