@@ -6,12 +6,14 @@ way the TLS proxy in front of it would: it says X-Forwarded-Proto: https, and it
 Secure cookies itself (a cookie jar would not send them over plain http).
 """
 
+import contextlib
 import os
 import re
 import secrets
 import subprocess
 import sys
 import time
+from dataclasses import dataclass
 from pathlib import Path
 
 import requests
@@ -189,3 +191,88 @@ def wait_until(condition, timeout: float, interval: float = 0.2, message: str = 
             return
         time.sleep(interval)
     raise AssertionError(message or f"not done after {timeout} s")
+
+
+@dataclass
+class Stack:
+    """One web process and its workers, each with a media folder of its own."""
+
+    web: Gunicorn
+    web_media: Path
+    workers: list[subprocess.Popen]
+    worker_logs: list[Path]
+    worker_media: list[Path]
+
+    def logs(self) -> str:
+        parts = [f"--- web\n{self.web.log()[-4000:]}"]
+        for path in self.worker_logs:
+            parts.append(f"--- {path.name}\n{path.read_text(errors='replace')[-4000:]}")
+        return "\n".join(parts)
+
+
+@contextlib.contextmanager
+def production_stack(
+    tmp_path: Path,
+    *,
+    postgres_url: str,
+    broker: str,
+    static_root: Path,
+    storage: dict[str, str],
+    workers: int = 1,
+):
+    """gunicorn and `workers` Celery workers with DEBUG=0 on the test database and `broker`.
+
+    Each process gets its own empty MEDIA_ROOT: with `storage` naming a bucket nothing may
+    land there, and no process can read another's disk.
+    """
+    from tests.workers import start_worker, stop_worker, test_database_url
+
+    shared = dict(
+        DEBUG="0",
+        SECRET_KEY=PRODUCTION_SECRET,
+        ALLOWED_HOSTS="127.0.0.1,localhost",
+        STATIC_ROOT=str(static_root),
+        LOG_LEVEL="INFO",
+        **storage,
+    )
+    web_media = tmp_path / "web-media"
+    web_media.mkdir()
+    environment = production_environment(
+        DATABASE_URL=test_database_url(postgres_url),
+        REDIS_URL=broker,
+        CELERY_EAGER="0",
+        MEDIA_ROOT=str(web_media),
+        **shared,
+    )
+    started: list[subprocess.Popen] = []
+    logs, folders = [], []
+    web = None
+    try:
+        for index in range(workers):
+            folder = tmp_path / f"worker{index + 1}-media"
+            folder.mkdir()
+            log = tmp_path / f"worker{index + 1}.log"
+            started.append(
+                start_worker(
+                    broker,
+                    postgres_url,
+                    str(folder),
+                    log,
+                    name=f"worker{index + 1}@%h",
+                    **shared,
+                )
+            )
+            logs.append(log)
+            folders.append(folder)
+        web = Gunicorn(environment, tmp_path / "gunicorn.log")
+        wait_until(
+            lambda: all("ready." in log.read_text(errors="replace") for log in logs),
+            timeout=60,
+            message="the workers did not start",
+        )
+        yield Stack(web, web_media, started, logs, folders)
+    finally:
+        if web is not None:
+            web.stop()
+        for worker in started:
+            stop_worker(worker)
