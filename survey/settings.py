@@ -300,19 +300,20 @@ if SENTRY_DSN:
 # Every job is idempotent and safe to run twice at once; each area adds its own entries.
 PURGE_DELETED_AFTER_DAYS = env_int("PURGE_DELETED_AFTER_DAYS", 30)
 SHARE_LINK_KEEP_DAYS = env_int("SHARE_LINK_KEEP_DAYS", 90)
+PERIODIC_JOB_INTERVAL_SECONDS = env_int("PERIODIC_JOB_INTERVAL_SECONDS", 3600)
 CELERY_BEAT_SCHEDULE = globals().get("CELERY_BEAT_SCHEDULE", {})
 CELERY_BEAT_SCHEDULE.update(
     {
         "purge-deleted-surveys": {
             "task": "survey.tasks.purge_deleted_surveys",
-            "schedule": 3600.0,
+            "schedule": float(PERIODIC_JOB_INTERVAL_SECONDS),
             # A run queued while no worker was up is dropped; the next one does the work.
-            "options": {"expires": 3000},
+            "options": {"expires": PERIODIC_JOB_INTERVAL_SECONDS},
         },
         "expire-share-links": {
             "task": "reports.tasks.expire_share_links",
-            "schedule": 3600.0,
-            "options": {"expires": 3000},
+            "schedule": float(PERIODIC_JOB_INTERVAL_SECONDS),
+            "options": {"expires": PERIODIC_JOB_INTERVAL_SECONDS},
         },
     }
 )

@@ -131,6 +131,11 @@ def thermogram_process(thermogram_id: int) -> str | None:
     if not _claim(thermogram_id):
         return None
     thermogram = Thermogram.objects.select_related("organization").get(pk=thermogram_id)
+    logger.info(
+        "Processing thermogram %s",
+        thermogram_id,
+        extra={"organization_id": thermogram.organization_id, "thermogram_id": thermogram_id},
+    )
     _remove_partial_files(thermogram)
     try:
         # One read serves the check and the decoding (one GET when media are in a bucket).

@@ -8,6 +8,7 @@ can only read through the bucket. In-process tests cover the operator commands o
 import datetime
 import hashlib
 import io
+import json
 from pathlib import Path
 
 import numpy as np
@@ -149,6 +150,13 @@ def test_it_keeps_every_file_in_the_bucket_from_upload_to_issued_report(
         assert local_files(stack.web_media) == []
         assert [local_files(folder) for folder in stack.worker_media] == [[]]
         assert "Traceback" not in stack.logs()
+        worker_log = stack.worker_logs[0].read_text(errors="replace").splitlines()
+
+    # The worker logs JSON lines; those written inside a task carry its id and organization.
+    entries = [json.loads(line) for line in worker_log if line.startswith("{")]
+    inside = [e for e in entries if e["message"].startswith("Processing thermogram")]
+    assert len(inside) == 2
+    assert all(e["task_id"] and e["organization_id"] == owner.organization_id for e in inside)
 
     keys = bucket_keys(s3_endpoint, bucket)
     assert sum(key.startswith("originals/") for key in keys) == 2

@@ -4,6 +4,7 @@ WhiteNoise serves what `collectstatic` wrote (as the Docker image does at build)
 names cached for a year, so a new workspace.js is never served stale, and compressed copies.
 """
 
+import json
 import re
 from pathlib import Path
 from urllib.parse import urljoin
@@ -102,6 +103,12 @@ def test_it_serves_every_script_and_stylesheet_behind_gunicorn(tmp_path, collect
     finally:
         server.stop()
     assert "Traceback" not in server.log(), server.log()[-3000:]
+    # Production logs: one JSON object per line, each request with its ids.
+    lines = [json.loads(line) for line in server.log().splitlines() if line.startswith("{")]
+    home = [line for line in lines if line["logger"] == "heatmark.request" and line["path"] == "/"]
+    assert home and home[-1]["status"] == 200
+    assert re.fullmatch(r"[0-9a-f]{32}", home[-1]["request_id"])
+    assert home[-1]["user_id"] is not None and home[-1]["organization_id"] is not None
 
 
 def test_it_points_module_imports_at_hashed_names(tmp_path, settings):
