@@ -8,7 +8,8 @@ import datetime
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.core.exceptions import ValidationError
-from django.db.models import Count, Prefetch
+from django.core.paginator import Paginator
+from django.db.models import Count
 from django.http import HttpRequest, HttpResponse, JsonResponse
 from django.shortcuts import redirect, render
 from django.urls import reverse
@@ -159,8 +160,15 @@ def survey_edit(request: HttpRequest, pk: int) -> HttpResponse:
     return render(request, "survey/survey_form.html", {"form": form, "survey": survey})
 
 
+THERMOGRAMS_PER_PAGE = 100
+
+
 def _survey_thermograms(survey: Survey):
-    return survey.thermograms.select_related("asset").annotate(mark_count=Count("marks"))
+    return (
+        survey.thermograms.select_related("asset")
+        .annotate(mark_count=Count("marks"))
+        .order_by("sequence", "id")
+    )
 
 
 @login_required
@@ -170,18 +178,22 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
     survey = (
         surveys_for(member)
         .select_related("site__client", "conditions", "thermographer__user", "reviewer__user")
-        .prefetch_related(Prefetch("thermograms", queryset=_survey_thermograms(survey)))
         .get(pk=survey.pk)
     )
     upload_form = UploadForm(
         unit=member.temperature_unit, assets=assets_for(member).filter(site=survey.site_id)
     )
-    thermograms = list(survey.thermograms.all())
+    # A day's import can be a thousand thermograms: the page shows them a hundred at a time.
+    page = Paginator(_survey_thermograms(survey), THERMOGRAMS_PER_PAGE).get_page(
+        request.GET.get("page")
+    )
+    thermograms = list(page.object_list)
     for thermogram in thermograms:
         thermogram.stalled = processing.thermogram_is_stalled(thermogram)
     context = {
         "survey": survey,
         "thermograms": thermograms,
+        "page": page,
         "upload_form": upload_form,
         "conditions_checks": conditions_check(survey),
     }
