@@ -160,7 +160,7 @@ def survey_edit(request: HttpRequest, pk: int) -> HttpResponse:
     return render(request, "survey/survey_form.html", {"form": form, "survey": survey})
 
 
-THERMOGRAMS_PER_PAGE = 100
+THERMOGRAMS_PER_PAGE = 60
 
 
 def _survey_thermograms(survey: Survey):
@@ -183,7 +183,7 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
     upload_form = UploadForm(
         unit=member.temperature_unit, assets=assets_for(member).filter(site=survey.site_id)
     )
-    # A day's import can be a thousand thermograms: the page shows them a hundred at a time.
+    # A day's import can be a thousand thermograms: the page shows them sixty at a time.
     page = Paginator(_survey_thermograms(survey), THERMOGRAMS_PER_PAGE).get_page(
         request.GET.get("page")
     )
