@@ -133,6 +133,9 @@ def build_surveys(runner: Runner) -> dict:
         wanted |= {10, 50, WORK_SURVEY_SIZE, SURVEY_PAGE_SIZE}
     if "report" in runner.groups:
         wanted |= set(REPORT_SIZES)
+    from survey.celery import app
+
+    app.conf.task_always_eager = True  # built in this process, whatever the broker
     surveys = {}
     for count in sorted(wanted):
         runner.log(f"building a survey of {count} thermograms (untimed)")

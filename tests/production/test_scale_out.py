@@ -45,14 +45,16 @@ def test_it_processes_each_thermogram_and_report_once_on_two_workers(
     bucket = make_bucket(s3_endpoint, versioned=True)
     broker = fresh_broker(redis_url, TEST_REDIS_DB)
     usable_password(owner)
-    surveys = [envelope_survey] + [
+    # The batch goes to one survey; five small surveys of one thermogram each get a report
+    # (one report per survey), so the renders are many and short.
+    surveys = [
         Survey.objects.create(
             organization=envelope_survey.organization,
             site=envelope_survey.site,
             kind=Survey.Kind.ENVELOPE,
-            date=datetime.date(2026, 1, 14 + day),
+            date=datetime.date(2026, 1, 15 + day),
         )
-        for day in range(1, REPORTS)
+        for day in range(REPORTS)
     ]
     # Small distinct synthetic images: the work measured is the coordination, not decoding.
     rng = np.random.default_rng(16)
@@ -70,15 +72,20 @@ def test_it_processes_each_thermogram_and_report_once_on_two_workers(
     ) as stack:
         browser = Browser(stack.web.url)
         browser.sign_in(owner.user.username, PASSWORD)
-        # One report per survey: the batch is spread over five surveys of 20 thermograms.
-        for index, survey in enumerate(surveys):
-            part = files[index::REPORTS]
-            upload = browser.post(f"/surveys/{survey.pk}/upload/", {"source_unit": "C"}, files=part)
+        batch = files[: THERMOGRAMS - REPORTS]
+        upload = browser.post(
+            f"/surveys/{envelope_survey.pk}/upload/", {"source_unit": "C"}, files=batch
+        )
+        assert upload.status_code == 302
+        for survey, file in zip(surveys, files[THERMOGRAMS - REPORTS :], strict=True):
+            upload = browser.post(
+                f"/surveys/{survey.pk}/upload/", {"source_unit": "C"}, files=[file]
+            )
             assert upload.status_code == 302
             assert browser.post(f"/reports/survey/{survey.pk}/create/").status_code == 302
         reports = Report.objects.filter(survey__in=surveys)
         assert reports.count() == REPORTS
-        thermograms = Thermogram.objects.filter(survey__in=surveys)
+        thermograms = Thermogram.objects.filter(survey__in=[envelope_survey, *surveys])
         wait_until(
             lambda: thermograms.filter(status="ready").count() == THERMOGRAMS,
             timeout=240,
