@@ -212,3 +212,18 @@ def test_it_purges_a_deleted_survey_and_its_objects(
     assert local_files(Path(settings.MEDIA_ROOT)) == []
     assert bucket_keys(endpoint, bucket) == []
     assert not Survey.objects.filter(pk=envelope_survey.pk).exists()
+
+
+def test_it_lets_reports_load_media_from_the_bucket(s3_media):
+    """The report URL fetcher reads media through the storage API, refusing escapes."""
+    from django.core.files.base import ContentFile
+    from django.core.files.storage import default_storage
+
+    from reports.fetcher import BASE_URL, LocalOnlyFetcher
+
+    name = default_storage.save("photos/wall.png", ContentFile(png_bytes()))
+    fetched = LocalOnlyFetcher().fetch(f"{BASE_URL}media/{name}")
+    assert (fetched.read(), fetched.content_type) == (png_bytes(), "image/png")
+    for url in (f"{BASE_URL}media/../photos/wall.png", f"{BASE_URL}media/photos/none.png"):
+        with pytest.raises(ValueError):
+            LocalOnlyFetcher().fetch(url)

@@ -10,6 +10,7 @@ from pathlib import Path
 from urllib.parse import urljoin
 
 import pytest
+import requests
 from django.contrib.staticfiles import finders
 from django.core.management import call_command
 
@@ -100,6 +101,12 @@ def test_it_serves_every_script_and_stylesheet_behind_gunicorn(tmp_path, collect
         assert plain.status_code == 200 and _max_age(plain) <= 60
         health = browser.get("/healthz")
         assert health.status_code == 200, health.text
+        # The container health check asks over plain HTTP with the site's host name: no
+        # redirect to HTTPS for /healthz, while every page still redirects.
+        plain = {"Host": "localhost"}
+        assert requests.get(f"{server.url}/healthz", headers=plain, timeout=30).status_code == 200
+        page = requests.get(f"{server.url}/", headers=plain, timeout=30, allow_redirects=False)
+        assert page.status_code == 301 and page.headers["Location"].startswith("https://")
     finally:
         server.stop()
     assert "Traceback" not in server.log(), server.log()[-3000:]
