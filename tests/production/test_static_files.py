@@ -133,6 +133,7 @@ def test_it_points_module_imports_at_hashed_names(tmp_path, settings):
         "show(4); later();\n"
     )
     settings.STATICFILES_DIRS = [source]
+    settings.STATICFILES_FINDERS = ["django.contrib.staticfiles.finders.FileSystemFinder"]
     settings.STATIC_ROOT = tmp_path / "collected"
     settings.STORAGES = {
         **settings.STORAGES,
