@@ -68,6 +68,11 @@ def report_render(version_id: int) -> bool:
     if not claimed:
         return False
     version = ReportVersion.objects.select_related("report__survey", "issued_by").get(pk=version_id)
+    logger.info(
+        "Rendering report version %s",
+        version_id,
+        extra={"organization_id": version.report.organization_id, "version_id": version_id},
+    )
     try:
         rendered = render_pdf(version, progress=_progress(version_id))
     except Exception as exc:  # noqa: BLE001 - any failure is recorded for the user to see

@@ -29,3 +29,14 @@ def render_report(self, version_id: int) -> bool:
     if not rendered and report_render_is_held(version_id):
         raise self.retry(countdown=render_stalled_after().total_seconds() + 1)
     return rendered
+
+
+@shared_task(ignore_result=True)
+def expire_share_links() -> int:
+    """Periodic (Celery beat): remove share links that ended SHARE_LINK_KEEP_DAYS ago.
+
+    Safe to run twice at once: rows one run holds are skipped by the other.
+    """
+    from reports.services import share_links_expire
+
+    return share_links_expire(keep_days=settings.SHARE_LINK_KEEP_DAYS)

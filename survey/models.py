@@ -726,6 +726,8 @@ class AuditEvent(models.Model):
 
     class Meta:
         ordering = ["-at", "-id"]
+        # The audit page lists one organization's events, newest first.
+        indexes = [models.Index(fields=["organization", "-at", "-id"], name="audit_org_time_idx")]
 
     def __str__(self) -> str:
         return f"{self.action} {self.object_type} {self.object_id}"

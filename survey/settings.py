@@ -65,6 +65,9 @@ INSTALLED_APPS = [
 
 MIDDLEWARE = [
     "django.middleware.security.SecurityMiddleware",
+    # Static files before anything that touches the session or the database.
+    "whitenoise.middleware.WhiteNoiseMiddleware",
+    "survey.logs.RequestLogMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
@@ -108,6 +111,11 @@ if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":
         "timeout": 20,
         "init_command": "PRAGMA journal_mode=WAL; PRAGMA synchronous=NORMAL;",
     }
+elif DATABASES["default"]["ENGINE"] == "django.db.backends.postgresql":
+    # A database that does not answer fails a request (and /healthz) in seconds, not minutes.
+    DATABASES["default"].setdefault("OPTIONS", {})["connect_timeout"] = env_int(
+        "DB_CONNECT_TIMEOUT", 5
+    )
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
 AUTH_PASSWORD_VALIDATORS = [
@@ -135,6 +143,66 @@ MEDIA_ROOT = Path(env_str("MEDIA_ROOT", str(BASE_DIR / "media")))
 MEDIA_URL = "/media-not-public/"
 # In production the web server serves checked files through an internal redirect.
 MEDIA_ACCEL_REDIRECT_PREFIX = env_str("MEDIA_ACCEL_REDIRECT_PREFIX", "")
+
+# Media on this host's disk (MEDIA_ROOT), or in an S3-compatible bucket shared by every web
+# process and worker (MEDIA_STORAGE=s3). Static files: hashed and compressed names served
+# by WhiteNoise once `collectstatic` has run (the Docker image runs it at build); plain
+# names from the app folders while DEBUG=1.
+MEDIA_STORAGE = env_str("MEDIA_STORAGE", "local")
+
+
+def media_storages(kind: str) -> dict:
+    """STORAGES entries "default" (never overwrites) and "derived" (rewrites fixed names)."""
+    if kind == "local":
+        local = {"BACKEND": "django.core.files.storage.FileSystemStorage"}
+        return {"default": local, "derived": local}
+    if kind != "s3":
+        raise ImproperlyConfigured(f"MEDIA_STORAGE must be local or s3, not {kind!r}")
+    from botocore.config import Config
+
+    endpoint = env_str("S3_ENDPOINT_URL", "")
+    options = {
+        "bucket_name": env_str("S3_BUCKET", ""),
+        "endpoint_url": endpoint or None,
+        "region_name": env_str("S3_REGION", "") or None,
+        # Unset: boto3's own chain (instance role, ~/.aws) supplies the credentials.
+        "access_key": env_str("AWS_ACCESS_KEY_ID", "") or None,
+        "secret_key": env_str("AWS_SECRET_ACCESS_KEY", "") or None,
+        # A bucket that does not answer fails in seconds (as /healthz says), not minutes.
+        "client_config": Config(
+            s3={"addressing_style": env_str("S3_ADDRESSING_STYLE", "path" if endpoint else "auto")},
+            signature_version="s3v4",
+            connect_timeout=env_int("S3_CONNECT_TIMEOUT", 3),
+            read_timeout=60,
+            retries={"max_attempts": 3, "mode": "standard"},
+        ),
+        # Objects stay private; downloads go through the views' access checks.
+        "default_acl": None,
+        "querystring_auth": True,
+        "querystring_expire": 300,
+        # An upload never replaces another file of the same name.
+        "file_overwrite": False,
+    }
+    if not options["bucket_name"]:
+        raise ImproperlyConfigured("S3_BUCKET must be set when MEDIA_STORAGE=s3")
+    backend = "storages.backends.s3.S3Storage"
+    return {
+        "default": {"BACKEND": backend, "OPTIONS": options},
+        # Derived files (arrays, previews) are rewritten in place: one PUT replaces them whole.
+        "derived": {"BACKEND": backend, "OPTIONS": {**options, "file_overwrite": True}},
+    }
+
+
+STORAGES = {
+    **media_storages(MEDIA_STORAGE),
+    "staticfiles": {
+        "BACKEND": "django.contrib.staticfiles.storage.StaticFilesStorage"
+        if DEBUG
+        else "survey.storage.StaticStorage"
+    },
+}
+# Hashed static names are cached for ten years by browsers and proxies; the rest a minute.
+WHITENOISE_MAX_AGE = 60
 
 DATA_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
 FILE_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
@@ -181,6 +249,8 @@ if not DEBUG:
     SESSION_COOKIE_SECURE = True
     CSRF_COOKIE_SECURE = True
     SECURE_SSL_REDIRECT = env_bool("SECURE_SSL_REDIRECT", True)
+    # The container health check asks over plain HTTP from inside the container.
+    SECURE_REDIRECT_EXEMPT = [r"^healthz$"]
     SECURE_HSTS_SECONDS = env_int("SECURE_HSTS_SECONDS", 31536000)
     SECURE_HSTS_INCLUDE_SUBDOMAINS = True
     SECURE_HSTS_PRELOAD = env_bool("SECURE_HSTS_PRELOAD", False)
@@ -188,9 +258,62 @@ if not DEBUG:
     SILENCED_SYSTEM_CHECKS = [] if SECURE_HSTS_PRELOAD else ["security.W021"]
     SECURE_PROXY_SSL_HEADER = ("HTTP_X_FORWARDED_PROTO", "https")
 
+# Logs: one JSON object per line in production (LOG_FORMAT=json, the default with DEBUG=0)
+# carrying the request id, user id, organization id and task id; plain lines in development.
+LOG_FORMAT = env_str("LOG_FORMAT", "plain" if DEBUG else "json")
+if LOG_FORMAT not in {"plain", "json"}:
+    raise ImproperlyConfigured(f"LOG_FORMAT must be plain or json, not {LOG_FORMAT!r}")
 LOGGING = {
     "version": 1,
     "disable_existing_loggers": False,
-    "handlers": {"console": {"class": "logging.StreamHandler"}},
+    "filters": {"context": {"()": "survey.logs.ContextFilter"}},
+    "formatters": {
+        "json": {"()": "survey.logs.JsonFormatter"},
+        "plain": {"format": "%(asctime)s %(levelname)s %(name)s %(message)s"},
+    },
+    "handlers": {
+        "console": {
+            "class": "logging.StreamHandler",
+            "filters": ["context"],
+            "formatter": LOG_FORMAT,
+        }
+    },
     "root": {"handlers": ["console"], "level": env_str("LOG_LEVEL", "WARNING")},
 }
+# Workers log through the same handler instead of Celery's own format.
+CELERY_WORKER_HIJACK_ROOT_LOGGER = LOG_FORMAT == "plain"
+
+# Error reports to a Sentry-protocol service (Sentry, GlitchTip…): off unless SENTRY_DSN is
+# set. No personal data is sent (no cookies, no user names, no IP addresses).
+SENTRY_DSN = env_str("SENTRY_DSN", "")
+if SENTRY_DSN:
+    import sentry_sdk
+
+    sentry_sdk.init(
+        dsn=SENTRY_DSN,
+        environment=env_str("SENTRY_ENVIRONMENT", "production"),
+        send_default_pii=False,
+        traces_sample_rate=0.0,
+    )
+
+# Periodic jobs, run by `celery -A survey.celery beat` (one beat process per installation).
+# Every job is idempotent and safe to run twice at once; each area adds its own entries.
+PURGE_DELETED_AFTER_DAYS = env_int("PURGE_DELETED_AFTER_DAYS", 30)
+SHARE_LINK_KEEP_DAYS = env_int("SHARE_LINK_KEEP_DAYS", 90)
+PERIODIC_JOB_INTERVAL_SECONDS = env_int("PERIODIC_JOB_INTERVAL_SECONDS", 3600)
+CELERY_BEAT_SCHEDULE = globals().get("CELERY_BEAT_SCHEDULE", {})
+CELERY_BEAT_SCHEDULE.update(
+    {
+        "purge-deleted-surveys": {
+            "task": "survey.tasks.purge_deleted_surveys",
+            "schedule": float(PERIODIC_JOB_INTERVAL_SECONDS),
+            # A run queued while no worker was up is dropped; the next one does the work.
+            "options": {"expires": PERIODIC_JOB_INTERVAL_SECONDS},
+        },
+        "expire-share-links": {
+            "task": "reports.tasks.expire_share_links",
+            "schedule": float(PERIODIC_JOB_INTERVAL_SECONDS),
+            "options": {"expires": PERIODIC_JOB_INTERVAL_SECONDS},
+        },
+    }
+)

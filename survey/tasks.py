@@ -26,3 +26,16 @@ def process_thermogram(self, thermogram_id: int) -> str | None:
 
         thermogram_propose_after_processing(thermogram_id)
     return status
+
+
+@shared_task(ignore_result=True)
+def purge_deleted_surveys() -> int:
+    """Periodic (Celery beat): purge surveys deleted longer ago than the retention period.
+
+    Safe to run twice at once: each survey is purged under a row lock that the other run skips.
+    """
+    from django.conf import settings
+
+    from survey.services.retention import surveys_purge_due
+
+    return surveys_purge_due(days=settings.PURGE_DELETED_AFTER_DAYS)

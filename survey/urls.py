@@ -8,6 +8,7 @@ from survey.views import (
     api,
     audit,
     findings,
+    health,
     instruments,
     loggers,
     mark_templates,
@@ -148,6 +149,7 @@ field_patterns = [
 survey_patterns = page_patterns + api_patterns + judgement_patterns + field_patterns
 
 urlpatterns = [
+    path("healthz", health.healthz, name="healthz"),
     path("admin/", admin.site.urls),
     path("accounts/login/", ThrottledLoginView.as_view(), name="login"),
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),

@@ -219,3 +219,42 @@ def electrical_survey(org, site, thermographer) -> Survey:
 def scratch_dir():
     with tempfile.TemporaryDirectory() as path:
         yield path
+
+
+@pytest.fixture(scope="session")
+def collected_static(tmp_path_factory):
+    """STATIC_ROOT as the Docker image has it: `collectstatic` run once for the session."""
+    from tests.processes import collectstatic
+
+    root = tmp_path_factory.mktemp("staticfiles")
+    collectstatic(root)
+    return root
+
+
+@pytest.fixture(scope="session")
+def s3_endpoint(tmp_path_factory):
+    """A loopback S3 API (moto's server, started here on a free port) for the session."""
+    from tests.objectstore import start_s3_server, stop_process
+
+    try:
+        import moto  # noqa: F401
+    except ImportError:
+        require_service("The loopback S3 server (moto)", None, 0)
+    log_path = tmp_path_factory.mktemp("s3") / "moto.log"
+    process, endpoint = start_s3_server(log_path)
+    yield endpoint
+    stop_process(process)
+
+
+@pytest.fixture
+def s3_media(s3_endpoint, settings, monkeypatch):
+    """This test process keeps its media in a new bucket, as MEDIA_STORAGE=s3 does."""
+    from survey.settings import media_storages
+    from tests.objectstore import make_bucket, s3_environment
+
+    bucket = make_bucket(s3_endpoint, versioned=True)
+    environment = s3_environment(s3_endpoint, bucket)
+    for name, value in environment.items():
+        monkeypatch.setenv(name, value)
+    settings.STORAGES = {**settings.STORAGES, **media_storages("s3")}
+    return environment

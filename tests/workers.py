@@ -39,6 +39,7 @@ def start_worker(
     media_root: str,
     log_path: Path,
     pool: str = "solo",
+    name: str = "",
     **environment: str,
 ) -> subprocess.Popen:
     """A worker process with one child, logging to `log_path` (appended)."""
@@ -54,6 +55,8 @@ def start_worker(
     celery = Path(sys.executable).with_name("celery")
     command = [str(celery), "-A", "survey.celery", "worker", f"--pool={pool}", "-c", "1"]
     command += ["-l", "INFO", "--without-gossip", "--without-mingle", "--without-heartbeat"]
+    if name:
+        command += ["-n", name]
     with open(log_path, "ab") as log:
         return subprocess.Popen(command, cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT)
 

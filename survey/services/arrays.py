@@ -1,23 +1,27 @@
 """Read a thermogram's decoded °C array, with a small in-process cache.
 
-The cache key is the file path plus its modification time and size, so a re-processed
-thermogram (its array rewritten by rename) is never served stale.
+The cache key is the file name plus its modification time and size (on a folder) or the
+time the row says it was processed (in a bucket), so a re-processed thermogram is never
+served stale.
 """
 
 import hashlib
+import io
 import os
 import threading
 from collections import OrderedDict
 from dataclasses import dataclass
 
 import numpy as np
+from django.core.files.storage import default_storage
 
 from survey.models import Thermogram
+from survey.storage import media_is_local, media_read
 
 CACHE_ENTRIES = 8
 ENCODINGS = ("float32", "float16")
 
-_cache: OrderedDict[tuple[str, int, int], np.ndarray] = OrderedDict()
+_cache: OrderedDict[tuple[str, str, int], np.ndarray] = OrderedDict()
 _lock = threading.Lock()
 
 
@@ -32,23 +36,24 @@ def thermogram_temperatures(thermogram: Thermogram) -> np.ndarray:
             f"Thermogram {thermogram.pk} has no temperature array yet "
             f"(status: {thermogram.get_status_display()})."
         )
-    path = thermogram.array.path
+    name = thermogram.array.name
     try:
-        stat = os.stat(path)
+        key = _cache_key(thermogram)
     except FileNotFoundError:
-        raise ThermogramNotReady(
-            f"The temperature array of thermogram {thermogram.pk} is missing; re-process it."
-        ) from None
-    key = (path, stat.st_mtime_ns, stat.st_size)
+        raise _missing(thermogram) from None
     with _lock:
         cached = _cache.get(key)
         if cached is not None:
             _cache.move_to_end(key)
             return cached
-    array = np.load(path, allow_pickle=False).astype(np.float32, copy=False)
+    try:
+        data = media_read(name)
+    except FileNotFoundError:
+        raise _missing(thermogram) from None
+    array = np.load(io.BytesIO(data), allow_pickle=False).astype(np.float32, copy=False)
     array.setflags(write=False)
     with _lock:
-        for old in [k for k in _cache if k[0] == path]:
+        for old in [k for k in _cache if k[0] == name]:
             del _cache[old]
         _cache[key] = array
         while len(_cache) > CACHE_ENTRIES:
@@ -84,6 +89,27 @@ def thermogram_array_digest(thermogram: Thermogram) -> str:
     )
     thermogram.array_sha256 = value
     return value
+
+
+def _cache_key(thermogram: Thermogram) -> tuple[str, str, int]:
+    """On a folder the file's modification time and size; in a bucket (where asking costs a
+    request) the time the row says the array was last written."""
+    name = thermogram.array.name
+    if media_is_local():
+        stat = os.stat(default_storage.path(name))
+        return (name, str(stat.st_mtime_ns), stat.st_size)
+    return (name, str(thermogram.processed_at), 0)
+
+
+def _missing(thermogram: Thermogram) -> ThermogramNotReady:
+    return ThermogramNotReady(
+        f"The temperature array of thermogram {thermogram.pk} is missing; re-process it."
+    )
+
+
+def clear_cache() -> None:
+    with _lock:
+        _cache.clear()
 
 
 @dataclass(frozen=True)

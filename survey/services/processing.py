@@ -2,22 +2,18 @@
 
 `thermogram_process` (run by survey.tasks.process_thermogram) claims the row, checks the
 original against its sha256, decodes it to a °C array and renders the preview and
-thumbnail. Derived files are written under a temporary name and renamed, so a retry never
-leaves half a file.
+thumbnail. Derived files are replaced whole (survey/storage.py: a rename on a folder, one
+PUT on a bucket), so a retry never leaves half a file.
 """
 
 import datetime
 import hashlib
 import io
 import logging
-import os
-import tempfile
-from pathlib import Path
 from typing import Any
 
 import numpy as np
 from django.conf import settings
-from django.core.files.storage import default_storage
 from django.utils import timezone
 from PIL import Image
 
@@ -26,6 +22,7 @@ from survey.models import Thermogram
 from survey.services.audit import audit_record
 from survey.services.loggers import capture_time_from_file
 from survey.services.marks import marks_recompute
+from survey.storage import media_read, media_remove_partial, media_replace
 from survey.thermal.drawing import encode_png
 
 logger = logging.getLogger(__name__)
@@ -98,21 +95,6 @@ def decode_original(data: bytes, name: str, decode_settings: dict) -> np.ndarray
     )
 
 
-def _replace_file(relative_path: str, data: bytes) -> str:
-    """Write media atomically: a temporary file in the same folder, then a rename."""
-    target = Path(default_storage.path(relative_path))
-    target.parent.mkdir(parents=True, exist_ok=True)
-    handle, temporary = tempfile.mkstemp(dir=target.parent, prefix=".tmp-", suffix=target.suffix)
-    try:
-        with os.fdopen(handle, "wb") as out:
-            out.write(data)
-        os.replace(temporary, target)
-    except BaseException:
-        Path(temporary).unlink(missing_ok=True)
-        raise
-    return relative_path
-
-
 def _derived_path(thermogram: Thermogram, name: str) -> str:
     return f"derived/{thermogram.organization_id}/{thermogram.pk}/{name}"
 
@@ -120,9 +102,7 @@ def _derived_path(thermogram: Thermogram, name: str) -> str:
 def _remove_partial_files(thermogram: Thermogram) -> None:
     """A worker killed while writing leaves its temporary file; the next claim holder clears
     it (no one else writes here: the time limit ends a worker before its job counts stalled)."""
-    folder = Path(default_storage.path(_derived_path(thermogram, "")))
-    for leftover in folder.glob(".tmp-*"):
-        leftover.unlink(missing_ok=True)
+    media_remove_partial(_derived_path(thermogram, ""))
 
 
 def display_span(thermogram: Thermogram, temperatures: np.ndarray) -> tuple[float, float]:
@@ -135,13 +115,13 @@ def display_span(thermogram: Thermogram, temperatures: np.ndarray) -> tuple[floa
 def write_images(thermogram: Thermogram, temperatures: np.ndarray) -> None:
     low, high = display_span(thermogram, temperatures)
     picture = Image.fromarray(thermal.render(temperatures, thermogram.palette, low, high))
-    thermogram.preview.name = _replace_file(
+    thermogram.preview.name = media_replace(
         _derived_path(thermogram, "preview.png"),
         encode_png(picture, compress_level=PNG_COMPRESS_LEVEL),
     )
     # Box filtering is exact for shrinking and several times faster than Lanczos here.
     picture.thumbnail((THUMBNAIL_SIZE, THUMBNAIL_SIZE), Image.Resampling.BOX)
-    thermogram.thumbnail.name = _replace_file(
+    thermogram.thumbnail.name = media_replace(
         _derived_path(thermogram, "thumbnail.png"),
         encode_png(picture, compress_level=PNG_COMPRESS_LEVEL),
     )
@@ -153,17 +133,22 @@ def thermogram_process(thermogram_id: int) -> str | None:
     if not _claim(thermogram_id):
         return None
     thermogram = Thermogram.objects.select_related("organization").get(pk=thermogram_id)
+    logger.info(
+        "Processing thermogram %s",
+        thermogram_id,
+        extra={"organization_id": thermogram.organization_id, "thermogram_id": thermogram_id},
+    )
     _remove_partial_files(thermogram)
     try:
-        if file_sha256(thermogram.original) != thermogram.original_sha256:
+        # One read serves the check and the decoding (one GET when media are in a bucket).
+        data = media_read(thermogram.original.name)
+        if hashlib.sha256(data).hexdigest() != thermogram.original_sha256:
             _finish(
                 thermogram_id,
                 Thermogram.Status.DAMAGED,
                 error="The stored original no longer matches its sha256; upload it again.",
             )
             return Thermogram.Status.DAMAGED
-        with thermogram.original.open("rb") as handle:
-            data = handle.read()
         temperatures = decode_original(data, thermogram.original_name, thermogram.decode_settings)
         _check_array(temperatures)
         tagged = (
@@ -173,7 +158,7 @@ def thermogram_process(thermogram_id: int) -> str | None:
         buffer = io.BytesIO()
         np.save(buffer, temperatures, allow_pickle=False)
         array_bytes = buffer.getvalue()
-        array_name = _replace_file(_derived_path(thermogram, "temperatures.npy"), array_bytes)
+        array_name = media_replace(_derived_path(thermogram, "temperatures.npy"), array_bytes)
         write_images(thermogram, temperatures)
         # Marks read the new numbers, never the statistics of an earlier decoding.
         marks_recompute(thermogram=thermogram, temperatures=temperatures)

@@ -8,7 +8,8 @@ import datetime
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.core.exceptions import ValidationError
-from django.db.models import Count, Prefetch
+from django.core.paginator import Paginator
+from django.db.models import Count
 from django.http import HttpRequest, HttpResponse, JsonResponse
 from django.shortcuts import redirect, render
 from django.urls import reverse
@@ -161,8 +162,15 @@ def survey_edit(request: HttpRequest, pk: int) -> HttpResponse:
     return render(request, "survey/survey_form.html", {"form": form, "survey": survey})
 
 
+THERMOGRAMS_PER_PAGE = 60
+
+
 def _survey_thermograms(survey: Survey):
-    return survey.thermograms.select_related("asset").annotate(mark_count=Count("marks"))
+    return (
+        survey.thermograms.select_related("asset")
+        .annotate(mark_count=Count("marks"))
+        .order_by("sequence", "id")
+    )
 
 
 @login_required
@@ -174,13 +182,16 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
         .select_related(
             "site__client", "conditions", "thermographer__user", "reviewer__user", "camera"
         )
-        .prefetch_related(Prefetch("thermograms", queryset=_survey_thermograms(survey)))
         .get(pk=survey.pk)
     )
     upload_form = UploadForm(
         unit=member.temperature_unit, assets=assets_for(member).filter(site=survey.site_id)
     )
-    thermograms = list(survey.thermograms.all())
+    # A day's import can be a thousand thermograms: the page shows them sixty at a time.
+    page = Paginator(_survey_thermograms(survey), THERMOGRAMS_PER_PAGE).get_page(
+        request.GET.get("page")
+    )
+    thermograms = list(page.object_list)
     logger_rows = loggers.survey_log_summary(survey)
     for thermogram in thermograms:
         thermogram.stalled = processing.thermogram_is_stalled(thermogram)
@@ -193,6 +204,7 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
     context = {
         "survey": survey,
         "thermograms": thermograms,
+        "page": page,
         "upload_form": upload_form,
         "conditions_checks": conditions_check(survey),
         "ifov_mrad": ifov_mrad,

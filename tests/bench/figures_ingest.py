@@ -119,8 +119,8 @@ def figure_ingest_eager(floor_per_file_s: float | None, repeat: int = 3) -> Row:
     return _row("eager", timing, floor_per_file_s, note)
 
 
-def start_worker(environment: BenchEnvironment) -> subprocess.Popen:
-    log = open(environment.workdir / "celery-worker.log", "wb")  # noqa: SIM115 - lives with the worker
+def start_worker(environment: BenchEnvironment, name: str = "bench") -> subprocess.Popen:
+    log = open(environment.workdir / f"celery-{name}.log", "wb")  # noqa: SIM115 - lives with the worker
     command = [
         sys.executable,
         "-m",
@@ -133,6 +133,8 @@ def start_worker(environment: BenchEnvironment) -> subprocess.Popen:
         "--without-gossip",
         "--without-mingle",
         "--without-heartbeat",
+        "-n",
+        f"{name}@%h",
     ]
     return subprocess.Popen(
         command,
@@ -169,3 +171,49 @@ def figure_ingest_worker(
         stop(worker)
     note = "one solo worker decodes while this process stores the uploads; ends at the last ready"
     return _row("Redis + celery worker --pool=solo", timing, floor_per_file_s, note)
+
+
+SCALE_FILES = 200
+
+
+def figure_ingest_two_workers(environment: BenchEnvironment, floor_per_file_s: float | None) -> Row:
+    """200 uploads of 640×480 through Redis to two workers that read and write the bucket.
+
+    The wall time runs from the first upload to the last thermogram ready; this process
+    stores the uploads while the workers already decode. The floor is the decode+render
+    time of one file (measured in this run) shared by two workers: what two cores would
+    need if nothing but decoding and drawing cost anything.
+    """
+    workers = [start_worker(environment, name=f"bench{i}") for i in (1, 2)]
+    _set_eager(False)
+    try:
+        survey = empty_survey("bench ingest (two workers)")
+        warm = ingest(survey, tiff_files(4, start=0))
+        _wait_until_finished(warm, WORKER_START_TIMEOUT_S)
+        _check_ready(warm)
+        files = tiff_files(SCALE_FILES, start=10_000)
+        gc.collect()
+        start = time.perf_counter()
+        ids = ingest(survey, files)
+        stored = time.perf_counter() - start
+        _wait_until_finished(ids, BATCH_TIMEOUT_S * 2)
+        wall = time.perf_counter() - start
+        _check_ready(ids)
+    finally:
+        _set_eager(True)
+        for worker in workers:
+            stop(worker)
+    floor = None if floor_per_file_s is None else floor_per_file_s / 2 * 1e3
+    media = "S3 bucket on loopback" if environment.s3_endpoint else "local folder"
+    return Row(
+        f"ingest {SCALE_FILES} files 640×480, 2 workers",
+        wall / SCALE_FILES * 1e3,
+        "ms/file",
+        floor,
+        max_ratio=1.5,
+        note=(
+            f"{SCALE_FILES / wall:.1f} files/s; uploads stored in {stored:.1f} s of {wall:.1f} s; "
+            f"media in {media}; 2 cores shared by uploader, workers, PostgreSQL, Redis, S3"
+        ),
+        details={"files_per_s": SCALE_FILES / wall, "wall_s": wall, "store_s": stored},
+    )

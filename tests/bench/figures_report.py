@@ -1,4 +1,4 @@
-"""Report PDFs of 10 and 50 thermograms against WeasyPrint on a bare HTML file.
+"""Report PDFs of 10, 50 and 200 thermograms against WeasyPrint on a bare HTML file.
 
 The floor is WeasyPrint alone on a plain page per thermogram holding the same print-size
 JPEG and a table of the same readings: what any report of that content must cost. Each

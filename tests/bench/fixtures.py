@@ -75,13 +75,17 @@ def ingest(survey, files: list) -> list[int]:
     ]
 
 
-def survey_with_thermograms(title: str, count: int, *, distinct: int = 10, marks: int = 3):
+def survey_with_thermograms(
+    title: str, count: int, *, distinct: int = 10, marks: int = 3, share_arrays: bool = False
+):
     """A survey of `count` 640×480 thermograms with `marks` marks each.
 
     The first `distinct` go through the real (eager) upload pipeline and get their marks
     through the service; the others are copies of those rows, each with its own array file
-    (a hard link: a separate path, so the array cache sees separate thermograms). That builds
-    a 200-thermogram survey in seconds instead of minutes; ingest is measured on its own.
+    (a hard link on a folder, a server-side copy in a bucket: a separate name, so the array
+    cache sees separate thermograms), or with `share_arrays` the template's own file (for
+    pages that never read arrays). That builds a 200-thermogram survey in seconds instead of
+    minutes; ingest is measured on its own.
     """
     from survey.models import Thermogram
 
@@ -91,31 +95,44 @@ def survey_with_thermograms(title: str, count: int, *, distinct: int = 10, marks
     if any(not t.is_ready for t in templates):
         raise RuntimeError("a thermogram of the bench survey did not become ready")
     add_marks(survey, per_thermogram=marks)
-    clones = [_copy(templates[i % len(templates)], i + 1) for i in range(len(templates), count)]
-    Thermogram.objects.bulk_create(clones)
+    clones = [
+        _copy(templates[i % len(templates)], i + 1, share_arrays=share_arrays)
+        for i in range(len(templates), count)
+    ]
+    Thermogram.objects.bulk_create(clones, batch_size=500)
     _copy_marks(survey, templates)
     return survey
 
 
-def _copy(template, sequence: int):
-    """An unsaved copy of a ready thermogram row, with its array linked under a new path."""
+def _copy(template, sequence: int, *, share_arrays: bool = False):
+    """An unsaved copy of a ready thermogram row, with its array under a new name."""
     import os
     import shutil
     from pathlib import Path
 
     from django.core.files.storage import default_storage
 
+    from survey.storage import media_is_local
+
     clone = type(template).objects.get(pk=template.pk)
     clone.pk = None
     clone.sequence = sequence
     clone.original_name = f"IR_{sequence:04d}.tif"
+    if share_arrays:
+        return clone
     name = f"derived/{template.organization_id}/copy-{template.survey_id}-{sequence}/celsius.npy"
-    target = Path(default_storage.path(name))
-    target.parent.mkdir(parents=True, exist_ok=True)
-    try:
-        os.link(template.array.path, target)
-    except OSError:
-        shutil.copyfile(template.array.path, target)
+    if media_is_local():
+        target = Path(default_storage.path(name))
+        target.parent.mkdir(parents=True, exist_ok=True)
+        try:
+            os.link(default_storage.path(template.array.name), target)
+        except OSError:
+            shutil.copyfile(default_storage.path(template.array.name), target)
+    else:
+        bucket = default_storage.bucket_name
+        default_storage.connection.meta.client.copy_object(
+            Bucket=bucket, Key=name, CopySource={"Bucket": bucket, "Key": template.array.name}
+        )
     clone.array.name = name
     return clone
 

@@ -440,7 +440,7 @@ def test_it_answers_each_route_as_the_matrix_says(
 
 def test_it_sends_anonymous_visitors_of_every_page_to_sign_in(client):
     """Routes without an id too: every page but sign-in and share links asks to sign in."""
-    public = {"login", "reports:share", "reports:share_download"}
+    public = {"login", "reports:share", "reports:share_download", "healthz"}
     for name, _route, converters in _routes(get_resolver()):
         if converters or name in public:
             continue
@@ -467,6 +467,23 @@ def test_it_never_serves_an_uploaded_file_as_html(owner_client, envelope_survey)
         assert response["X-Content-Type-Options"] == "nosniff", name
     original = owner_client.get(reverse("survey:thermogram_original", args=[thermogram.pk]))
     assert original["Content-Disposition"].startswith("attachment"), original["Content-Disposition"]
+
+
+def test_it_answers_the_health_check_to_anyone_and_shows_no_data(world, outsider):
+    """/healthz needs no sign-in and says only which dependency answered, and how fast."""
+    for http in (HttpClient(), _signed_in(outsider), _signed_in(world.survey.thermographer)):
+        response = http.get(reverse("healthz"))
+        assert response.status_code == 200
+        assert response["Content-Type"] == "application/json"
+        assert "no-cache" in response["Cache-Control"]
+        assert "sessionid" not in response.cookies and "csrftoken" not in response.cookies
+        body = response.json()
+        assert set(body) == {"status", "checks"} and body["status"] == "ok"
+        assert set(body["checks"]) == {"database", "broker", "storage"}
+        for result in body["checks"].values():
+            assert set(result) == {"ok", "ms"} and result["ok"] is True and result["ms"] >= 0
+        text = response.content.decode()
+        assert [secret for secret in SECRETS if secret in text] == []
 
 
 def test_it_lets_only_admins_see_the_audit_log(

@@ -128,12 +128,13 @@ def _production_environment() -> dict:
     return environment
 
 
-def test_it_sets_secure_cookies_and_hsts_when_debug_is_off():
+def test_it_sets_secure_cookies_and_hsts_when_debug_is_off(collected_static):
     """With DEBUG=0: HTTPS redirect, HSTS for a year, cookies marked Secure."""
     result = subprocess.run(
         [sys.executable, "-c", PRODUCTION_PROBE],
         cwd=ROOT,
-        env=_production_environment(),
+        # Pages name hashed static files, as in the image where collectstatic has run.
+        env=dict(_production_environment(), STATIC_ROOT=str(collected_static)),
         capture_output=True,
         text=True,
         timeout=120,

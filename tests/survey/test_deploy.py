@@ -17,40 +17,103 @@ def compose() -> dict:
     return yaml.safe_load((ROOT / "docker-compose.yml").read_text())
 
 
-def test_it_defines_the_four_services_with_health_checks():
-    """web, worker, redis and postgres each have a health check and a restart policy."""
+LONG_RUNNING = {"proxy", "web", "worker", "beat", "objects", "redis", "postgres"}
+ONE_SHOT = {"migrate", "bucket"}
+
+
+def test_it_defines_the_services_with_health_checks():
+    """Every long-running service has a health check and restarts; one-shots run once."""
     services = compose()["services"]
-    assert set(services) == {"web", "worker", "redis", "postgres"}
-    for name, service in services.items():
-        assert service["healthcheck"]["test"], name
-        assert service["restart"] == "unless-stopped", name
+    assert set(services) == LONG_RUNNING | ONE_SHOT
+    for name in LONG_RUNNING:
+        assert services[name]["healthcheck"]["test"], name
+        assert services[name]["restart"] == "unless-stopped", name
+    for name in ONE_SHOT:
+        assert services[name]["restart"] == "no", name
     assert "gunicorn" in services["web"]["command"]
     assert "celery -A survey.celery worker" in services["worker"]["command"]
     assert "--max-tasks-per-child" in services["worker"]["command"]
+    assert services["migrate"]["command"] == "python manage.py migrate --noinput"
+    for name in ("web", "worker", "beat"):
+        depends = services[name]["depends_on"]
+        assert depends["migrate"]["condition"] == "service_completed_successfully", name
+        assert depends["bucket"]["condition"] == "service_completed_successfully", name
+
+
+def test_it_checks_the_web_service_through_healthz():
+    """The web health check asks /healthz with an allowed host name; urlopen fails on 503."""
+    test = " ".join(compose()["services"]["web"]["healthcheck"]["test"])
+    assert "http://127.0.0.1:8000/healthz" in test
+    assert "ALLOWED_HOSTS" in test and "urlopen" in test
+
+
+def test_it_runs_celery_beat_as_its_own_service():
+    """One beat service runs the periodic jobs; web and workers do not run beat themselves."""
+    services = compose()["services"]
+    assert services["beat"]["command"].startswith("celery -A survey.celery beat")
+    assert "deploy" not in services["beat"]  # one beat per stack, never replicated
+    assert (
+        "--beat" not in services["worker"]["command"] and " -B" not in services["worker"]["command"]
+    )
+
+
+def test_it_lets_only_the_proxy_reach_gunicorn():
+    """Only the proxy publishes ports; gunicorn sits on an internal network with it."""
+    data = compose()
+    services = data["services"]
+    published = {name for name, service in services.items() if service.get("ports")}
+    assert published == {"proxy"}
+    assert data["networks"]["frontend"]["internal"] is True
+    on_frontend = {name for name, s in services.items() if "frontend" in s.get("networks", [])}
+    assert on_frontend == {"proxy", "web"}
+    environment = services["web"]["environment"]
+    assert environment["TRUSTED_PROXY_HEADER"] == "HTTP_X_FORWARDED_FOR"
+    assert environment["TRUSTED_PROXY_COUNT"] == "1"
+    caddyfile = (ROOT / ".docker" / "Caddyfile").read_text()
+    assert "reverse_proxy web:8000" in caddyfile
+    assert "./.docker/Caddyfile:/etc/caddy/Caddyfile:ro" in services["proxy"]["volumes"]
 
 
 def test_it_keeps_the_database_and_media_in_volumes():
-    """The database and media survive a container rebuild."""
+    """The database and the object store survive a container rebuild; media go to the bucket."""
     data = compose()
-    assert {"db", "media"} <= set(data["volumes"])
+    assert {"db", "objects", "redis"} <= set(data["volumes"])
     services = data["services"]
     assert "db:/var/lib/postgresql/data" in services["postgres"]["volumes"]
-    for name in ("web", "worker"):
-        assert "media:/data/media" in services[name]["volumes"], name
-        assert services[name]["environment"]["MEDIA_ROOT"] == "/data/media"
+    assert "objects:/data" in services["objects"]["volumes"]
+    for name in ("web", "worker", "beat"):
+        environment = services[name]["environment"]
+        assert environment["MEDIA_STORAGE"] == "s3", name
+        assert environment["S3_ENDPOINT_URL"] == "${S3_ENDPOINT_URL:-http://objects:9000}", name
+        assert "volumes" not in services[name], f"{name} keeps nothing on its own disk"
+    assert "mc version enable" in services["bucket"]["command"][0]
 
 
 def test_it_requires_the_secrets():
-    """SECRET_KEY, ALLOWED_HOSTS and the database password have no default."""
+    """SECRET_KEY, ALLOWED_HOSTS, the database password and the bucket keys have no default."""
     services = compose()["services"]
     environment = services["web"]["environment"]
     assert environment["SECRET_KEY"] == "${SECRET_KEY:?set SECRET_KEY}"
     assert environment["ALLOWED_HOSTS"].startswith("${ALLOWED_HOSTS:?")
+    assert environment["AWS_SECRET_ACCESS_KEY"].startswith("${AWS_SECRET_ACCESS_KEY:?")
     assert environment["DEBUG"] == "0"
     assert services["postgres"]["environment"]["POSTGRES_PASSWORD"].startswith(
         "${POSTGRES_PASSWORD:?"
     )
     assert services["web"]["depends_on"]["postgres"]["condition"] == "service_healthy"
+
+
+def test_it_builds_the_image_from_the_runtime_requirements_only():
+    """The image installs requirements.txt (no test tools) and collects static files."""
+    dockerfile = (ROOT / ".docker" / "Dockerfile").read_text()
+    assert "pip install --no-cache-dir -r requirements.txt" in dockerfile
+    assert "requirements-dev" not in dockerfile
+    assert re.search(r"RUN DEBUG=0 .*manage\.py collectstatic --noinput", dockerfile)
+    runtime = (ROOT / "requirements.txt").read_text().lower()
+    for tool in ("pytest", "selenium", "hypothesis", "scipy", "psychrolib", "ruff", "moto"):
+        assert tool not in runtime, tool
+    development = (ROOT / "requirements-dev.txt").read_text()
+    assert development.splitlines()[1] == "-r requirements.txt"
 
 
 def test_it_lists_every_setting_in_the_env_example():

@@ -213,6 +213,39 @@ def test_it_runs_a_constant_number_of_queries_on_the_survey_page(
     assert response.content.decode().count('class="thermogram ') == 30
 
 
+def test_it_shows_a_large_survey_sixty_thermograms_at_a_time(
+    owner_client, envelope_survey, django_assert_max_num_queries, settings
+):
+    """65 thermograms: 60 on page 1, 5 on page 2, with the same queries as a small survey."""
+    from survey.models import Thermogram
+
+    first = make_thermogram(envelope_survey, array=np.zeros((4, 4)))
+    url = reverse("survey:survey", args=[envelope_survey.pk])
+    from django.db import connection
+    from django.test.utils import CaptureQueriesContext
+
+    with CaptureQueriesContext(connection) as small:
+        owner_client.get(url)
+    copies = []
+    for sequence in range(2, 66):
+        copy = Thermogram.objects.get(pk=first.pk)
+        copy.pk, copy.sequence, copy.original_name = None, sequence, f"IR_{sequence:04d}.npy"
+        copy.original_sha256 = f"{sequence:064x}"
+        copies.append(copy)
+    Thermogram.objects.bulk_create(copies)
+    with django_assert_max_num_queries(len(small.captured_queries) + 1):  # + the page count
+        page_one = owner_client.get(url).content.decode()
+    assert page_one.count('class="thermogram ') == 60
+    assert "Thermograms 1–60 of 65 (page 1 of 2)" in page_one
+    assert 'href="?page=2#thermograms" rel="next"' in page_one
+    page_two = owner_client.get(url, {"page": "2"}).content.decode()
+    assert page_two.count('class="thermogram ') == 5
+    assert "IR_0065.npy" in page_two and "IR_0060.npy" not in page_two
+    # A page number that is not one shows the first or last page, never an error.
+    assert owner_client.get(url, {"page": "x"}).status_code == 200
+    assert owner_client.get(url, {"page": "999"}).content.decode().count("IR_0065.npy") == 1
+
+
 def test_it_uploads_many_files_and_names_the_rejected_ones(
     thermographer_client, envelope_survey, django_capture_on_commit_callbacks
 ):
