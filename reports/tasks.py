@@ -37,6 +37,6 @@ def expire_share_links() -> int:
 
     Safe to run twice at once: rows one run holds are skipped by the other.
     """
-    from reports.services import share_links_expire
+    from reports.retention import share_links_expire
 
     return share_links_expire(keep_days=settings.SHARE_LINK_KEEP_DAYS)

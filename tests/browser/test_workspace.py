@@ -71,9 +71,16 @@ def browser():
 
 
 def wait_for(condition, timeout=10.0, message="condition"):
+    from django.db import OperationalError
+
     deadline = time.monotonic() + timeout
     while time.monotonic() < deadline:
-        value = condition()
+        try:
+            value = condition()
+        except OperationalError:
+            # SQLite's shared in-memory test database locks a table while the live server
+            # writes it; the read is simply tried again.
+            value = None
         if value:
             return value
         time.sleep(0.05)
@@ -337,6 +344,15 @@ def test_it_undoes_and_redoes_mark_edits_and_keeps_a_mark_a_finding_uses(
             By.CSS_SELECTOR, f"#ws-table-body tr[data-label={label}] button.ws-label"
         ).click()
 
+    def ready_to(word):
+        """Wait until the toolbar offers `word` ("Undo: move or reshape mark B"): the edit
+        before has finished and been recorded, so the key press acts on it."""
+        button = browser.find_element(By.ID, "ws-redo" if word.startswith("Redo") else "ws-undo")
+        wait_for(
+            lambda: button.is_enabled() and (button.get_attribute("title") or "").startswith(word),
+            message=f"the toolbar to offer {word!r}",
+        )
+
     def undo(shift=False):
         keys = ActionChains(browser).key_down(Keys.CONTROL)
         if shift:
@@ -362,12 +378,15 @@ def test_it_undoes_and_redoes_mark_edits_and_keeps_a_mark_a_finding_uses(
     wait_for(lambda: _alert(browser), message="the question").accept()
     wait_for(lambda: len(table_rows(browser)) == 1, message="B deleted")
     canvas.click()
+    ready_to("Undo: delete mark B")
     undo()
     wait_for(lambda: len(table_rows(browser)) == 2, message="B back")
     again = Mark.objects.get(thermogram=thermogram, label="B")
     assert (again.name, again.points) == ("L1", [[100.0, 38.0], [124.0, 58.0]])
+    ready_to("Redo: delete mark B")
     undo(shift=True)
     wait_for(lambda: len(table_rows(browser)) == 1, message="B deleted again")
+    ready_to("Undo: delete mark B")
     undo()
     wait_for(lambda: len(table_rows(browser)) == 2, message="B back again")
 
@@ -381,6 +400,7 @@ def test_it_undoes_and_redoes_mark_edits_and_keeps_a_mark_a_finding_uses(
         lambda: Mark.objects.get(thermogram=thermogram, label="B").points == moved,
         message="B moved",
     )
+    ready_to("Undo: move or reshape mark B")
     undo()
     wait_for(
         lambda: (

@@ -1,7 +1,7 @@
 /* The inspector's hands: pointer and keyboard on the canvas, the tool buttons, the span,
    palette and zoom controls, the scale bar drag and the overlay switches. */
 
-import { goTo, setPalette } from "./loading.js";
+import { call } from "./hooks.js";
 import {
   createMark, deleteMark, finishPolygon, hitMark, hitVertex, select, selected, shiftMark,
   updateMark
@@ -215,7 +215,7 @@ document.addEventListener("keydown", function (event) {
   if (target && (target.tagName === "INPUT" || target.tagName === "TEXTAREA" || target.tagName === "SELECT")) { return; }
   var index = "123456".indexOf(event.key);
   if (index >= 0 && event.key.length === 1) { setTool(TOOLS[index]); return; }
-  if (event.key === "+") { zoomAt(1.25); } else if (event.key === "-") { zoomAt(0.8); } else if (event.key === "0") { fit(); } else if (event.key === "=") { oneToOne(); } else if (event.key === "PageUp") { event.preventDefault(); goTo("previous"); } else if (event.key === "PageDown") { event.preventDefault(); goTo("next"); }
+  if (event.key === "+") { zoomAt(1.25); } else if (event.key === "-") { zoomAt(0.8); } else if (event.key === "0") { fit(); } else if (event.key === "=") { oneToOne(); } else if (event.key === "PageUp") { event.preventDefault(); call("goTo", "previous"); } else if (event.key === "PageDown") { event.preventDefault(); call("goTo", "next"); }
 });
 
 document.querySelectorAll(".ws-tools button[data-tool]").forEach(function (button) {
@@ -242,7 +242,7 @@ export function setSpan(low, high, auto) {
 $("ws-low").addEventListener("change", function () { setSpan(fromUnit(parseFloat(this.value)), state.high); });
 $("ws-high").addEventListener("change", function () { setSpan(state.low, fromUnit(parseFloat(this.value))); });
 $("ws-auto").addEventListener("click", function () { var s = state.meta.display.auto_span; setSpan(s[0], s[1], true); });
-$("ws-palette").addEventListener("change", function () { setPalette(this.value); renderPicture(); });
+$("ws-palette").addEventListener("change", function () { call("setPalette", this.value); renderPicture(); });
 
 // The palette and span on screen become the thermogram's own: its preview, the survey
 // page's thumbnail and the report are drawn with them.

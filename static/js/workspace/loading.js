@@ -8,6 +8,7 @@ import { fit, renderPicture, resize } from "./rendering.js";
 import { api } from "./server.js";
 import { $, picture, root, state, fmtTU, status, unitLabel } from "./state.js";
 import { resetHistory } from "./undo.js";
+import { provide } from "./hooks.js";
 
 export function load(apiUrl, pushHistory) {
   status("Loading…");
@@ -120,3 +121,6 @@ export function goTo(which) {
   if (!meta || !meta.neighbours[which]) { return; }
   load(meta.neighbours[which].api, true);
 }
+
+provide("goTo", goTo);
+provide("setPalette", setPalette);

@@ -9,6 +9,7 @@ import { api } from "./server.js";
 import { $, canvas, state, HANDLE_PX, clampPixel, fmtT, fromUnit, status } from "./state.js";
 import { renderTable } from "./table.js";
 import { record, updateButtons } from "./undo.js";
+import { provide } from "./hooks.js";
 
 export function selected() {
   for (var i = 0; i < state.marks.length; i++) { if (state.marks[i].id === state.selectedId) { return state.marks[i]; } }
@@ -153,3 +154,7 @@ $("ws-ed-form").addEventListener("submit", function (event) {
   updateMark(mark, changes, null, before);
 });
 $("ws-ed-delete").addEventListener("click", function () { deleteMark(selected()); });
+
+provide("select", select);
+provide("selected", selected);
+provide("refreshTable", refreshTable);

@@ -1,6 +1,6 @@
 /* The readings table of the marks (every number from the server) and the line profile. */
 
-import { select, selected } from "./marks.js";
+import { call } from "./hooks.js";
 import { $, canvas, state, fmtDelta, fmtT, toUnit, unitLabel } from "./state.js";
 import { differenceToUnit } from "./units.js";
 import { decisionText, intervalText, marginText, riseText, surfaceRhText } from "./wording.js";
@@ -39,7 +39,7 @@ export function renderTable() {
     button.type = "button"; button.className = "secondary ws-label";
     button.textContent = mark.title || mark.label;
     button.title = "Pick mark " + (mark.title || mark.label) + " (" + mark.kind + ")";
-    button.addEventListener("click", function () { select(mark.id); canvas.focus(); });
+    button.addEventListener("click", function () { call("select", mark.id); canvas.focus(); });
     first.appendChild(button);
     first.appendChild(document.createTextNode(" " + mark.kind));
     row.appendChild(first);
@@ -94,7 +94,7 @@ export function renderTable() {
 }
 
 export function drawProfile() {
-  var mark = selected();
+  var mark = call("selected");
   if (!mark || mark.kind !== "line") {
     mark = state.marks.filter(function (m) { return m.kind === "line"; })[0];
   }

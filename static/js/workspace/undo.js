@@ -3,7 +3,7 @@
    buttons in the toolbar do the same. The history is per thermogram. */
 
 import * as H from "./history.js";
-import { refreshTable } from "./marks.js";
+import { call } from "./hooks.js";
 import { api } from "./server.js";
 import { $, state, status } from "./state.js";
 
@@ -71,7 +71,7 @@ function step(forward) {
     status(error.message, true);
   }).then(function () {
     busy = false;
-    return refreshTable();
+    return call("refreshTable");
   }).then(updateButtons);
 }
 
