@@ -97,7 +97,7 @@ def test_it_serves_every_script_and_stylesheet_behind_gunicorn(tmp_path, collect
             for specifier in imports:
                 queue.append(urljoin(url, specifier))
         # The plain name still answers, but only for a minute: a new release replaces it.
-        plain = browser.get("/static/js/workspace.js")
+        plain = browser.get("/static/js/workspace/main.js")
         assert plain.status_code == 200 and _max_age(plain) <= 60
         health = browser.get("/healthz")
         assert health.status_code == 200, health.text
