@@ -22,3 +22,11 @@ def process_thermogram(self, thermogram_id: int) -> str | None:
     if status is None and held.exists():
         raise self.retry(countdown=STALLED_AFTER.total_seconds() + 1)
     return status
+
+
+@shared_task(acks_late=True, reject_on_worker_lost=True, ignore_result=True)
+def render_previews(thermogram_id: int) -> bool:
+    """Draw a thermogram's preview and thumbnail again; drawing twice does no harm."""
+    from survey.services.processing import thermogram_render_previews
+
+    return thermogram_render_previews(thermogram_id)

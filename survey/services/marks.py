@@ -12,9 +12,11 @@ from django.contrib.auth.models import AbstractBaseUser
 from django.core.exceptions import ValidationError
 from django.db import transaction
 
-from survey.models import Mark, Thermogram, mark_label
+from survey.models import Mark, SpanRule, Thermogram, mark_label
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.audit import audit_record
+from survey.services.display import previews_enqueue
+from survey.services.locks import thermogram_check_unlocked
 from survey.thermal.alignment import affine_from_pairs
 
 MAX_MARKS_PER_THERMOGRAM = 200
@@ -35,6 +37,7 @@ EDITABLE_FIELDS = {
     "reference_kind",
     "reference_mark",
     "single_pixel",
+    "load_current_a",
 }
 
 
@@ -166,8 +169,17 @@ def _next_label(thermogram: Thermogram) -> str:
 
 
 def _lock(thermogram: Thermogram) -> Thermogram:
-    """Serialise mark writes of one thermogram (labels and the mark limit)."""
-    return Thermogram.objects.select_for_update().get(pk=thermogram.pk)
+    """Serialise mark writes of one thermogram (labels and the mark limit); refuse when an
+    issued report shows the thermogram."""
+    thermogram = Thermogram.objects.select_for_update().get(pk=thermogram.pk)
+    thermogram_check_unlocked(thermogram)
+    return thermogram
+
+
+def _marks_changed(thermogram: Thermogram) -> None:
+    """A span widened to the marks' extremes follows them: redraw the previews."""
+    if thermogram.span_rule == SpanRule.MARKS and thermogram.span_low_c is None:
+        previews_enqueue(thermogram.pk)
 
 
 @transaction.atomic
@@ -183,6 +195,7 @@ def mark_add(
     reference_kind: str = Mark.ReferenceKind.NONE,
     reference_mark: Mark | None = None,
     single_pixel: bool = False,
+    load_current_a: float | None = None,
 ) -> Mark:
     """Add a mark labelled with the next free letter, with its statistics cached."""
     thermogram = _lock(thermogram)
@@ -205,6 +218,7 @@ def mark_add(
         note=note or "",
         reference_kind=reference_kind,
         reference_mark=reference_mark,
+        load_current_a=load_current_a,
     )
     mark.full_clean()
     _clean_reference(mark)
@@ -217,6 +231,7 @@ def mark_add(
         obj=mark,
         detail={"thermogram": thermogram.pk, "label": mark.label, "kind": kind},
     )
+    _marks_changed(thermogram)
     return mark
 
 
@@ -247,6 +262,8 @@ def mark_update(*, mark: Mark, user: AbstractBaseUser | None, **changes: Any) ->
         obj=mark,
         detail={"thermogram": thermogram.pk, "label": mark.label, "fields": sorted(changes)},
     )
+    if {"points", "single_pixel"} & set(changes):
+        _marks_changed(thermogram)
     return mark
 
 
@@ -267,6 +284,7 @@ def mark_delete(*, mark: Mark, user: AbstractBaseUser | None) -> None:
         object_type="Mark",
         detail=detail | {"id": pk},
     )
+    _marks_changed(thermogram)
 
 
 def _alignment_matrix(pairs: list) -> list[list[float]]:

@@ -22,7 +22,8 @@ from django.utils import timezone
 from PIL import Image
 
 from survey import thermal
-from survey.models import Thermogram
+from survey.models import Mark, SpanRule, Thermogram
+from survey.services.arrays import thermogram_temperatures
 from survey.services.audit import audit_record
 from survey.thermal.drawing import encode_png
 
@@ -123,11 +124,26 @@ def _remove_partial_files(thermogram: Thermogram) -> None:
         leftover.unlink(missing_ok=True)
 
 
+def automatic_span(thermogram: Thermogram, temperatures: np.ndarray) -> tuple[float, float]:
+    """The span used when none is fixed, by the thermogram's span rule.
+
+    ``auto``: the 1st to 99th percentile (thermal.auto_span). ``marks``: that span widened
+    to the apparent minimum and maximum of every mark (cached on the marks), so no marked
+    hot or cold spot is clipped to the end colour.
+    """
+    low, high = thermal.auto_span(temperatures)
+    if thermogram.span_rule == SpanRule.MARKS and thermogram.pk:
+        extremes = []
+        for stats in Mark.objects.filter(thermogram=thermogram).values_list("stats", flat=True):
+            extremes += [(stats or {}).get("min_c"), (stats or {}).get("max_c")]
+        low, high = thermal.widen_span(low, high, [v for v in extremes if v is not None])
+    return float(low), float(high)
+
+
 def display_span(thermogram: Thermogram, temperatures: np.ndarray) -> tuple[float, float]:
     if thermogram.span_low_c is not None and thermogram.span_high_c is not None:
         return thermogram.span_low_c, thermogram.span_high_c
-    low, high = thermal.auto_span(temperatures)
-    return float(low), float(high)
+    return automatic_span(thermogram, temperatures)
 
 
 def write_images(thermogram: Thermogram, temperatures: np.ndarray) -> None:
@@ -143,6 +159,21 @@ def write_images(thermogram: Thermogram, temperatures: np.ndarray) -> None:
         _derived_path(thermogram, "thumbnail.png"),
         encode_png(picture, compress_level=PNG_COMPRESS_LEVEL),
     )
+
+
+def thermogram_render_previews(thermogram_id: int) -> bool:
+    """Draw a ready thermogram's preview and thumbnail again (palette, span or marks changed).
+
+    Returns False when there is nothing to draw (not ready, or deleted meanwhile).
+    """
+    thermogram = Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.READY).first()
+    if thermogram is None:
+        return False
+    write_images(thermogram, thermogram_temperatures(thermogram))
+    Thermogram.objects.filter(pk=thermogram.pk).update(
+        preview=thermogram.preview.name, thumbnail=thermogram.thumbnail.name
+    )
+    return True
 
 
 def thermogram_process(thermogram_id: int) -> str | None:

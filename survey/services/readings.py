@@ -27,6 +27,7 @@ from typing import Any
 
 import numpy as np
 
+from survey.captions import mark_caption
 from survey.models import Mark, Survey, Thermogram
 from survey.thermal.units import rounded
 
@@ -265,6 +266,9 @@ def mark_readings(
         "kind": mark.kind,
         "points": mark.points,
         "note": mark.note,
+        "name": getattr(mark, "name", "") or "",
+        "load_current_a": mark.load_current_a,
+        "caption": mark_caption(mark),
         "emissivity": emissivity,
         "emissivity_own": mark.emissivity is not None,
         "reflected_c": reflected_c,

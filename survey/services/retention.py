@@ -15,7 +15,7 @@ from django.db.models import QuerySet
 from django.utils import timezone
 
 from survey.dependents import survey_hold, survey_release
-from survey.models import Survey
+from survey.models import Survey, Thermogram
 from survey.services.audit import audit_record
 
 THERMOGRAM_FILES = ("original", "photo", "array", "preview", "thumbnail")
@@ -37,7 +37,8 @@ def survey_purge(*, survey: Survey, user: AbstractBaseUser | None) -> int:
     if reason:
         raise ValidationError(f"{reason} It is kept for good.")
     paths = []
-    for thermogram in survey.thermograms.all():
+    # Thermograms deleted on their own before the survey go with it too.
+    for thermogram in Thermogram.all_objects.filter(survey=survey):
         paths += [getattr(thermogram, name).name for name in THERMOGRAM_FILES]
     with transaction.atomic():
         paths += survey_release(survey)
@@ -47,6 +48,10 @@ def survey_purge(*, survey: Survey, user: AbstractBaseUser | None) -> int:
             organization=survey.organization, actor=user, action="purge", obj=survey, detail=detail
         )
         survey.delete()
-        # Files go only once the rows are gone for good.
-        transaction.on_commit(lambda: [default_storage.delete(path) for path in paths])
+        remove_files_on_commit(paths)
     return len(paths)
+
+
+def remove_files_on_commit(paths: list[str]) -> None:
+    """Delete media files once the rows naming them are gone for good (on commit)."""
+    transaction.on_commit(lambda: [default_storage.delete(path) for path in paths])
