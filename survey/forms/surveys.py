@@ -47,7 +47,7 @@ CONDITION_BOOL_FIELDS = (
 CONDITION_NUMBER_FIELDS = (
     "indoor_rh_pct",
     "outdoor_rh_pct",
-    "wind_m_s",
+    "wind_m_s",  # a speed: shown in the member's unit (SurveyForm.speeds)
     "hours_since_sun",
     "delta_t_hours",
     "load_pct",
@@ -64,8 +64,10 @@ class SurveyForm(UnitFormMixin, forms.Form):
         "indoor_air_c": ("Indoor air", -50, 80, False),
         "outdoor_air_c": ("Outdoor air", -60, 60, False),
         "ambient_air_c": ("Air around the equipment", -60, 200, False),
+        "default_reflected_c": ("Reflected temperature for uploads", -60, 500, False),
     }
     differences = {"camera_accuracy_c": ("Camera accuracy ±", 0, 50, True)}
+    speeds = {"wind_m_s": ("Wind", 0, 80, False)}
 
     site = forms.ModelChoiceField(queryset=None, empty_label="Choose a site")
     kind = forms.ChoiceField(choices=Survey.Kind.choices)
@@ -89,10 +91,10 @@ class SurveyForm(UnitFormMixin, forms.Form):
     notes = forms.CharField(
         widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
     )
+    default_emissivity = number_field("Emissivity for uploads", 0.01, 1.0)
     # Conditions
     indoor_rh_pct = number_field("Indoor RH (%)", 0, 100, unit_text=" %")
     outdoor_rh_pct = number_field("Outdoor RH (%)", 0, 100, unit_text=" %")
-    wind_m_s = number_field("Wind (m/s)", 0, 80, unit_text=" m/s")
     sky = forms.ChoiceField(choices=[("", "Not recorded"), *Conditions.Sky.choices], required=False)
     precipitation = forms.ChoiceField(
         choices=[("", "Not recorded"), *Conditions.Precipitation.choices], required=False
@@ -141,10 +143,14 @@ class SurveyForm(UnitFormMixin, forms.Form):
     def clean_camera_accuracy_c(self):
         return self._difference_c("camera_accuracy_c")
 
+    def clean_default_reflected_c(self):
+        return self._temperature_c("default_reflected_c")
+
     def survey_values(self) -> dict:
         names = (
             "site kind title date crew thermographer reviewer instrument ifov_mrad "
-            "camera_accuracy_c camera_accuracy_pct scope_examined scope_not_examined notes"
+            "camera_accuracy_c camera_accuracy_pct scope_examined scope_not_examined notes "
+            "default_emissivity default_reflected_c"
         ).split()
         return {name: self.cleaned_data[name] for name in names}
 
@@ -160,12 +166,15 @@ class SurveyForm(UnitFormMixin, forms.Form):
         return values
 
     @classmethod
-    def initial_for(cls, survey: Survey, unit: str) -> dict:
+    def initial_for(
+        cls, survey: Survey, unit: str, speed_unit: str = "m_s", length_unit: str = "m"
+    ) -> dict:
         values = {
             name: getattr(survey, name)
             for name in (
                 "kind title date crew instrument ifov_mrad camera_accuracy_c "
-                "camera_accuracy_pct scope_examined scope_not_examined notes"
+                "camera_accuracy_pct scope_examined scope_not_examined notes "
+                "default_emissivity default_reflected_c"
             ).split()
         }
         values.update(
@@ -180,7 +189,25 @@ class SurveyForm(UnitFormMixin, forms.Form):
             for name in CONDITION_BOOL_FIELDS:
                 values[name] = yes_no_initial(getattr(conditions, name))
             values["conditions_notes"] = conditions.notes
-        return cls.initial_in_unit(values, unit)
+        return cls.initial_in_unit(values, unit, speed_unit, length_unit)
+
+    @classmethod
+    def initial_from_values(
+        cls,
+        survey_values: dict,
+        conditions: dict,
+        unit: str,
+        speed_unit: str = "m_s",
+        length_unit: str = "m",
+    ) -> dict:
+        """Initial values from stored survey and conditions values (a new visit's copy)."""
+        values = {k: v for k, v in survey_values.items() if k not in ("thermographer", "reviewer")}
+        for name in ("thermographer", "reviewer"):
+            member = survey_values.get(name)
+            values[name] = member.pk if member is not None else None
+        for name, value in conditions.items():
+            values[name] = yes_no_initial(value) if name in CONDITION_BOOL_FIELDS else value
+        return cls.initial_in_unit(values, unit, speed_unit, length_unit)
 
 
 class PreferenceForm(forms.Form):
@@ -189,6 +216,24 @@ class PreferenceForm(forms.Form):
         widget=forms.RadioSelect,
         label="Show and enter temperatures in",
     )
+    speed_unit = forms.ChoiceField(
+        choices=Member.SpeedUnit.choices,
+        widget=forms.RadioSelect,
+        label="Show and enter wind speeds in",
+        required=False,
+    )
+    length_unit = forms.ChoiceField(
+        choices=Member.LengthUnit.choices,
+        widget=forms.RadioSelect,
+        label="Show and enter distances in",
+        required=False,
+    )
+
+    def clean_speed_unit(self):
+        return self.cleaned_data.get("speed_unit") or None
+
+    def clean_length_unit(self):
+        return self.cleaned_data.get("length_unit") or None
 
 
 class DeleteForm(forms.Form):

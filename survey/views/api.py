@@ -127,6 +127,16 @@ class MarkForm(forms.Form):
     note = forms.CharField(required=False, max_length=4000, strip=True)
     reference = forms.CharField(required=False, max_length=8)
     single_pixel = forms.BooleanField(required=False)
+    load_current_a = forms.FloatField(
+        required=False,
+        min_value=0,
+        max_value=1_000_000,
+        error_messages={
+            "min_value": "The load current cannot be negative.",
+            "max_value": "The load current must be at most 1,000,000 A.",
+            "invalid": "The load current must be a number of amperes.",
+        },
+    )
 
     def __init__(self, data: dict, thermogram: Thermogram, mark: Mark | None = None):
         super().__init__(data)
@@ -151,11 +161,12 @@ class MarkForm(forms.Form):
 def _mark_options(data: dict, thermogram: Thermogram, mark: Mark | None = None) -> dict:
     """Validate the JSON fields given; returns only those, as service keyword arguments."""
     allowed = {"emissivity", "reflected_c", "note", "reference", "single_pixel", "points"}
+    allowed |= {"load_current_a"}
     allowed |= {"kind"} if mark is None else set()
     unknown = sorted(set(data) - allowed)
     if unknown:
         raise ValidationError({name: "Unknown or read-only field." for name in unknown})
-    for name in ("emissivity", "reflected_c"):
+    for name in ("emissivity", "reflected_c", "load_current_a"):
         if isinstance(data.get(name), (bool, str)):
             raise ValidationError({name: f"{name} must be a number or null."})
     form = MarkForm({k: v for k, v in data.items() if k != "points"}, thermogram, mark)
@@ -183,6 +194,8 @@ def mark_json(mark: Mark, readings: dict) -> dict:
         "points": mark.points,
         "single_pixel": mark.single_pixel,
         "note": mark.note,
+        "load_current_a": mark.load_current_a,
+        "caption": readings.get("caption", ""),
         "emissivity": mark.emissivity,
         "reflected_c": mark.reflected_c,
         "effective_emissivity": readings["emissivity"],
