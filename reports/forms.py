@@ -29,7 +29,11 @@ class RevokeForm(forms.Form):
 
 class ShareEmailForm(forms.Form):
     to = forms.EmailField(
-        label="Send to", error_messages={"invalid": "Enter the client's e-mail address."}
+        label="Send to",
+        error_messages={
+            "invalid": "Enter the client's e-mail address.",
+            "required": "Enter the client's e-mail address.",
+        },
     )
     message = forms.CharField(
         required=False,
