@@ -273,7 +273,10 @@ def _share_response(request: HttpRequest, link, forms_by_finding=None) -> HttpRe
     context = {"link": link, "version": link.version, "findings": findings}
     status = 400 if forms_by_finding else 200
     response = render(request, "reports/share.html", context, status=status)
-    response["Referrer-Policy"] = "no-referrer"
+    # The token never leaves for another site in a Referer header. "no-referrer" would also
+    # make browsers send "Origin: null" with the page's own acknowledgement forms, which
+    # Django's CSRF check refuses: "same-origin" keeps both.
+    response["Referrer-Policy"] = "same-origin"
     response["X-Robots-Tag"] = "noindex, nofollow"
     return response
 

@@ -492,9 +492,7 @@ def test_it_finds_no_wcag_violation_and_no_html_error_on_any_page(chromium, live
     html_errors = _vnu_errors(checker.served)
     report = []
     if overflows:
-        report.append(
-            f"{len(overflows)} pages wider than the window:\n  " + "\n  ".join(overflows)
-        )
+        report.append(f"{len(overflows)} pages wider than the window:\n  " + "\n  ".join(overflows))
     if checker.violations:
         report.append(
             f"{len(checker.violations)} accessibility violations:\n  "

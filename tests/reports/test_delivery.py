@@ -217,6 +217,8 @@ def test_only_reviewers_send_links(thermographer_client, share_link):
 
 def test_the_share_page_lists_findings_and_never_sends_the_client_to_sign_in(client, share_link):
     page = client.get(reverse("reports:share", args=[share_link.token]))
+    # The token is not sent to other sites; same-site forms keep their Origin (CSRF).
+    assert page["Referrer-Policy"] == "same-origin"
     html = body(page)
     assert "Corner above the window" in html and "2 act soon" in html and "Open" in html
     brand = re.search(r'<a class="brand" href="([^"]+)"', html)
@@ -292,3 +294,41 @@ def test_revoking_asks_first(reviewer_client, share_link):
     share_link.refresh_from_db()
     assert share_link.revoked_at is not None
     assert ShareLink.objects.count() == 1 and ReportVersion.objects.count() == 1
+
+
+def test_the_report_names_each_marks_load_against_the_assets_rating(
+    electrical_survey, reviewer, django_capture_on_commit_callbacks
+):
+    """A lug measured at 118 A on a 160 A panel reads "118 A of 160 A" in the readings
+    table and in its finding."""
+    from survey.models import Asset
+    from survey.services.marks import mark_add
+    from tests.factories import make_thermogram
+
+    asset = Asset.objects.create(
+        organization=electrical_survey.organization,
+        site=electrical_survey.site,
+        name="Panel P-7",
+        kind=Asset.Kind.PANEL,
+        rating=160.0,
+        rating_unit="A",
+    )
+    thermogram = make_thermogram(electrical_survey, asset=asset, title="P-7 lugs")
+    mark = mark_add(
+        thermogram=thermogram, kind="point", points=[[100, 40]], user=None, load_current_a=118
+    )
+    finding = Finding.objects.create(
+        organization=electrical_survey.organization,
+        survey=electrical_survey,
+        thermogram=thermogram,
+        category="connection",
+        level=2,
+    )
+    finding.marks.set([mark])
+    report = services.report_create(survey=electrical_survey, user=reviewer.user)
+    with django_capture_on_commit_callbacks(execute=True):
+        version = services.report_issue(report=report, user=reviewer.user)
+    version.refresh_from_db()
+    with version.pdf.open("rb") as handle:
+        text = flat(pdf_text(handle.read()))
+    assert text.count("118 A of 160 A") >= 2  # the readings table and the finding
