@@ -24,6 +24,7 @@ from survey.access import (
     require_editor,
     thermograms_for,
 )
+from survey.dependents import thermogram_hold
 from survey.models import Mark, Thermogram
 from survey.services import display
 from survey.services import marks as mark_services
@@ -257,6 +258,8 @@ def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
     survey = thermogram.survey
     ready = thermogram.is_ready
     pk = thermogram.pk
+    # A thermogram an issued report shows opens read-only, and says why.
+    locked = thermogram_hold(thermogram)
     return {
         "id": pk,
         "title": str(thermogram),
@@ -285,7 +288,8 @@ def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
         "palettes": display.palette_ramps(),
         "colours": display.overlay_colours(),
         "unit": member.temperature_unit,
-        "can_edit": member.can_edit,
+        "can_edit": member.can_edit and not locked,
+        "locked": locked,
         "survey": {
             "id": survey.pk,
             "title": str(survey),

@@ -339,6 +339,13 @@ def test_the_link_is_emailed_and_the_client_acknowledges_a_finding(
     assert version.is_issued, version.error
     fill(browser, "form.share-form input[name=days]", "30")
     click(browser, "form.share-form button[type=submit]")
+    # One click copies the link (or, without clipboard permission, selects it to copy).
+    browser.find_element("css selector", ".copy-button").click()
+    status = wait_for(
+        lambda: browser.execute_script("return document.querySelector('.copy-status').innerText;"),
+        message="the copy button to answer",
+    )
+    assert status in ("Copied.", "Selected: press Ctrl+C to copy.")
     click(browser, "a[href$='/email/']")
     assert browser.execute_script("return document.getElementById('id_to').value") == (
         "estates@harbour-lane.example"

@@ -442,3 +442,15 @@ def test_round_stops_are_unique_per_survey(org, site):
     RoundStop.objects.create(survey=survey, asset=asset)
     with pytest.raises(ValidationError):
         RoundStop(survey=survey, asset=asset).full_clean()
+
+
+def test_the_workspace_opens_a_locked_thermogram_read_only(owner_client, envelope_survey):
+    """The thermogram's JSON says why it cannot be changed, and offers no editing."""
+    from django.urls import reverse
+
+    thermogram = make_thermogram(envelope_survey)
+    url = reverse("survey:api-thermogram", args=[thermogram.pk])
+    assert owner_client.get(url).json()["can_edit"] is True
+    issue(envelope_survey)
+    data = owner_client.get(url).json()
+    assert data["can_edit"] is False and "R2026-101" in data["locked"]
