@@ -57,14 +57,16 @@ def _claim(thermogram_id: int) -> bool:
     return bool(stale.update(heartbeat_at=now))
 
 
+# A job claimed before its thermogram was deleted still finishes cleanly (all_objects), so a
+# restored thermogram is never left "processing"; a deleted one is never claimed.
 def _heartbeat(thermogram_id: int) -> None:
-    Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING).update(
+    Thermogram.all_objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING).update(
         heartbeat_at=timezone.now()
     )
 
 
 def _finish(thermogram_id: int, status: str, **fields: Any) -> None:
-    Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING).update(
+    Thermogram.all_objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING).update(
         status=status, heartbeat_at=None, processed_at=timezone.now(), **fields
     )
 
@@ -181,7 +183,7 @@ def thermogram_process(thermogram_id: int) -> str | None:
     another worker holds the job or it is already done (safe to call again)."""
     if not _claim(thermogram_id):
         return None
-    thermogram = Thermogram.objects.select_related("organization").get(pk=thermogram_id)
+    thermogram = Thermogram.all_objects.select_related("organization").get(pk=thermogram_id)
     _remove_partial_files(thermogram)
     try:
         if file_sha256(thermogram.original) != thermogram.original_sha256:

@@ -88,9 +88,7 @@ def client_edit(request: HttpRequest, pk: int) -> HttpResponse:
 # --- sites -----------------------------------------------------------------------------------
 
 
-@login_required
-def site_detail(request: HttpRequest, pk: int) -> HttpResponse:
-    site = get_site_for_user(request, pk)
+def _site_page(request: HttpRequest, site, asset_form: AssetForm, status: int = 200):
     member = get_member(request)
     assets = assets_for(member).filter(site=site).order_by("round_order", "name", "id")
     states = rounds.register_states(assets, _today())
@@ -100,9 +98,14 @@ def site_detail(request: HttpRequest, pk: int) -> HttpResponse:
         "due_count": sum(state.is_due for state in states),
         "surveys": surveys_for(member).filter(site=site)[:20],
         "last_survey": rounds.last_survey(site),
-        "asset_form": AssetForm(),
+        "asset_form": asset_form,
     }
-    return render(request, "survey/register/site_detail.html", context)
+    return render(request, "survey/register/site_detail.html", context, status=status)
+
+
+@login_required
+def site_detail(request: HttpRequest, pk: int) -> HttpResponse:
+    return _site_page(request, get_site_for_user(request, pk), AssetForm())
 
 
 @login_required
@@ -179,6 +182,7 @@ def site_visit(request: HttpRequest, pk: int) -> HttpResponse:
 @login_required
 @require_POST
 def asset_create(request: HttpRequest, pk: int) -> HttpResponse:
+    """Register an asset from the site page; a refused one comes back with its fields."""
     site = get_site_for_user(request, pk)
     require_editor(get_member(request))
     form = AssetForm(request.POST)
@@ -190,8 +194,8 @@ def asset_create(request: HttpRequest, pk: int) -> HttpResponse:
         else:
             messages.success(request, f"Asset {asset} registered.")
             return redirect("survey:site", pk=site.pk)
-    messages.error(request, f"The asset was not registered. {form_errors_text(form)}")
-    return redirect("survey:site", pk=site.pk)
+    messages.error(request, "The asset was not registered: see the marked fields below.")
+    return _site_page(request, site, form)
 
 
 @login_required

@@ -146,6 +146,8 @@ def demo_firm(transactional_db):
     return {
         "admin": admin,
         "survey": survey,
+        "site": survey.site,
+        "client": survey.site.client,
         "thermogram": survey.thermograms.order_by("pk").first(),
         "open_thermogram": electrical.thermograms.order_by("pk").first(),
         "finding": survey.findings.order_by("pk").first(),
@@ -275,6 +277,9 @@ FORM_ERRORS = [
     ("survey:finding_edit", ("finding",), "main form", {"level": "1"}, ".errorlist"),
     ("survey:heat_loss_create", ("survey",), "main form", {}, ".errorlist"),
     ("survey:survey_delete", ("survey",), "main form", {}, ".errorlist"),
+    ("survey:site", ("site",), "#add-asset", {"rating": "160"}, ".errorlist"),
+    ("survey:client_edit", ("client",), "main form", {}, ".errorlist"),
+    ("survey:thermogram_delete", ("thermogram",), "main form", {}, ".errorlist"),
     ("password_change", (), "main form", {}, ".errorlist"),
     ("reports:survey", ("survey",), "form.issue-form", {}, ".messages .msg-error"),
 ]

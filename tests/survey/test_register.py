@@ -454,3 +454,27 @@ def test_the_workspace_opens_a_locked_thermogram_read_only(owner_client, envelop
     issue(envelope_survey)
     data = owner_client.get(url).json()
     assert data["can_edit"] is False and "R2026-101" in data["locked"]
+
+
+def test_the_mark_api_reads_and_changes_the_load_current(owner_client, electrical_survey):
+    """PATCH load_current_a; the answer carries the caption; bad values get a clear 400."""
+    import json
+
+    from django.urls import reverse
+
+    asset = make_asset(electrical_survey.site, rating=160.0, rating_unit="A")
+    thermogram = make_thermogram(electrical_survey, asset=asset)
+    mark = mark_add(thermogram=thermogram, kind="point", points=[[5, 5]], user=None)
+    url = reverse("survey:api-mark", args=[mark.pk])
+
+    def patch(body):
+        return owner_client.patch(url, data=json.dumps(body), content_type="application/json")
+
+    answer = patch({"load_current_a": 118})
+    assert answer.status_code == 200
+    assert (answer.json()["load_current_a"], answer.json()["caption"]) == (118.0, "118 A of 160 A")
+    for bad in ("lots", -3, True):
+        refused = patch({"load_current_a": bad})
+        assert refused.status_code == 400 and "load_current_a" in refused.json()["fields"]
+    assert owner_client.get(url).json()["load_current_a"] == 118.0
+    assert patch({"load_current_a": None}).json()["caption"] == ""

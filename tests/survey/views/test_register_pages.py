@@ -102,10 +102,11 @@ def test_it_registers_edits_and_retires_an_asset(owner_client, site):
 def test_it_refuses_an_asset_with_a_rating_but_no_unit(owner_client, site):
     response = owner_client.post(
         reverse("survey:asset_create", args=[site.pk]),
-        {"name": "P", "kind": "panel", "rating": "160", "criticality": "medium"},
-        follow=True,
+        {"name": "Panel P-9", "kind": "panel", "rating": "160", "criticality": "medium"},
     )
-    assert "A or kW" in body(response)
+    # The page comes back with the fields as typed and the reason beside the unit.
+    assert response.status_code == 200
+    assert "A or kW" in body(response) and 'value="Panel P-9"' in body(response)
     assert not Asset.objects.exists()
 
 
