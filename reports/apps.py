@@ -8,7 +8,30 @@ class ReportsConfig(AppConfig):
 
     def ready(self) -> None:
         # The survey app never imports this one: it learns here what reports keep of a survey.
-        from reports.services import survey_report_hold, survey_reports_release
-        from survey.dependents import Dependent, register
+        from reports.services import (
+            REPORT_STATES,
+            report_states,
+            survey_report_hold,
+            survey_reports_release,
+            surveys_with_report_state,
+            thermogram_report_hold,
+        )
+        from survey.dependents import Dependent, SurveyFacet, register
 
-        register(Dependent(name="reports", hold=survey_report_hold, release=survey_reports_release))
+        register(
+            Dependent(
+                name="reports",
+                hold=survey_report_hold,
+                release=survey_reports_release,
+                thermogram_hold=thermogram_report_hold,
+                survey_facets=[
+                    SurveyFacet(
+                        key="report",
+                        label="Report",
+                        choices=REPORT_STATES,
+                        apply=surveys_with_report_state,
+                        describe=report_states,
+                    )
+                ],
+            )
+        )

@@ -20,12 +20,16 @@ from reports.fetcher import BASE_URL, LocalOnlyFetcher
 from reports.models import ReportVersion
 from reports.pictures import Pictures, draft_watermark_png, draw_thermogram, trend_chart
 from reports.results import content_digest, readings_by_thermogram, survey_results
+from survey.captions import mark_caption
 from survey.cautions import cautions_for
+from survey.conditions import conditions_check
 from survey.models import Finding, Survey, Thermogram
 from survey.services.findings import verification_text
 from survey.services.instruments import survey_ifov
 from survey.services.readings import design_conditions
+from survey.services.rounds import round_progress
 from survey.severity import category_label
+from survey.thermal import units
 
 TOP_FINDINGS = 5
 DRAWING_THREADS = 2
@@ -36,13 +40,14 @@ Progress = Callable[[str, int], None]
 
 LEVELS = [(level.value, level.label) for level in Finding.Level]
 
+# Formats: "temperature" and "speed" are shown in the report's units.
 CONDITION_ROWS = [
-    ("indoor_air_c", "Indoor air", "{:.1f} °C"),
+    ("indoor_air_c", "Indoor air", "temperature"),
     ("indoor_rh_pct", "Indoor relative humidity", "{:.0f} %"),
-    ("outdoor_air_c", "Outdoor air", "{:.1f} °C"),
+    ("outdoor_air_c", "Outdoor air", "temperature"),
     ("outdoor_rh_pct", "Outdoor relative humidity", "{:.0f} %"),
-    ("ambient_air_c", "Air around the equipment", "{:.1f} °C"),
-    ("wind_m_s", "Wind", "{:.1f} m/s"),
+    ("ambient_air_c", "Air around the equipment", "temperature"),
+    ("wind_m_s", "Wind", "speed"),
     ("hours_since_sun", "Hours since direct sun", "{:.0f} h"),
     ("delta_t_hours", "Hours the inside–outside difference had held", "{:.0f} h"),
     ("load_pct", "Electrical load (share of rating)", "{:.0f} %"),
@@ -100,7 +105,17 @@ REPORT_SOURCES = {
 }
 
 
-def conditions_rows(survey: Survey) -> list[tuple[str, str]]:
+def _formatted(value: float, fmt: str, unit: str, speed_unit: str) -> str:
+    if fmt == "temperature":
+        return f"{units.from_celsius(value, unit):.1f} {units.symbol(unit)}"
+    if fmt == "speed":
+        return f"{units.speed_from_m_s(value, speed_unit):.1f} {units.speed_symbol(speed_unit)}"
+    return fmt.format(value)
+
+
+def conditions_rows(
+    survey: Survey, unit: str = "C", speed_unit: str = "m_s"
+) -> list[tuple[str, str]]:
     conditions = getattr(survey, "conditions", None)
     if conditions is None:
         return []
@@ -108,10 +123,11 @@ def conditions_rows(survey: Survey) -> list[tuple[str, str]]:
     for name, label, fmt in CONDITION_ROWS:
         value = getattr(conditions, name)
         if value is not None:
-            rows.append((label, fmt.format(value)))
+            rows.append((label, _formatted(value, fmt, unit, speed_unit)))
     difference = conditions.inside_outside_difference_c
     if difference is not None:
-        rows.insert(3, ("Inside–outside difference", f"{difference:.1f} K"))
+        shown = units.difference_from_kelvin(difference, unit)
+        rows.insert(3, ("Inside–outside difference", f"{shown:.1f} {units.difference_label(unit)}"))
     for name, label in CONDITION_FLAGS:
         value = getattr(conditions, name)
         if value in (None, ""):
@@ -228,14 +244,18 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         .prefetch_related("marks")
     )
     findings = list(
-        survey.findings.select_related("thermogram", "asset", "criteria_table").prefetch_related(
-            "marks"
-        )
+        survey.findings.select_related(
+            "thermogram__asset", "asset", "criteria_table"
+        ).prefetch_related("marks")
     )
     by_thermogram: dict[int, list[Finding]] = {}
     for finding in findings:
         finding.category_text = category_label(survey.kind, finding.category)
         finding.verified_text = verification_text(finding)
+        for mark in finding.marks.all():
+            if finding.thermogram is not None and mark.thermogram_id == finding.thermogram_id:
+                mark.thermogram = finding.thermogram
+            mark.caption = mark_caption(mark)
         by_thermogram.setdefault(finding.thermogram_id, []).append(finding)
     readings = readings_by_thermogram(survey, thermograms)
     results = survey_results(survey, readings=readings)
@@ -249,7 +269,10 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
     shown = [t for t in thermograms if t.pk in readings or t.pk in by_thermogram]
     with ThreadPoolExecutor(max_workers=DRAWING_THREADS) as pool:
         drawn = pool.map(
-            lambda t: draw_thermogram(t, pictures, thumbnail=t.pk in thumbnailed), shown
+            lambda t: draw_thermogram(
+                t, pictures, thumbnail=t.pk in thumbnailed, unit=version.temperature_unit
+            ),
+            shown,
         )
         for index, thermogram in enumerate(shown, start=1):
             progress(f"Drawing thermogram {index} of {len(shown)}", 10 + 60 * index // len(shown))
@@ -264,7 +287,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
                     "photo": drawing["photo"],
                     "readings": readings.get(thermogram.pk, []),
                     "findings": sorted(by_thermogram.get(thermogram.pk, []), key=_urgency),
-                    "trend": trend_chart(thermogram),
+                    "trend": trend_chart(thermogram, version.temperature_unit),
                 }
             )
 
@@ -297,12 +320,21 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
             {"finding": f, "thumb": thumbs.get(f.thermogram_id)} for f in ranked[:TOP_FINDINGS]
         ],
         "act_first": [f for f in open_ranked if f.level == first_level],
-        "conditions": conditions_rows(survey),
-        "conditions_check": results["conditions_check"],
-        "conditions_shortfalls": [
-            row for row in results["conditions_check"] if row["status"] != "met"
-        ],
+        "conditions": conditions_rows(survey, version.temperature_unit, version.speed_unit),
+        "conditions_check": (
+            checks := conditions_check(
+                survey, unit=version.temperature_unit, speed_unit=version.speed_unit
+            )
+        ),
+        "conditions_shortfalls": [row for row in checks if row["status"] != "met"],
         "logged_conditions": logged_conditions_context(survey, thermograms),
+        "unit": version.temperature_unit,
+        "unit_symbol": units.symbol(version.temperature_unit),
+        "diff_label": units.difference_label(version.temperature_unit),
+        "length_unit": version.length_unit,
+        "length_symbol": units.length_symbol(version.length_unit),
+        "independently_reviewed": version.is_draft or version.independently_reviewed,
+        "round": round_rows(survey),
         "method": method_context(survey, thermograms, findings),
         "sections": sections,
         "heat_loss": heat_loss,
@@ -312,6 +344,20 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         "thermogram_count": len(thermograms),
         "_results": results,
     }
+
+
+def round_rows(survey: Survey) -> dict[str, list]:
+    """The survey's round, if it was one: assets visited, skipped (with the reason given)
+    and not visited without a reason."""
+    rows = {"visited": [], "skipped": [], "not_visited": []}
+    for item in round_progress(survey):
+        if item.status == "visited":
+            rows["visited"].append(item.stop)
+        elif item.status == "skipped":
+            rows["skipped"].append(item.stop)
+        else:
+            rows["not_visited"].append(item.stop)
+    return rows
 
 
 def _reviewer(version: ReportVersion, survey: Survey):

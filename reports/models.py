@@ -47,6 +47,13 @@ class ReportVersion(models.Model):
     page_count = models.PositiveIntegerField(null=True, blank=True)
     change_note = models.TextField(blank=True)
     error = models.TextField(blank=True)
+    # The units the PDF shows, those of the member who asked for it (stored values stay °C).
+    temperature_unit = models.CharField(max_length=1, default="C")
+    speed_unit = models.CharField(max_length=4, default="m_s")
+    length_unit = models.CharField(max_length=2, default="m")
+    # False when the survey's own thermographer issued it (an organization setting allows
+    # that for one-person firms); the report then says it was not independently reviewed.
+    independently_reviewed = models.BooleanField(default=True)
     requested_by = models.ForeignKey(
         settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
     )
@@ -84,6 +91,8 @@ class ShareLink(models.Model):
     token = models.CharField(max_length=64, unique=True)
     expires_at = models.DateTimeField()
     revoked_at = models.DateTimeField(null=True, blank=True)
+    last_sent_to = models.EmailField(blank=True)
+    last_sent_at = models.DateTimeField(null=True, blank=True)
     created_by = models.ForeignKey(
         settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
     )

@@ -17,9 +17,10 @@ from PIL import Image, ImageDraw, ImageOps
 
 from reports.fetcher import BASE_URL
 from survey.charts import trend_svg
-from survey.models import Thermogram
+from survey.models import SpanRule, Thermogram
 from survey.services.arrays import thermogram_temperatures
-from survey.services.assets import asset_history, trend_points
+from survey.services.assets import asset_history, trend_in_unit, trend_points
+from survey.thermal import auto_span, units, widen_span
 from survey.thermal.drawing import font, render_picture
 
 PRINT_DPI = 170
@@ -56,29 +57,50 @@ class Pictures:
         return f"{BASE_URL}generated/{name}"
 
 
-def thermogram_picture(thermogram: Thermogram, width_px: int) -> Image.Image:
-    """The thermogram in its palette with labelled marks and a scale bar, `width_px` wide."""
+def thermogram_picture(thermogram: Thermogram, width_px: int, unit: str = "C") -> Image.Image:
+    """The thermogram in its palette with labelled marks and a scale bar in `unit`,
+    `width_px` wide, in the span the app shows (its span rule when none is fixed)."""
+    temperatures = thermogram_temperatures(thermogram)
     low, high = thermogram.span_low_c, thermogram.span_high_c
     if low is None or high is None or high <= low:
-        low = high = None  # render_picture picks the automatic span
+        marks = list(thermogram.marks.all())
+        low, high = thermal_span(thermogram, temperatures, marks)
     return render_picture(
-        thermogram_temperatures(thermogram),
+        temperatures,
         thermogram.palette,
         low,
         high,
         marks=list(thermogram.marks.all()),
+        unit=unit,
         width_px=width_px,
     )
 
 
-def draw_thermogram(thermogram: Thermogram, pictures: Pictures, *, thumbnail: bool) -> dict:
+def thermal_span(thermogram: Thermogram, temperatures, marks) -> tuple[float, float]:
+    """The automatic span by the thermogram's rule, from prefetched marks (no query: this
+    runs in a drawing thread)."""
+    low, high = auto_span(temperatures)
+    if thermogram.span_rule == SpanRule.MARKS:
+        extremes = [
+            value
+            for mark in marks
+            for value in ((mark.stats or {}).get("min_c"), (mark.stats or {}).get("max_c"))
+            if value is not None
+        ]
+        low, high = widen_span(low, high, extremes)
+    return float(low), float(high)
+
+
+def draw_thermogram(
+    thermogram: Thermogram, pictures: Pictures, *, thumbnail: bool, unit: str = "C"
+) -> dict:
     """One thermogram's picture, photo and summary thumbnail, encoded, as report URLs.
 
     Runs in a worker thread: numpy's colouring and Pillow's resampling and JPEG encoder
     release the GIL, so two thermograms are drawn at once. Touches no database (the marks
     are prefetched) and only adds to `pictures.files`.
     """
-    picture = thermogram_picture(thermogram, mm_to_px(THERMOGRAM_WIDTH_MM))
+    picture = thermogram_picture(thermogram, mm_to_px(THERMOGRAM_WIDTH_MM), unit)
     photo = photo_picture(thermogram, mm_to_px(PHOTO_WIDTH_MM))
     key = thermogram.pk
     thumb = thumbnail_of(picture, mm_to_px(THUMBNAIL_WIDTH_MM)) if thumbnail else None
@@ -129,15 +151,19 @@ def thumbnail_of(picture: Image.Image, width_px: int) -> Image.Image:
     return picture.resize((width_px, height), Image.Resampling.LANCZOS)
 
 
-def trend_chart(thermogram: Thermogram) -> str | None:
-    """The asset's history across visits as an SVG chart, when it has been seen before."""
+def trend_chart(thermogram: Thermogram, unit: str = "C") -> str | None:
+    """The asset's history across visits as an SVG chart in `unit`, when it has been seen
+    before."""
     if thermogram.asset_id is None:
         return None
     visits = asset_history(thermogram.asset)
-    points, unit, title = trend_points(visits), "K", f"Rise at {thermogram.asset}"
+    points, _lines, label = trend_in_unit(trend_points(visits), [], unit)
+    title = f"Rise at {thermogram.asset}"
     if sum(value is not None for _, value in points) < 2:
-        points = [(visit["date"], visit["max_corrected_c"]) for visit in visits]
-        unit, title = "°C", f"Hottest corrected temperature at {thermogram.asset}"
+        points = [
+            (visit["date"], units.from_celsius(visit["max_corrected_c"], unit)) for visit in visits
+        ]
+        label, title = units.symbol(unit), f"Hottest corrected temperature at {thermogram.asset}"
     if len(visits) < 2 or sum(value is not None for _, value in points) < 2:
         return None
-    return mark_safe(trend_svg(points, 480, 200, unit, title=title))
+    return mark_safe(trend_svg(points, 480, 200, label, title=title))

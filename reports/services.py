@@ -93,9 +93,35 @@ def _enqueue_render(version: ReportVersion) -> None:
     transaction.on_commit(lambda: render_report.delay(version.pk))
 
 
+def _units_of(member: Member) -> dict[str, str]:
+    return {
+        "temperature_unit": member.temperature_unit,
+        "speed_unit": member.speed_unit,
+        "length_unit": member.length_unit,
+    }
+
+
+def self_review_check(report: Report, member: Member) -> bool:
+    """Whether issuing by `member` is an independent review; raise when it is refused.
+
+    The survey's own thermographer may issue it only where the organization allows that
+    (a one-person firm); such a report says it was not independently reviewed.
+    """
+    thermographer_id = report.survey.thermographer_id
+    if thermographer_id is None or thermographer_id != member.pk:
+        return True
+    if not report.organization.allow_self_review:
+        raise ValidationError(
+            "You are the thermographer of this survey: another reviewer must issue its "
+            "report. (An admin can allow self-review in the organization settings, for a "
+            "one-person firm.)"
+        )
+    return False
+
+
 def report_request_draft(*, report: Report, user: AbstractBaseUser) -> ReportVersion:
     """Queue a watermarked draft; a draft already waiting is returned instead of a second one."""
-    _require_editor(user, report.organization)
+    member = _require_editor(user, report.organization)
     pending = report.versions.filter(
         is_draft=True, status__in=[ReportVersion.Status.QUEUED, ReportVersion.Status.RENDERING]
     ).first()
@@ -103,7 +129,11 @@ def report_request_draft(*, report: Report, user: AbstractBaseUser) -> ReportVer
         return pending
     with transaction.atomic():
         version = ReportVersion(
-            report=report, version=next_final_version(report), is_draft=True, requested_by=user
+            report=report,
+            version=next_final_version(report),
+            is_draft=True,
+            requested_by=user,
+            **_units_of(member),
         )
         version.full_clean()
         version.save()
@@ -111,9 +141,30 @@ def report_request_draft(*, report: Report, user: AbstractBaseUser) -> ReportVer
     return version
 
 
+def report_issue_check(*, report: Report, user: AbstractBaseUser, change_note: str = "") -> bool:
+    """What issuing would refuse, checked before the reviewer confirms; nothing is written.
+
+    Returns whether the issue would be an independent review.
+    """
+    member = _require_reviewer(user, report.organization)
+    independent = self_review_check(report, member)
+    finals = report.versions.filter(is_draft=False)
+    if finals.filter(
+        status__in=[ReportVersion.Status.QUEUED, ReportVersion.Status.RENDERING]
+    ).exists():
+        raise ValidationError("A version of this report is being issued already.")
+    if finals.filter(status=ReportVersion.Status.ISSUED).exists() and not change_note.strip():
+        raise ValidationError("Say what this corrected version changes (the change note).")
+    return independent
+
+
 def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "") -> ReportVersion:
-    """Queue the final PDF of the next version; a reviewer's act, rendered exactly once."""
-    _require_reviewer(user, report.organization)
+    """Queue the final PDF of the next version; a reviewer's act, rendered exactly once.
+
+    Refused to the survey's own thermographer unless the organization allows self-review.
+    """
+    member = _require_reviewer(user, report.organization)
+    independent = self_review_check(report, member)
     change_note = change_note.strip()
     with transaction.atomic():
         Report.objects.select_for_update().filter(pk=report.pk).first()
@@ -133,6 +184,9 @@ def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "
         version.stage, version.progress_pct, version.error = "", 0, ""
         version.change_note = change_note
         version.requested_by = version.issued_by = user
+        version.independently_reviewed = independent
+        for name, value in _units_of(member).items():
+            setattr(version, name, value)
         version.full_clean()
         version.save()
         audit_record(
@@ -140,7 +194,11 @@ def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "
             actor=user,
             action="report.issue",
             obj=version,
-            detail={"number": report.number, "version": version.version},
+            detail={
+                "number": report.number,
+                "version": version.version,
+                "independently_reviewed": independent,
+            },
         )
         _enqueue_render(version)
     return version
@@ -181,6 +239,64 @@ def survey_reports_release(survey: Survey) -> list[str]:
     return paths
 
 
+def thermogram_report_hold(thermogram) -> str | None:
+    """Why a thermogram must stay as it is: a final version of its survey's report, issued
+    or being issued, was made while the thermogram was in the survey."""
+    finals = ReportVersion.objects.filter(
+        report__survey_id=thermogram.survey_id,
+        is_draft=False,
+        status__in=[
+            ReportVersion.Status.QUEUED,
+            ReportVersion.Status.RENDERING,
+            ReportVersion.Status.ISSUED,
+        ],
+    )
+    made_after = finals.filter(created_at__gte=thermogram.created_at) | finals.filter(
+        issued_at__gte=thermogram.created_at
+    )
+    version = made_after.select_related("report").order_by("report__number", "version").first()
+    if version is None:
+        return None
+    return f"Report {version.report.number} version {version.version} shows this thermogram."
+
+
+# --- the report state of each survey, for the survey list ------------------------------------
+
+REPORT_STATES = [
+    ("none", "No report"),
+    ("draft", "Report not issued"),
+    ("issued", "Issued"),
+]
+
+
+def _issued(surveys):
+    return surveys.filter(reports__versions__status=ReportVersion.Status.ISSUED)
+
+
+def surveys_with_report_state(surveys, state: str):
+    issued_ids = _issued(Survey.objects.all()).values("pk")
+    if state == "issued":
+        return surveys.filter(pk__in=issued_ids)
+    if state == "draft":
+        return surveys.filter(reports__isnull=False).exclude(pk__in=issued_ids).distinct()
+    if state == "none":
+        return surveys.filter(reports__isnull=True)
+    return surveys
+
+
+def report_states(surveys: list[Survey]) -> dict[int, str]:
+    """The report column of the survey list: number and last issued version, or its state."""
+    states = {survey.pk: "—" for survey in surveys}
+    reports = Report.objects.filter(survey__in=surveys).prefetch_related("versions")
+    for report in reports:
+        issued = [v.version for v in report.versions.all() if v.is_issued]
+        if issued:
+            states[report.survey_id] = f"{report.number} v{max(issued)} issued"
+        else:
+            states[report.survey_id] = f"{report.number} not issued"
+    return states
+
+
 # --- sharing and downloads -----------------------------------------------------------------
 
 
@@ -211,6 +327,83 @@ def share_link_create(
     return link
 
 
+SHARE_MESSAGE_LIMIT = 2000
+
+
+def share_link_email(
+    *,
+    link: ShareLink,
+    user: AbstractBaseUser,
+    to: str,
+    message: str,
+    url: str,
+) -> ShareLink:
+    """E-mail a live share link to the client's contact, with the sender's short message.
+
+    Sent through Django's mail framework (settings.EMAIL_*): the console on a laptop, SMTP in
+    production. A delivery the mail server refuses raises ValidationError; nothing is
+    recorded as sent then.
+    """
+    from django.conf import settings
+    from django.core.mail import EmailMessage
+    from django.core.validators import validate_email
+
+    member = _require_reviewer(user, link.version.report.organization)
+    if not link.is_active:
+        raise ValidationError("This link is revoked or expired: create a new one to send.")
+    to = (to or "").strip()
+    try:
+        validate_email(to)
+    except ValidationError:
+        raise ValidationError({"to": "Enter the client's e-mail address."}) from None
+    message = (message or "").strip()
+    if len(message) > SHARE_MESSAGE_LIMIT:
+        raise ValidationError(
+            {"message": f"Keep the message under {SHARE_MESSAGE_LIMIT} characters."}
+        )
+    version = link.version
+    report = version.report
+    survey = report.survey
+    organization = report.organization
+    subject = f"Thermal survey report {report.number}: {survey.site.name}"
+    lines = [message, ""] if message else []
+    lines += [
+        f"{organization.name} has issued report {report.number} (version {version.version}) of "
+        f"the {survey.get_kind_display().lower()} survey of {survey.site.name} on "
+        f"{survey.date:%d %B %Y}.",
+        "",
+        "Read and download it here:",
+        url,
+        "",
+        f"The link works until {link.expires_at:%d %B %Y}. The SHA-256 fingerprint of the "
+        f"issued file is {version.sha256}.",
+        "",
+        f"{member.display_name}, {organization.name}",
+    ]
+    email = EmailMessage(
+        subject=subject,
+        body="\n".join(lines),
+        from_email=settings.DEFAULT_FROM_EMAIL,
+        to=[to],
+        reply_to=[user.email] if getattr(user, "email", "") else None,
+    )
+    try:
+        email.send(fail_silently=False)
+    except Exception as error:  # smtplib and socket errors: the mail server said no
+        raise ValidationError(f"The e-mail could not be sent: {error}") from None
+    with transaction.atomic():
+        ShareLink.objects.filter(pk=link.pk).update(last_sent_to=to, last_sent_at=timezone.now())
+        link.refresh_from_db()
+        audit_record(
+            organization=organization,
+            actor=user,
+            action="share_link.email",
+            obj=link,
+            detail={"to": to},
+        )
+    return link
+
+
 def share_link_revoke(*, link: ShareLink, user: AbstractBaseUser) -> ShareLink:
     _require_reviewer(user, link.version.report.organization)
     with transaction.atomic():
@@ -225,6 +418,22 @@ def share_link_revoke(*, link: ShareLink, user: AbstractBaseUser) -> ShareLink:
             obj=link,
         )
     return link
+
+
+def shared_findings(link: ShareLink):
+    """The findings a share link shows the client: those of its survey when the version was
+    issued (later ones belong to a later version), most urgent first."""
+    from survey.models import Finding
+
+    version = link.version
+    findings = Finding.objects.filter(survey_id=version.report.survey_id)
+    if version.issued_at is not None:
+        findings = findings.filter(created_at__lte=version.issued_at)
+    return (
+        findings.select_related("asset")
+        .prefetch_related("acknowledgements")
+        .order_by("level", "created_at")
+    )
 
 
 def share_link_active(token: str) -> ShareLink | None:

@@ -18,6 +18,12 @@ urlpatterns = [
     path("versions/<int:version_id>/retry/", views.version_retry, name="retry"),
     path("versions/<int:version_id>/share/", views.share_link_create, name="share_create"),
     path("share-links/<int:link_id>/revoke/", views.share_link_revoke, name="share_revoke"),
+    path("share-links/<int:link_id>/email/", views.share_link_email, name="share_email"),
     path("s/<str:token>/", views.share_page, name="share"),
+    path(
+        "s/<str:token>/findings/<int:finding_id>/acknowledge/",
+        views.share_acknowledge,
+        name="share_acknowledge",
+    ),
     path("s/<str:token>/pdf/", views.share_download, name="share_download"),
 ]

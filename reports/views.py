@@ -6,7 +6,7 @@ The public share page answers 404 with the same generic body for any link that i
 
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
-from django.core.exceptions import ValidationError
+from django.core.exceptions import PermissionDenied, ValidationError
 from django.http import Http404, HttpRequest, HttpResponse, JsonResponse
 from django.shortcuts import redirect, render
 from django.template.loader import render_to_string
@@ -20,11 +20,20 @@ from reports.access import (
     get_report_version_for_user,
     get_share_link_for_user,
 )
-from reports.forms import IssueForm, ShareLinkForm
+from reports.forms import (
+    AcknowledgeForm,
+    IssueConfirmForm,
+    IssueForm,
+    RevokeForm,
+    ShareEmailForm,
+    ShareLinkForm,
+)
 from reports.models import ReportVersion
 from reports.results import content_digest, survey_results
 from survey.access import get_member, get_survey_for_user
 from survey.files import serve_file
+from survey.forms.fields import add_service_error
+from survey.services.acknowledgements import finding_acknowledge
 
 
 def _fail(request: HttpRequest, error: ValidationError) -> None:
@@ -88,22 +97,49 @@ def version_retry(request: HttpRequest, version_id: int) -> HttpResponse:
 
 
 @login_required
-@require_POST
 def report_issue(request: HttpRequest, report_id: int) -> HttpResponse:
+    """Issuing is confirmed on its own page: what will be issued, by whom, and its warnings."""
     report = get_report_for_user(request, report_id)
-    form = IssueForm(request.POST)
-    if not form.is_valid():
-        messages.error(request, "The change note is too long (at most 4000 characters).")
-        return redirect(_survey_page(report.survey_id))
+    member = get_member(request)
+    if not member.can_review:
+        raise PermissionDenied("Only reviewers can issue a report.")
+    data = request.POST if request.method == "POST" else None
+    form = IssueConfirmForm(data, initial={"change_note": request.GET.get("change_note", "")})
+    note = (data or {}).get("change_note", "")
     try:
-        version = services.report_issue(
-            report=report, user=request.user, change_note=form.cleaned_data["change_note"]
+        independent = services.report_issue_check(
+            report=report, user=request.user, change_note=note
         )
     except ValidationError as error:
-        _fail(request, error)
+        if data is not None:
+            _fail(request, error)
+            return redirect(_survey_page(report.survey_id))
+        independent, problem = None, error
     else:
-        messages.success(request, f"Version {version.version} is being issued.")
-    return redirect(_survey_page(report.survey_id))
+        problem = None
+    if data is not None and form.is_valid():
+        try:
+            version = services.report_issue(
+                report=report, user=request.user, change_note=form.cleaned_data["change_note"]
+            )
+        except ValidationError as error:
+            _fail(request, error)
+        else:
+            messages.success(request, f"Version {version.version} is being issued.")
+        return redirect(_survey_page(report.survey_id))
+    if data is not None and "confirm" not in data:
+        form = IssueConfirmForm(initial={"change_note": note})
+    context = {
+        "report": report,
+        "survey": report.survey,
+        "form": form,
+        "independent": independent,
+        "problem": problem,
+        "issued_before": report.versions.filter(status=ReportVersion.Status.ISSUED).exists(),
+        "findings": report.survey.findings.count(),
+        "thermograms": report.survey.thermograms.count(),
+    }
+    return render(request, "reports/issue_confirm.html", context)
 
 
 @login_required
@@ -171,16 +207,78 @@ def share_link_create(request: HttpRequest, version_id: int) -> HttpResponse:
 
 
 @login_required
-@require_POST
 def share_link_revoke(request: HttpRequest, link_id: int) -> HttpResponse:
+    """Revoking asks for confirmation first."""
     link = get_share_link_for_user(request, link_id)
-    services.share_link_revoke(link=link, user=request.user)
-    messages.success(request, "Share link revoked; it no longer opens the report.")
-    return redirect(_survey_page(link.version.report.survey_id))
+    if not get_member(request).can_review:
+        raise PermissionDenied("Only reviewers can revoke a link.")
+    form = RevokeForm(request.POST if request.method == "POST" else None)
+    if request.method == "POST" and form.is_valid():
+        services.share_link_revoke(link=link, user=request.user)
+        messages.success(request, "Share link revoked; it no longer opens the report.")
+        return redirect(_survey_page(link.version.report.survey_id))
+    context = {"link": link, "form": form, "url": _share_url(request, link)}
+    return render(request, "reports/share_revoke.html", context)
+
+
+def _share_url(request: HttpRequest, link) -> str:
+    return request.build_absolute_uri(reverse("reports:share", args=[link.token]))
+
+
+def _default_message(link) -> str:
+    report = link.version.report
+    contact = report.survey.site.client.contact_name
+    greeting = f"Dear {contact}," if contact else "Hello,"
+    return (
+        f"{greeting}\n\nplease find below the link to our thermal survey report "
+        f"{report.number}. Thank you for your time on site."
+    )
+
+
+@login_required
+def share_link_email(request: HttpRequest, link_id: int) -> HttpResponse:
+    """E-mail a share link to the client's contact, with a short message."""
+    link = get_share_link_for_user(request, link_id)
+    if not get_member(request).can_review:
+        raise PermissionDenied("Only reviewers can send a report.")
+    client = link.version.report.survey.site.client
+    initial = {"to": client.email, "message": _default_message(link)}
+    form = ShareEmailForm(request.POST if request.method == "POST" else None, initial=initial)
+    if request.method == "POST" and form.is_valid():
+        try:
+            services.share_link_email(
+                link=link, user=request.user, url=_share_url(request, link), **form.cleaned_data
+            )
+        except ValidationError as error:
+            add_service_error(form, error)
+        else:
+            messages.success(request, f"Report link e-mailed to {form.cleaned_data['to']}.")
+            return redirect(_survey_page(link.version.report.survey_id))
+    context = {"link": link, "form": form, "client": client, "url": _share_url(request, link)}
+    return render(request, "reports/share_email.html", context)
 
 
 def _not_found() -> HttpResponse:
     return HttpResponse(render_to_string("reports/share_missing.html"), status=404)
+
+
+def _share_response(request: HttpRequest, link, forms_by_finding=None) -> HttpResponse:
+    findings = list(services.shared_findings(link))
+    forms_by_finding = forms_by_finding or {}
+    for finding in findings:
+        finding.ack_form = forms_by_finding.get(finding.pk) or AcknowledgeForm(
+            prefix=f"f{finding.pk}"
+        )
+        finding.latest_ack = next(iter(finding.acknowledgements.all()), None)
+    context = {"link": link, "version": link.version, "findings": findings}
+    status = 400 if forms_by_finding else 200
+    response = render(request, "reports/share.html", context, status=status)
+    # The token never leaves for another site in a Referer header. "no-referrer" would also
+    # make browsers send "Origin: null" with the page's own acknowledgement forms, which
+    # Django's CSRF check refuses: "same-origin" keeps both.
+    response["Referrer-Policy"] = "same-origin"
+    response["X-Robots-Tag"] = "noindex, nofollow"
+    return response
 
 
 @require_GET
@@ -188,10 +286,29 @@ def share_page(request: HttpRequest, token: str) -> HttpResponse:
     link = services.share_link_active(token)
     if link is None:
         return _not_found()
-    response = render(request, "reports/share.html", {"link": link, "version": link.version})
-    response["Referrer-Policy"] = "no-referrer"
-    response["X-Robots-Tag"] = "noindex, nofollow"
-    return response
+    return _share_response(request, link)
+
+
+@require_POST
+def share_acknowledge(request: HttpRequest, token: str, finding_id: int) -> HttpResponse:
+    """The client says when a finding's repair is scheduled; no account, only the live link."""
+    link = services.share_link_active(token)
+    if link is None:
+        return _not_found()
+    finding = services.shared_findings(link).filter(pk=finding_id).first()
+    if finding is None:
+        return _not_found()
+    form = AcknowledgeForm(request.POST, prefix=f"f{finding.pk}")
+    if form.is_valid():
+        try:
+            finding_acknowledge(finding=finding, share_link_id=link.pk, **form.cleaned_data)
+        except ValidationError as error:
+            add_service_error(form, error)
+        else:
+            messages.success(request, "Thank you: your answer was sent to the inspection firm.")
+            url = reverse("reports:share", args=[link.token])
+            return redirect(f"{url}#finding-{finding.pk}")
+    return _share_response(request, link, {finding.pk: form})
 
 
 @require_GET

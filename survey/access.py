@@ -21,6 +21,7 @@ from survey.models import (
     MarkTemplate,
     Member,
     Proposal,
+    RoundStop,
     Site,
     Survey,
     Thermogram,
@@ -179,3 +180,40 @@ def mark_templates_for(member: Member) -> QuerySet[MarkTemplate]:
 
 def get_mark_template_for_user(request: HttpRequest, pk: int) -> MarkTemplate:
     return get_object_or_404(mark_templates_for(get_member(request)), pk=pk)
+
+
+# --- clients, sites, assets, rounds and deleted rows (register and recovery) ---
+DELETABLE_KINDS = {
+    "client": Client,
+    "site": Site,
+    "asset": Asset,
+    "thermogram": Thermogram,
+    "finding": Finding,
+}
+
+
+def get_client_for_user(request: HttpRequest, pk: int) -> Client:
+    return get_object_or_404(clients_for(get_member(request)), pk=pk)
+
+
+def get_round_stop_for_user(request: HttpRequest, pk: int) -> RoundStop:
+    member = get_member(request)
+    return get_object_or_404(
+        RoundStop.objects.select_related("survey", "asset").filter(
+            survey__organization=member.organization, survey__status=Survey.Status.ACTIVE
+        ),
+        pk=pk,
+    )
+
+
+def get_deleted_item_for_user(request: HttpRequest, kind: str, pk: int):
+    """A deleted client, site, asset, thermogram or finding of the member's organization."""
+    model = DELETABLE_KINDS.get(kind)
+    if model is None:
+        raise Http404("Unknown kind")
+    rows = model.all_objects.filter(
+        organization=get_member(request).organization, deleted_at__isnull=False
+    )
+    if model in (Thermogram, Finding):
+        rows = rows.filter(survey__status=Survey.Status.ACTIVE)
+    return get_object_or_404(rows, pk=pk)

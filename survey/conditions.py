@@ -14,6 +14,7 @@ import datetime
 from dataclasses import dataclass
 
 from survey.models import Conditions
+from survey.thermal import units
 
 CONFIDENCE_LABELS = {
     "source": "confirmed in a published text",
@@ -299,7 +300,21 @@ def _value(survey, conditions, field: str):
     return getattr(conditions, field, None) if conditions is not None else None
 
 
-def _value_text(criterion: Criterion, value, conditions) -> str:
+def _in_units(value: float, unit: str, temperature_unit: str, speed_unit: str) -> str:
+    """A recorded number with its unit, in the member's units (°C/K or °F, m/s or mph)."""
+    if unit == "K":
+        converted = units.difference_from_kelvin(value, temperature_unit)
+        return f"{converted:.1f} {units.difference_label(temperature_unit)}"
+    if unit == "°C":
+        converted = units.from_celsius(value, temperature_unit)
+        return f"{converted:.1f} {units.symbol(temperature_unit)}"
+    if unit == "m/s":
+        converted = units.speed_from_m_s(value, speed_unit)
+        return f"{converted:.1f} {units.speed_symbol(speed_unit)}"
+    return f"{value:.1f} {unit}".strip()
+
+
+def _value_text(criterion: Criterion, value, conditions, temperature_unit="C", speed_unit="m_s"):
     if value is None or value == "":
         return "not recorded"
     if isinstance(value, bool):
@@ -310,7 +325,7 @@ def _value_text(criterion: Criterion, value, conditions) -> str:
         side = "above" if value > 0 else "below"
         return f"{abs(value):.1f} K {side} it"
     if isinstance(value, float | int):
-        return f"{value:.1f} {criterion.unit}".strip()
+        return _in_units(float(value), criterion.unit, temperature_unit, speed_unit)
     if criterion.field == "precipitation" and conditions is not None:
         return conditions.get_precipitation_display()
     return str(value)
@@ -406,12 +421,33 @@ def logged_checks(survey, checks: list[dict]) -> list[dict]:
     return checks
 
 
-def conditions_check(survey) -> list[dict]:
+def requirement_text(criterion: Criterion, temperature_unit: str = "C", speed_unit="m_s") -> str:
+    """The requirement as people say it, its limit in the member's units.
+
+    Examples
+    --------
+    >>> requirement_text(CONDITIONS_CRITERIA["envelope"][0], "F")
+    'at least 18.0 Δ°F'
+    >>> requirement_text(CONDITIONS_CRITERIA["envelope"][3], speed_unit="mph")
+    'at most about 11.2 mph'
+    """
+    metric = (criterion.unit == "K" and temperature_unit == "C") or (
+        criterion.unit == "m/s" and speed_unit == "m_s"
+    )
+    if metric or criterion.unit not in ("K", "m/s") or not isinstance(criterion.limit, float):
+        return criterion.requirement
+    words = {"min": "at least", "max": "at most"}[criterion.test]
+    if "about" in criterion.requirement:
+        words += " about"
+    return f"{words} {_in_units(criterion.limit, criterion.unit, temperature_unit, speed_unit)}"
+
+
+def conditions_check(survey, unit: str = "C", speed_unit: str = "m_s", **_units) -> list[dict]:
     """Check the survey's recorded conditions against the criteria of its kind.
 
     Returns one dict per criterion: ``criterion`` (label), ``status`` (``met``,
-    ``not_met`` or ``not_recorded``), ``value`` (as recorded, or None), ``value_text``,
-    ``requirement``, ``source``, ``confidence`` and ``key``.
+    ``not_met`` or ``not_recorded``), ``value`` (as recorded, or None), ``value_text`` and
+    ``requirement`` (in `unit` and `speed_unit`), ``source``, ``confidence`` and ``key``.
     """
     try:
         conditions = survey.conditions
@@ -427,8 +463,8 @@ def conditions_check(survey) -> list[dict]:
                 "status": (status := criterion.evaluate(value)),
                 "status_text": status.replace("_", " "),
                 "value": value.strftime("%H:%M") if isinstance(value, datetime.time) else value,
-                "value_text": _value_text(criterion, value, conditions),
-                "requirement": criterion.requirement,
+                "value_text": _value_text(criterion, value, conditions, unit, speed_unit),
+                "requirement": requirement_text(criterion, unit, speed_unit),
                 "source": criterion.source,
                 "confidence": criterion.confidence,
                 "confidence_text": CONFIDENCE_LABELS[criterion.confidence],

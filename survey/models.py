@@ -12,9 +12,31 @@ from django.db import models
 from django.db.models import Q
 
 
+class LiveManager(models.Manager):
+    """Rows not deleted (recoverably): what every list, page and related set shows.
+
+    The first manager of a model is its default one, which Django also uses for reverse
+    relations (``survey.thermograms``), so a deleted row vanishes everywhere at once. The
+    base manager (forward relations such as ``mark.thermogram``) still reaches it, and
+    ``all_objects`` lists deleted rows for the restore page and the purge.
+    """
+
+    def get_queryset(self):
+        return super().get_queryset().filter(deleted_at__isnull=True)
+
+
+class AllRowsManager(models.Manager):
+    """Every row, deleted ones included (restore pages, purges)."""
+
+
 class Organization(models.Model):
     name = models.CharField(max_length=200)
     slug = models.SlugField(max_length=80, unique=True)
+    allow_self_review = models.BooleanField(
+        default=False,
+        help_text="Let the thermographer of a survey also issue its report (one-person "
+        "firms); such reports say they were not independently reviewed.",
+    )
     created_at = models.DateTimeField(auto_now_add=True)
 
     class Meta:
@@ -43,8 +65,23 @@ class Member(models.Model):
     qualification = models.CharField(
         max_length=200, blank=True, help_text="As stated on reports, e.g. a certification level."
     )
+
+    class SpeedUnit(models.TextChoices):
+        METRES_PER_SECOND = "m_s", "m/s"
+        MILES_PER_HOUR = "mph", "mph"
+
+    class LengthUnit(models.TextChoices):
+        METRES = "m", "m"
+        FEET = "ft", "ft"
+
     temperature_unit = models.CharField(
         max_length=1, choices=TemperatureUnit.choices, default=TemperatureUnit.CELSIUS
+    )
+    speed_unit = models.CharField(
+        max_length=4, choices=SpeedUnit.choices, default=SpeedUnit.METRES_PER_SECOND
+    )
+    length_unit = models.CharField(
+        max_length=2, choices=LengthUnit.choices, default=LengthUnit.METRES
     )
 
     class Meta:
@@ -77,6 +114,10 @@ class Client(models.Model):
     contact_name = models.CharField(max_length=200, blank=True)
     email = models.EmailField(blank=True)
     address = models.TextField(blank=True)
+    deleted_at = models.DateTimeField(null=True, blank=True)
+
+    objects = LiveManager()
+    all_objects = AllRowsManager()
 
     class Meta:
         ordering = ["name"]
@@ -90,6 +131,10 @@ class Site(models.Model):
     client = models.ForeignKey(Client, on_delete=models.PROTECT, related_name="sites")
     name = models.CharField(max_length=200)
     address = models.TextField(blank=True)
+    deleted_at = models.DateTimeField(null=True, blank=True)
+
+    objects = LiveManager()
+    all_objects = AllRowsManager()
 
     class Meta:
         ordering = ["name"]
@@ -103,11 +148,29 @@ class Asset(models.Model):
         PANEL = "panel", "Electrical panel"
         SWITCHGEAR = "switchgear", "Switchgear"
         BREAKER = "breaker", "Breaker"
+        BUSWAY = "busway", "Busway"
+        MOTOR_CONTROL_CENTRE = "mcc", "Motor control centre"
+        DISCONNECT = "disconnect", "Disconnect switch"
+        CABLE = "cable", "Cable or termination"
+        TRANSFORMER = "transformer", "Transformer"
         MOTOR = "motor", "Motor"
+        PUMP = "pump", "Pump"
+        BEARING = "bearing", "Bearing or coupling"
         STEAM_LINE = "steam_line", "Steam line"
+        STEAM_TRAP = "steam_trap", "Steam trap"
         WALL_ZONE = "wall_zone", "Wall zone"
         ROOF_SECTION = "roof_section", "Roof section"
+        WINDOW = "window", "Window or door"
         OTHER = "other", "Other"
+
+    class RatingUnit(models.TextChoices):
+        AMPERES = "A", "A"
+        KILOWATTS = "kW", "kW"
+
+    class Criticality(models.TextChoices):
+        HIGH = "high", "High"
+        MEDIUM = "medium", "Medium"
+        LOW = "low", "Low"
 
     organization = models.ForeignKey(Organization, on_delete=models.CASCADE, related_name="assets")
     site = models.ForeignKey(Site, on_delete=models.PROTECT, related_name="assets")
@@ -116,12 +179,60 @@ class Asset(models.Model):
     tag = models.CharField(max_length=100, blank=True, help_text="The plant's equipment id.")
     location = models.CharField(max_length=200, blank=True)
     notes = models.TextField(blank=True)
+    rating = models.FloatField(
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(0.001), MaxValueValidator(1_000_000)],
+        help_text="Nameplate rating, in the unit beside it.",
+    )
+    rating_unit = models.CharField(max_length=2, choices=RatingUnit.choices, blank=True)
+    criticality = models.CharField(
+        max_length=10, choices=Criticality.choices, default=Criticality.MEDIUM
+    )
+    # NFPA 70B (2023) asks for infrared inspection of electrical equipment at least every
+    # 12 months (from secondary sources); the interval is the organization's to change.
+    inspection_interval_months = models.PositiveSmallIntegerField(
+        default=12,
+        validators=[MinValueValidator(1), MaxValueValidator(120)],
+        help_text="Months between infrared inspections.",
+    )
+    round_order = models.PositiveIntegerField(
+        default=0, help_text="Place on the inspection round: lower numbers come first."
+    )
+    retired_at = models.DateTimeField(
+        null=True, blank=True, help_text="Out of service: kept for its history, not due."
+    )
+    deleted_at = models.DateTimeField(null=True, blank=True)
+
+    objects = LiveManager()
+    all_objects = AllRowsManager()
 
     class Meta:
-        ordering = ["site__name", "name"]
+        ordering = ["site__name", "round_order", "name"]
+        constraints = [
+            models.CheckConstraint(
+                condition=Q(rating__isnull=True) | ~Q(rating_unit=""),
+                name="asset_rating_has_unit",
+            ),
+        ]
 
     def __str__(self) -> str:
         return f"{self.name} ({self.tag})" if self.tag else self.name
+
+    @property
+    def is_retired(self) -> bool:
+        return self.retired_at is not None
+
+    @property
+    def rating_text(self) -> str:
+        return f"{self.rating:g} {self.rating_unit}" if self.rating is not None else ""
+
+
+class SpanRule(models.TextChoices):
+    """How a thermogram's colour span is chosen when no fixed span is set."""
+
+    AUTO = "auto", "Automatic (1st to 99th percentile)"
+    MARKS = "marks", "Automatic, widened to every mark's extremes"
 
 
 class Instrument(models.Model):
@@ -250,6 +361,18 @@ class Survey(models.Model):
         validators=[validate_time_zone],
         help_text="Of the site's clocks (camera and loggers), e.g. Europe/Berlin; "
         "blank: the server's.",
+    )
+    # Defaults of the survey: emissivity and reflected temperature offered for each upload,
+    # and how new (or, on request, all) thermograms are shown.
+    default_emissivity = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(0.01), MaxValueValidator(1.0)]
+    )
+    default_reflected_c = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(-60), MaxValueValidator(500)]
+    )
+    default_palette = models.CharField(max_length=40, blank=True)
+    default_span_rule = models.CharField(
+        max_length=10, choices=SpanRule.choices, default=SpanRule.AUTO
     )
     status = models.CharField(max_length=10, choices=Status.choices, default=Status.ACTIVE)
     deleted_at = models.DateTimeField(null=True, blank=True)
@@ -434,6 +557,7 @@ class Thermogram(models.Model):
     palette = models.CharField(max_length=40, default="black-red-yellow")
     span_low_c = models.FloatField(null=True, blank=True)
     span_high_c = models.FloatField(null=True, blank=True)
+    span_rule = models.CharField(max_length=10, choices=SpanRule.choices, default=SpanRule.AUTO)
     # The paired visual photo and its alignment to the thermogram (affine, 2×3).
     photo = models.FileField(upload_to="photos/%Y/%m/", max_length=300, blank=True)
     photo_sha256 = models.CharField(max_length=64, blank=True)
@@ -446,6 +570,10 @@ class Thermogram(models.Model):
     processed_at = models.DateTimeField(null=True, blank=True)
     # Set when a worker claims the job and while it works; a stale one means a stalled job.
     heartbeat_at = models.DateTimeField(null=True, blank=True)
+    deleted_at = models.DateTimeField(null=True, blank=True)
+
+    objects = LiveManager()
+    all_objects = AllRowsManager()
 
     class Meta:
         ordering = ["survey", "sequence", "id"]
@@ -523,6 +651,12 @@ class Mark(models.Model):
         max_length=20, choices=RiseMethod.choices, default=RiseMethod.HOTTEST_TO_HOTTEST
     )
     note = models.TextField(blank=True, max_length=4000)
+    load_current_a = models.FloatField(
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(0), MaxValueValidator(1_000_000)],
+        help_text="Load current measured on this phase or component at the time, in A.",
+    )
     # Statistics of the apparent temperatures, cached when the mark is saved.
     stats = models.JSONField(default=dict, blank=True)
     created_at = models.DateTimeField(auto_now_add=True)
@@ -666,6 +800,10 @@ class Finding(models.Model):
     )
     created_at = models.DateTimeField(auto_now_add=True)
     updated_at = models.DateTimeField(auto_now=True)
+    deleted_at = models.DateTimeField(null=True, blank=True)
+
+    objects = LiveManager()
+    all_objects = AllRowsManager()
 
     class Meta:
         ordering = ["level", "created_at"]
@@ -682,6 +820,44 @@ class Finding(models.Model):
     @property
     def is_overridden(self) -> bool:
         return self.level is not None and self.level != self.suggested_level
+
+
+class Acknowledgement(models.Model):
+    """A client's answer to a finding, given on the report's share page without an account."""
+
+    finding = models.ForeignKey(Finding, on_delete=models.CASCADE, related_name="acknowledgements")
+    repair_scheduled_for = models.DateField(null=True, blank=True)
+    note = models.TextField(blank=True, max_length=2000)
+    name = models.CharField(max_length=200, blank=True, help_text="Who answered, as they typed it.")
+    share_link_id = models.PositiveBigIntegerField(
+        null=True, blank=True, help_text="The share link it came through (reports app)."
+    )
+    created_at = models.DateTimeField(auto_now_add=True)
+
+    class Meta:
+        ordering = ["-created_at", "-id"]
+
+    def __str__(self) -> str:
+        return f"Acknowledgement of {self.finding}"
+
+
+class RoundStop(models.Model):
+    """An asset due on a survey made as a round of a site, in the round's order."""
+
+    survey = models.ForeignKey(Survey, on_delete=models.CASCADE, related_name="round_stops")
+    asset = models.ForeignKey(Asset, on_delete=models.CASCADE, related_name="round_stops")
+    position = models.PositiveIntegerField(default=0)
+    due_on = models.DateField(null=True, blank=True, help_text="When the asset fell due.")
+    skip_reason = models.CharField(max_length=300, blank=True)
+
+    class Meta:
+        ordering = ["survey", "position", "id"]
+        constraints = [
+            models.UniqueConstraint(fields=["survey", "asset"], name="round_stop_once"),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.asset} on {self.survey}"
 
 
 class HeatLossEstimate(models.Model):

@@ -240,6 +240,26 @@ CELERY_TASK_TIME_LIMIT = env_int("CELERY_TASK_TIME_LIMIT", 900)
 # by then the time limit has ended the first one (default: the time limit plus 60 s).
 REPORT_STALLED_AFTER_SECONDS = env_int("REPORT_STALLED_AFTER_SECONDS", CELERY_TASK_TIME_LIMIT + 60)
 
+# E-mail (share links sent to clients) goes through Django's mail framework: SMTP when
+# EMAIL_HOST is set, else printed on the console (the embedded default).
+EMAIL_HOST = env_str("EMAIL_HOST", "")
+EMAIL_PORT = env_int("EMAIL_PORT", 587)
+EMAIL_HOST_USER = env_str("EMAIL_HOST_USER", "")
+EMAIL_HOST_PASSWORD = env_str("EMAIL_HOST_PASSWORD", "")
+EMAIL_USE_TLS = env_bool("EMAIL_USE_TLS", True)
+EMAIL_USE_SSL = env_bool("EMAIL_USE_SSL", False)
+if EMAIL_USE_TLS and EMAIL_USE_SSL:
+    raise ImproperlyConfigured(
+        "Set EMAIL_USE_TLS (STARTTLS, port 587) or EMAIL_USE_SSL (465), not both"
+    )
+EMAIL_TIMEOUT = env_int("EMAIL_TIMEOUT", 20)
+EMAIL_BACKEND = (
+    "django.core.mail.backends.smtp.EmailBackend"
+    if EMAIL_HOST
+    else "django.core.mail.backends.console.EmailBackend"
+)
+DEFAULT_FROM_EMAIL = env_str("DEFAULT_FROM_EMAIL", "Heatmark <reports@localhost>")
+
 SESSION_COOKIE_HTTPONLY = True
 CSRF_COOKIE_HTTPONLY = False
 X_FRAME_OPTIONS = "DENY"

@@ -39,3 +39,11 @@ def purge_deleted_surveys() -> int:
     from survey.services.retention import surveys_purge_due
 
     return surveys_purge_due(days=settings.PURGE_DELETED_AFTER_DAYS)
+
+
+@shared_task(acks_late=True, reject_on_worker_lost=True, ignore_result=True)
+def render_previews(thermogram_id: int) -> bool:
+    """Draw a thermogram's preview and thumbnail again; drawing twice does no harm."""
+    from survey.services.processing import thermogram_render_previews
+
+    return thermogram_render_previews(thermogram_id)

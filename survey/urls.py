@@ -14,8 +14,11 @@ from survey.views import (
     mark_templates,
     media,
     members,
+    organization,
     pages,
     proposal_settings,
+    recovery,
+    register,
 )
 from survey.views.signin import ThrottledLoginView
 
@@ -26,7 +29,7 @@ page_patterns = [
     path("clients/", pages.client_list, name="clients"),
     path("sites/", pages.site_list, name="sites"),
     path("surveys/new/", pages.survey_create, name="survey_create"),
-    path("surveys/deleted/", pages.deleted_surveys, name="deleted_surveys"),
+    path("surveys/deleted/", recovery.deleted_items, name="deleted_surveys"),
     path("surveys/<int:pk>/", pages.survey_detail, name="survey"),
     path("surveys/<int:pk>/edit/", pages.survey_edit, name="survey_edit"),
     path("surveys/<int:pk>/upload/", pages.survey_upload, name="survey_upload"),
@@ -146,7 +149,38 @@ field_patterns = [
     ),
 ]
 
-survey_patterns = page_patterns + api_patterns + judgement_patterns + field_patterns
+# --- clients, sites, asset register, rounds, deletes and restores (register, recovery) ---
+register_patterns = [
+    path("clients/<int:pk>/", register.client_detail, name="client"),
+    path("clients/<int:pk>/edit/", register.client_edit, name="client_edit"),
+    path("clients/<int:pk>/delete/", recovery.client_delete, name="client_delete"),
+    path("sites/<int:pk>/", register.site_detail, name="site"),
+    path("sites/<int:pk>/edit/", register.site_edit, name="site_edit"),
+    path("sites/<int:pk>/delete/", recovery.site_delete, name="site_delete"),
+    path("sites/<int:pk>/visit/", register.site_visit, name="site_visit"),
+    path("sites/<int:pk>/assets/new/", register.asset_create, name="asset_create"),
+    path("sites/<int:pk>/assets.csv", register.assets_export, name="assets_export"),
+    path("sites/<int:pk>/assets/import/", register.assets_import, name="assets_import"),
+    path("assets/due/", register.assets_due, name="assets_due"),
+    path("assets/<int:pk>/edit/", register.asset_edit, name="asset_edit"),
+    path("assets/<int:pk>/retire/", register.asset_retire, name="asset_retire"),
+    path("assets/<int:pk>/delete/", recovery.asset_delete, name="asset_delete"),
+    path("surveys/<int:pk>/assets/", register.survey_tie_assets, name="survey_tie_assets"),
+    path(
+        "surveys/<int:pk>/view-defaults/",
+        register.survey_view_defaults,
+        name="survey_view_defaults",
+    ),
+    path("round-stops/<int:pk>/skip/", register.round_stop_skip, name="round_stop_skip"),
+    path("thermograms/<int:pk>/delete/", recovery.thermogram_delete, name="thermogram_delete"),
+    path("findings/<int:pk>/delete/", recovery.finding_delete, name="finding_delete"),
+    path("deleted/<str:kind>/<int:pk>/restore/", recovery.item_restore, name="item_restore"),
+    path("organization/", organization.organization_settings, name="organization"),
+]
+
+survey_patterns = (
+    page_patterns + api_patterns + judgement_patterns + field_patterns + register_patterns
+)
 
 urlpatterns = [
     path("healthz", health.healthz, name="healthz"),

@@ -1,4 +1,4 @@
-// Survey page: drag-and-drop into the upload form, and live status of processing.
+// Survey page: drag-and-drop into the upload form (live status: static/js/batch.js).
 (function () {
   "use strict";
 
@@ -40,38 +40,5 @@
     });
   }
 
-  function setupStatus() {
-    var progress = document.getElementById("batch-progress");
-    if (!progress) return;
-    var url = progress.getAttribute("data-status-url");
-    var delay = 2000;
-    function update(data) {
-      data.thermograms.forEach(function (row) {
-        var figure = document.querySelector("[data-thermogram-id='" + row.id + "']");
-        if (!figure) return;
-        var wasDone = !/status-(queued|processing)/.test(figure.className);
-        figure.className = "thermogram status-" + row.status;
-        figure.querySelector("[data-role=status]").textContent = row.stalled ? "Stalled" : row.status_display;
-        figure.querySelector("[data-role=error]").textContent = row.error;
-        if (!wasDone && row.status !== "queued" && row.status !== "processing") {
-          window.location.reload();
-        }
-      });
-      progress.textContent = data.total ? "(" + data.done + " of " + data.total + " processed)" : "";
-      if (data.done < data.total) {
-        window.setTimeout(poll, delay);
-        delay = Math.min(delay * 1.5, 15000);
-      }
-    }
-    function poll() {
-      fetch(url, { credentials: "same-origin", headers: { Accept: "application/json" } })
-        .then(function (response) { return response.ok ? response.json() : null; })
-        .then(function (data) { if (data) update(data); })
-        .catch(function () { window.setTimeout(poll, 15000); });
-    }
-    if (document.querySelector(".status-queued, .status-processing")) poll();
-  }
-
   setupDropzone();
-  setupStatus();
 })();

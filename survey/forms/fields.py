@@ -46,21 +46,56 @@ def add_service_error(form: forms.Form, error: ValidationError) -> None:
         form.add_error(None, error.messages)
 
 
+def member_units(member: Member) -> dict[str, str]:
+    """The unit keyword arguments of a UnitFormMixin form for `member`."""
+    return {
+        "unit": member.temperature_unit,
+        "speed_unit": member.speed_unit,
+        "length_unit": member.length_unit,
+    }
+
+
 class UnitFormMixin:
     """Builds temperature fields in the member's unit from limits given in °C.
 
     `temperatures` maps a field name to (label, low_c, high_c, required); `differences`
-    likewise for temperature differences (no offset, lower limit 0).
+    likewise for temperature differences (no offset, lower limit 0). `speeds` (limits in
+    m/s) and `lengths` (limits in m) are shown in the member's speed and length units; all
+    of them come back converted (°C, K, m/s, m) in cleaned_data.
     """
 
     temperatures: dict[str, tuple[str, float, float, bool]] = {}
     differences: dict[str, tuple[str, float, float, bool]] = {}
+    speeds: dict[str, tuple[str, float, float, bool]] = {}
+    lengths: dict[str, tuple[str, float, float, bool]] = {}
 
-    def __init__(self, *args, unit: str = C, **kwargs):
+    def __init__(
+        self, *args, unit: str = C, speed_unit: str = "m_s", length_unit: str = "m", **kwargs
+    ):
         if unit not in (C, F):
             raise ValueError(f"unit must be C or F, not {unit!r}")
         self.unit = unit
+        self.speed_unit = speed_unit
+        self.length_unit = length_unit
         super().__init__(*args, **kwargs)
+        for name, (label, low, high, required) in self.speeds.items():
+            symbol = units.speed_symbol(speed_unit)
+            self.fields[name] = number_field(
+                f"{label} ({symbol})",
+                round(units.speed_from_m_s(low, speed_unit), 1),
+                round(units.speed_from_m_s(high, speed_unit), 1),
+                required,
+                f" {symbol}",
+            )
+        for name, (label, low, high, required) in self.lengths.items():
+            symbol = units.length_symbol(length_unit)
+            self.fields[name] = number_field(
+                f"{label} ({symbol})",
+                round(units.length_from_m(low, length_unit), 2),
+                round(units.length_from_m(high, length_unit), 1),
+                required,
+                f" {symbol}",
+            )
         for name, (label, low, high, required) in self.temperatures.items():
             self.fields[name] = self._number(
                 label, units.from_celsius(low, unit), units.from_celsius(high, unit), required
@@ -87,6 +122,19 @@ class UnitFormMixin:
             },
         )
 
+    def _clean_fields(self):
+        super()._clean_fields()
+        for name in self.speeds:
+            if self.cleaned_data.get(name) is not None:
+                self.cleaned_data[name] = units.speed_to_m_s(
+                    self.cleaned_data[name], self.speed_unit
+                )
+        for name in self.lengths:
+            if self.cleaned_data.get(name) is not None:
+                self.cleaned_data[name] = units.length_to_m(
+                    self.cleaned_data[name], self.length_unit
+                )
+
     def _temperature_c(self, name: str) -> float | None:
         return units.to_celsius(self.cleaned_data.get(name), self.unit)
 
@@ -94,13 +142,19 @@ class UnitFormMixin:
         return units.difference_to_kelvin(self.cleaned_data.get(name), self.unit)
 
     @classmethod
-    def initial_in_unit(cls, values_c: dict, unit: str) -> dict:
-        """Turn stored °C values into the initial values of the form for `unit`."""
+    def initial_in_unit(
+        cls, values_c: dict, unit: str, speed_unit: str = "m_s", length_unit: str = "m"
+    ) -> dict:
+        """Turn stored °C (m/s, m) values into the initial values of the form for `unit`."""
         initial = dict(values_c)
         for name in cls.temperatures:
             initial[name] = units.rounded(units.from_celsius(values_c.get(name), unit))
         for name in cls.differences:
             initial[name] = units.rounded(units.difference_from_kelvin(values_c.get(name), unit))
+        for name in cls.speeds:
+            initial[name] = units.rounded(units.speed_from_m_s(values_c.get(name), speed_unit))
+        for name in cls.lengths:
+            initial[name] = units.rounded(units.length_from_m(values_c.get(name), length_unit))
         return initial
 
 

@@ -48,7 +48,7 @@ CONDITION_NUMBER_FIELDS = (
     "indoor_rh_pct",
     "design_indoor_rh_pct",
     "outdoor_rh_pct",
-    "wind_m_s",
+    "wind_m_s",  # a speed: shown in the member's unit (SurveyForm.speeds)
     "hours_since_sun",
     "delta_t_hours",
     "load_pct",
@@ -75,8 +75,10 @@ class SurveyForm(UnitFormMixin, forms.Form):
         "roof_surface_c": ("Roof membrane, coldest dry part", -60, 80, False),
         "design_indoor_c": ("Design indoor air", -10, 40, False),
         "design_outdoor_c": ("Design outdoor air", -60, 30, False),
+        "default_reflected_c": ("Reflected temperature for uploads", -60, 500, False),
     }
     differences = {"camera_accuracy_c": ("Camera accuracy ±", 0, 50, True)}
+    speeds = {"wind_m_s": ("Wind", 0, 80, False)}
 
     site = forms.ModelChoiceField(queryset=None, empty_label="Choose a site")
     kind = forms.ChoiceField(choices=Survey.Kind.choices)
@@ -127,10 +129,10 @@ class SurveyForm(UnitFormMixin, forms.Form):
         label="Time zone of the site's clocks",
         help_text="For camera and logger times, e.g. Europe/Berlin; empty: the server's.",
     )
+    default_emissivity = number_field("Emissivity for uploads", 0.01, 1.0)
     # Conditions
     indoor_rh_pct = number_field("Indoor RH (%)", 0, 100, unit_text=" %")
     outdoor_rh_pct = number_field("Outdoor RH (%)", 0, 100, unit_text=" %")
-    wind_m_s = number_field("Wind (m/s)", 0, 80, unit_text=" m/s")
     sky = forms.ChoiceField(choices=[("", "Not recorded"), *Conditions.Sky.choices], required=False)
     precipitation = forms.ChoiceField(
         choices=[("", "Not recorded"), *Conditions.Precipitation.choices], required=False
@@ -211,11 +213,14 @@ class SurveyForm(UnitFormMixin, forms.Form):
         validate_time_zone(value)
         return value
 
+    def clean_default_reflected_c(self):
+        return self._temperature_c("default_reflected_c")
+
     def survey_values(self) -> dict:
         names = (
             "site kind title date start_time crew thermographer reviewer camera instrument "
             "ifov_mrad camera_accuracy_c camera_accuracy_pct scope_examined "
-            "scope_not_examined notes time_zone"
+            "scope_not_examined notes time_zone default_emissivity default_reflected_c"
         ).split()
         return {name: self.cleaned_data[name] for name in names}
 
@@ -231,12 +236,15 @@ class SurveyForm(UnitFormMixin, forms.Form):
         return values
 
     @classmethod
-    def initial_for(cls, survey: Survey, unit: str) -> dict:
+    def initial_for(
+        cls, survey: Survey, unit: str, speed_unit: str = "m_s", length_unit: str = "m"
+    ) -> dict:
         values = {
             name: getattr(survey, name)
             for name in (
                 "kind title date start_time crew instrument ifov_mrad camera_accuracy_c "
-                "camera_accuracy_pct scope_examined scope_not_examined notes time_zone"
+                "camera_accuracy_pct scope_examined scope_not_examined notes time_zone "
+                "default_emissivity default_reflected_c"
             ).split()
         }
         values.update(
@@ -254,7 +262,25 @@ class SurveyForm(UnitFormMixin, forms.Form):
             for name in CONDITION_BOOL_FIELDS:
                 values[name] = yes_no_initial(getattr(conditions, name))
             values["conditions_notes"] = conditions.notes
-        return cls.initial_in_unit(values, unit)
+        return cls.initial_in_unit(values, unit, speed_unit, length_unit)
+
+    @classmethod
+    def initial_from_values(
+        cls,
+        survey_values: dict,
+        conditions: dict,
+        unit: str,
+        speed_unit: str = "m_s",
+        length_unit: str = "m",
+    ) -> dict:
+        """Initial values from stored survey and conditions values (a new visit's copy)."""
+        values = {k: v for k, v in survey_values.items() if k not in ("thermographer", "reviewer")}
+        for name in ("thermographer", "reviewer"):
+            member = survey_values.get(name)
+            values[name] = member.pk if member is not None else None
+        for name, value in conditions.items():
+            values[name] = yes_no_initial(value) if name in CONDITION_BOOL_FIELDS else value
+        return cls.initial_in_unit(values, unit, speed_unit, length_unit)
 
 
 class PreferenceForm(forms.Form):
@@ -263,6 +289,24 @@ class PreferenceForm(forms.Form):
         widget=forms.RadioSelect,
         label="Show and enter temperatures in",
     )
+    speed_unit = forms.ChoiceField(
+        choices=Member.SpeedUnit.choices,
+        widget=forms.RadioSelect,
+        label="Show and enter wind speeds in",
+        required=False,
+    )
+    length_unit = forms.ChoiceField(
+        choices=Member.LengthUnit.choices,
+        widget=forms.RadioSelect,
+        label="Show and enter distances in",
+        required=False,
+    )
+
+    def clean_speed_unit(self):
+        return self.cleaned_data.get("speed_unit") or None
+
+    def clean_length_unit(self):
+        return self.cleaned_data.get("length_unit") or None
 
 
 class DeleteForm(forms.Form):

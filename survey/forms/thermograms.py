@@ -7,6 +7,7 @@ from django.utils import timezone
 
 from survey import thermal
 from survey.forms.fields import TEXT_LIMIT, UnitFormMixin, number_field
+from survey.models import SpanRule
 
 
 class MultipleFileInput(forms.ClearableFileInput):
@@ -158,11 +159,11 @@ class UploadForm(DecodeFieldsMixin, UnitFormMixin, forms.Form):
         "scale_low": ("Bottom of the scale bar", -100, 2000, False),
         "scale_high": ("Top of the scale bar", -100, 2000, False),
     }
+    lengths = {"distance_m": ("Distance", 0.01, 10000, False)}
 
     files = MultipleFileField(label="Thermograms")
     photos = MultipleFileField(label="Visual photos (paired by file name)", required=False)
     emissivity = number_field("Emissivity", 0.01, 1.0)
-    distance_m = number_field("Distance (m)", 0.01, 10000, unit_text=" m")
     asset = forms.ModelChoiceField(queryset=None, required=False, empty_label="No asset")
     captured_at = captured_at_field("For files without their own date-time tag; a file's tag wins.")
 
@@ -209,11 +210,17 @@ class ThermogramSettingsForm(UnitFormMixin, forms.Form):
         "span_low_c": ("Span bottom", -100, 2000, False),
         "span_high_c": ("Span top", -100, 2000, False),
     }
+    lengths = {"distance_m": ("Distance", 0.01, 10000, False)}
 
     title = forms.CharField(max_length=200, required=False)
     emissivity = number_field("Emissivity", 0.01, 1.0, required=True)
-    distance_m = number_field("Distance (m)", 0.01, 10000, unit_text=" m")
     palette = forms.ChoiceField(choices=[])
+    span_rule = forms.ChoiceField(
+        choices=SpanRule.choices,
+        label="Span when none is fixed",
+        initial=SpanRule.AUTO,
+        required=False,
+    )
     asset = forms.ModelChoiceField(queryset=None, required=False, empty_label="No asset")
     note = forms.CharField(
         widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
@@ -251,18 +258,21 @@ class ThermogramSettingsForm(UnitFormMixin, forms.Form):
             raise ValidationError("Give both ends of the span, or leave both empty for automatic.")
         if low is not None and high is not None and not low < high:
             raise ValidationError("The top of the span must be warmer than the bottom.")
+        if not cleaned.get("span_rule"):
+            cleaned.pop("span_rule", None)  # not sent: the thermogram keeps its rule
         return cleaned
 
     @classmethod
-    def initial_for(cls, thermogram, unit: str) -> dict:
+    def initial_for(cls, thermogram, unit: str, speed_unit="m_s", length_unit="m") -> dict:
         values = {
             name: getattr(thermogram, name)
             for name in (
-                "title emissivity distance_m palette note reflected_c span_low_c span_high_c"
+                "title emissivity distance_m palette note reflected_c span_low_c span_high_c "
+                "span_rule"
             ).split()
         }
         values["asset"] = thermogram.asset_id
-        return cls.initial_in_unit(values, unit)
+        return cls.initial_in_unit(values, unit, speed_unit, length_unit)
 
 
 class ReprocessForm(DecodeFieldsMixin, UnitFormMixin, forms.Form):

@@ -180,6 +180,21 @@ def trend_points(visits: list[dict], basis: str | None = None) -> list[tuple]:
     return points
 
 
+def trend_in_unit(
+    points: list[tuple], thresholds: list[tuple], unit: str
+) -> tuple[list[tuple], list[tuple], str]:
+    """Rises (K) of a trend and its threshold lines in `unit`: K, or Δ°F for °F members."""
+    from survey.thermal import units
+
+    def convert(value):
+        return None if value is None else units.difference_from_kelvin(value, unit)
+
+    label = units.difference_label(unit)
+    converted = [(x, convert(value)) for x, value in points]
+    lines = [(convert(value), units.text_in_unit(text, unit)) for value, text in thresholds]
+    return converted, lines, label
+
+
 def _threshold(finding: Finding) -> float | None:
     rows = finding.criteria_table.rows if finding.criteria_table else []
     try:
@@ -267,9 +282,11 @@ def repair_verification(finding: Finding, visits: list[dict] | None = None) -> d
         "before": before,
         "before_value": before_value,
         "before_text": before_text,
+        "before_label": before_text.partition(" K ")[2],
         "after": after,
         "after_value": value,
         "after_text": after_text,
+        "after_label": after_text.partition(" K ")[2],
         "threshold": threshold,
         "threshold_text": threshold_text,
         "unit": unit,

@@ -4,13 +4,19 @@ Views reach the physics through here (and survey/services/readings.py for temper
 the page colours a thermogram exactly as the server's previews and reports do.
 """
 
+import logging
+
 import numpy as np
+from django.db import transaction
 
 from survey.models import Thermogram
 from survey.services.arrays import thermogram_temperatures
-from survey.thermal import PALETTES, auto_span
+from survey.services.processing import automatic_span
+from survey.thermal import PALETTES
 from survey.thermal.drawing import CONDENSATION_COLOUR, ISOTHERM_COLOUR, MOULD_RISK_COLOUR
 from survey.thermal.palettes import NO_DATA_COLOUR
+
+logger = logging.getLogger(__name__)
 
 
 def palette_names() -> list[str]:
@@ -32,8 +38,23 @@ def overlay_colours() -> dict[str, list[int]]:
 
 
 def thermogram_auto_span(thermogram: Thermogram) -> list[float] | None:
-    """The automatic span (°C) of a ready thermogram, None before it is processed."""
+    """The automatic span (°C) of a ready thermogram by its span rule, None before it is
+    processed."""
     if not thermogram.is_ready:
         return None
-    low, high = auto_span(thermogram_temperatures(thermogram))
+    low, high = automatic_span(thermogram, thermogram_temperatures(thermogram))
     return [round(float(low), 2), round(float(high), 2)]
+
+
+def previews_enqueue(thermogram_id: int) -> None:
+    """Queue a redraw of the previews once the current transaction commits."""
+    from survey.tasks import render_previews
+
+    transaction.on_commit(lambda: _publish(render_previews, thermogram_id))
+
+
+def _publish(task, thermogram_id: int) -> None:
+    try:
+        task.apply_async(args=[thermogram_id], retry=False)
+    except Exception as error:  # kombu/redis raise several connection error types
+        logger.warning("Could not queue a preview redraw of %s: %s", thermogram_id, error)

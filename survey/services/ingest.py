@@ -25,6 +25,7 @@ from django.db.models import Max
 from survey import thermal
 from survey.models import Asset, Survey, Thermogram
 from survey.services.audit import audit_record
+from survey.services.locks import thermogram_check_unlocked
 from survey.services.loggers import local_to_aware
 from survey.services.surveys import check_same_org
 from survey.tasks import process_thermogram
@@ -228,6 +229,7 @@ def thermogram_ingest(
         organization=survey.organization,
         survey=survey,
         asset=asset,
+        span_rule=survey.default_span_rule,
         original_name=name,
         original_sha256=digest,
         original_size=len(data),
@@ -239,9 +241,11 @@ def thermogram_ingest(
     )
     if captured_at is not None:
         thermogram.captured_at = local_to_aware(survey, captured_at)
+    if survey.default_palette:
+        thermogram.palette = survey.default_palette
     for attribute, value in (
-        ("emissivity", emissivity),
-        ("reflected_c", reflected_c),
+        ("emissivity", emissivity if emissivity is not None else survey.default_emissivity),
+        ("reflected_c", reflected_c if reflected_c is not None else survey.default_reflected_c),
         ("distance_m", distance_m),
     ):
         if value is not None:
@@ -249,9 +253,9 @@ def thermogram_ingest(
     saved_paths: list[str] = []
     try:
         with transaction.atomic():
-            thermogram.sequence = (
-                survey.thermograms.aggregate(last=Max("sequence"))["last"] or 0
-            ) + 1
+            # Deleted thermograms keep their numbers: one restored never shares a number.
+            numbered = Thermogram.all_objects.filter(survey=survey)
+            thermogram.sequence = (numbered.aggregate(last=Max("sequence"))["last"] or 0) + 1
             thermogram.original.save(name, ContentFile(data), save=False)
             saved_paths.append(thermogram.original.name)
             if photo_data is not None:
@@ -351,6 +355,7 @@ def thermogram_reprocess(
     """Decode again from the original with new settings (for a failed or wrongly scaled file)."""
     if thermogram.status == Thermogram.Status.DAMAGED:
         raise ValidationError("The original is damaged; upload the file again.")
+    thermogram_check_unlocked(thermogram)
     decode_settings = dict(thermogram.decode_settings)
     if unit is not None:
         if unit not in units.UNITS:

@@ -13,9 +13,12 @@ from django.core.exceptions import ValidationError
 from django.db import transaction
 from django.db.models import Q
 
-from survey.models import Mark, Thermogram, mark_label
+from survey.models import Mark, SpanRule, Thermogram, mark_label
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.audit import audit_record
+from survey.services.display import previews_enqueue
+from survey.services.locks import thermogram_check_unlocked
+from survey.services.mark_stats import mark_stats
 from survey.thermal.alignment import affine_from_pairs
 
 MAX_MARKS_PER_THERMOGRAM = 200
@@ -38,6 +41,7 @@ EDITABLE_FIELDS = {
     "reference_kind",
     "reference_mark",
     "single_pixel",
+    "load_current_a",
 }
 
 
@@ -95,56 +99,6 @@ def _ready_temperatures(thermogram: Thermogram) -> np.ndarray:
         raise ValidationError(str(error)) from None
 
 
-def mark_stats(
-    temperatures: np.ndarray, kind: str, points: list[list[float]], single_pixel: bool = False
-) -> dict:
-    """The apparent statistics cached on a mark, in the JSON shape of the API."""
-    from survey.thermal import mark_statistics
-
-    try:
-        raw = mark_statistics(temperatures, kind, points, single_pixel=single_pixel)
-    except ValueError as error:
-        raise ValidationError({"points": str(error)}) from None
-    stats = _stats_dict(raw)
-    if stats["pixels"] == 0 or stats["max_c"] is None:
-        raise ValidationError(
-            {"points": "The mark covers no pixel with a temperature; draw it larger or elsewhere."}
-        )
-    if kind == Mark.Kind.LINE:
-        stats["profile"] = [
-            [round(float(d), 2), _number(v) if v is None else round(float(v), 3)]
-            for d, v in raw.get("profile") or []
-        ]
-    return stats
-
-
-def _number(value: Any) -> float | None:
-    if value is None:
-        return None
-    value = float(value)
-    return value if math.isfinite(value) else None
-
-
-def _position(value: Any) -> list[int] | None:
-    if value is None:
-        return None
-    return [int(value[0]), int(value[1])]
-
-
-def _stats_dict(raw: dict) -> dict:
-    """survey.thermal.mark_statistics' dict, renamed to the API's field names."""
-    return {
-        "min_c": _number(raw.get("min")),
-        "max_c": _number(raw.get("max")),
-        "mean_c": _number(raw.get("mean")),
-        "std_c": _number(raw.get("std")),
-        "pixels": int(raw.get("count") or 0),
-        "nan_count": int(raw.get("nan_count") or 0),
-        "max_at": _position(raw.get("hottest")),
-        "min_at": _position(raw.get("coldest")),
-    }
-
-
 def _clean_reference(mark: Mark) -> None:
     if mark.reference_kind == Mark.ReferenceKind.MARK:
         other = mark.reference_mark
@@ -169,8 +123,17 @@ def _next_label(thermogram: Thermogram) -> str:
 
 
 def _lock(thermogram: Thermogram) -> Thermogram:
-    """Serialise mark writes of one thermogram (labels and the mark limit)."""
-    return Thermogram.objects.select_for_update().get(pk=thermogram.pk)
+    """Serialise mark writes of one thermogram (labels and the mark limit); refuse when an
+    issued report shows the thermogram."""
+    thermogram = Thermogram.objects.select_for_update().get(pk=thermogram.pk)
+    thermogram_check_unlocked(thermogram)
+    return thermogram
+
+
+def _marks_changed(thermogram: Thermogram) -> None:
+    """A span widened to the marks' extremes follows them: redraw the previews."""
+    if thermogram.span_rule == SpanRule.MARKS and thermogram.span_low_c is None:
+        previews_enqueue(thermogram.pk)
 
 
 @transaction.atomic
@@ -188,6 +151,7 @@ def mark_add(
     single_pixel: bool = False,
     name: str = "",
     rise_method: str = Mark.RiseMethod.HOTTEST_TO_HOTTEST,
+    load_current_a: float | None = None,
 ) -> Mark:
     """Add a mark labelled with the next free letter, with its statistics cached."""
     thermogram = _lock(thermogram)
@@ -212,6 +176,7 @@ def mark_add(
         reference_mark=reference_mark,
         name=(name or "").strip(),
         rise_method=rise_method,
+        load_current_a=load_current_a,
     )
     mark.full_clean()
     _clean_reference(mark)
@@ -224,6 +189,7 @@ def mark_add(
         obj=mark,
         detail={"thermogram": thermogram.pk, "label": mark.label, "kind": kind},
     )
+    _marks_changed(thermogram)
     return mark
 
 
@@ -256,6 +222,8 @@ def mark_update(*, mark: Mark, user: AbstractBaseUser | None, **changes: Any) ->
         obj=mark,
         detail={"thermogram": thermogram.pk, "label": mark.label, "fields": sorted(changes)},
     )
+    if {"points", "single_pixel"} & set(changes):
+        _marks_changed(thermogram)
     return mark
 
 
@@ -303,29 +271,7 @@ def mark_delete(*, mark: Mark, user: AbstractBaseUser | None) -> None:
         object_type="Mark",
         detail=detail | {"id": pk},
     )
-
-
-def marks_recompute(*, thermogram: Thermogram, temperatures: np.ndarray) -> int:
-    """Recompute the cached statistics of every mark on a (re-)processed array.
-
-    A mark that no longer fits (a smaller image) or covers no pixel with a temperature keeps
-    empty statistics, so its readings say it has no valid pixel instead of old numbers.
-    Returns the number of marks recomputed.
-    """
-    marks = list(thermogram.marks.all())
-    height, width = temperatures.shape
-    for mark in marks:
-        inside = all(0 <= x <= width - 1 and 0 <= y <= height - 1 for x, y in mark.points)
-        stats = {}
-        if inside:
-            try:
-                stats = mark_stats(temperatures, mark.kind, mark.points, mark.single_pixel)
-            except ValidationError:
-                stats = {}
-        mark.stats = stats or _stats_dict({})
-    if marks:
-        Mark.objects.bulk_update(marks, ["stats"])
-    return len(marks)
+    _marks_changed(thermogram)
 
 
 def _alignment_matrix(pairs: list) -> list[list[float]]:

@@ -159,8 +159,36 @@ def member_reactivate(*, member: Member, actor: AbstractBaseUser | None) -> Memb
     return member
 
 
-def member_update_preferences(*, member: Member, temperature_unit: str) -> Member:
+def member_update_preferences(
+    *,
+    member: Member,
+    temperature_unit: str,
+    speed_unit: str | None = None,
+    length_unit: str | None = None,
+) -> Member:
     member.temperature_unit = temperature_unit
+    if speed_unit is not None:
+        member.speed_unit = speed_unit
+    if length_unit is not None:
+        member.length_unit = length_unit
     member.full_clean()
-    member.save(update_fields=["temperature_unit"])
+    member.save(update_fields=["temperature_unit", "speed_unit", "length_unit"])
     return member
+
+
+def organization_update_settings(
+    *, organization: Organization, user: AbstractBaseUser | None, allow_self_review: bool
+) -> Organization:
+    """The organization's own rules (an admin's): whether a thermographer may issue their
+    own survey's report."""
+    organization.allow_self_review = bool(allow_self_review)
+    organization.full_clean()
+    organization.save(update_fields=["allow_self_review"])
+    audit_record(
+        organization=organization,
+        actor=user,
+        action="organization_settings",
+        obj=organization,
+        detail={"allow_self_review": organization.allow_self_review},
+    )
+    return organization

@@ -18,10 +18,11 @@ from django.utils import timezone
 from PIL import Image
 
 from survey import thermal
-from survey.models import Thermogram
+from survey.models import Mark, SpanRule, Thermogram
+from survey.services.arrays import thermogram_temperatures
 from survey.services.audit import audit_record
 from survey.services.loggers import capture_time_from_file
-from survey.services.marks import marks_recompute
+from survey.services.mark_stats import marks_recompute
 from survey.storage import media_read, media_remove_partial, media_replace
 from survey.thermal.drawing import encode_png
 
@@ -55,14 +56,16 @@ def _claim(thermogram_id: int) -> bool:
     return bool(stale.update(heartbeat_at=now))
 
 
+# A job claimed before its thermogram was deleted still finishes cleanly (all_objects), so a
+# restored thermogram is never left "processing"; a deleted one is never claimed.
 def _heartbeat(thermogram_id: int) -> None:
-    Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING).update(
+    Thermogram.all_objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING).update(
         heartbeat_at=timezone.now()
     )
 
 
 def _finish(thermogram_id: int, status: str, **fields: Any) -> None:
-    Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING).update(
+    Thermogram.all_objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING).update(
         status=status, heartbeat_at=None, processed_at=timezone.now(), **fields
     )
 
@@ -105,11 +108,26 @@ def _remove_partial_files(thermogram: Thermogram) -> None:
     media_remove_partial(_derived_path(thermogram, ""))
 
 
+def automatic_span(thermogram: Thermogram, temperatures: np.ndarray) -> tuple[float, float]:
+    """The span used when none is fixed, by the thermogram's span rule.
+
+    ``auto``: the 1st to 99th percentile (thermal.auto_span). ``marks``: that span widened
+    to the apparent minimum and maximum of every mark (cached on the marks), so no marked
+    hot or cold spot is clipped to the end colour.
+    """
+    low, high = thermal.auto_span(temperatures)
+    if thermogram.span_rule == SpanRule.MARKS and thermogram.pk:
+        extremes = []
+        for stats in Mark.objects.filter(thermogram=thermogram).values_list("stats", flat=True):
+            extremes += [(stats or {}).get("min_c"), (stats or {}).get("max_c")]
+        low, high = thermal.widen_span(low, high, [v for v in extremes if v is not None])
+    return float(low), float(high)
+
+
 def display_span(thermogram: Thermogram, temperatures: np.ndarray) -> tuple[float, float]:
     if thermogram.span_low_c is not None and thermogram.span_high_c is not None:
         return thermogram.span_low_c, thermogram.span_high_c
-    low, high = thermal.auto_span(temperatures)
-    return float(low), float(high)
+    return automatic_span(thermogram, temperatures)
 
 
 def write_images(thermogram: Thermogram, temperatures: np.ndarray) -> None:
@@ -127,12 +145,27 @@ def write_images(thermogram: Thermogram, temperatures: np.ndarray) -> None:
     )
 
 
+def thermogram_render_previews(thermogram_id: int) -> bool:
+    """Draw a ready thermogram's preview and thumbnail again (palette, span or marks changed).
+
+    Returns False when there is nothing to draw (not ready, or deleted meanwhile).
+    """
+    thermogram = Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.READY).first()
+    if thermogram is None:
+        return False
+    write_images(thermogram, thermogram_temperatures(thermogram))
+    Thermogram.objects.filter(pk=thermogram.pk).update(
+        preview=thermogram.preview.name, thumbnail=thermogram.thumbnail.name
+    )
+    return True
+
+
 def thermogram_process(thermogram_id: int) -> str | None:
     """Decode, store the °C array and render images; returns the final status, or None when
     another worker holds the job or it is already done (safe to call again)."""
     if not _claim(thermogram_id):
         return None
-    thermogram = Thermogram.objects.select_related("organization").get(pk=thermogram_id)
+    thermogram = Thermogram.all_objects.select_related("organization").get(pk=thermogram_id)
     logger.info(
         "Processing thermogram %s",
         thermogram_id,

@@ -38,6 +38,7 @@ from typing import Any
 
 import numpy as np
 
+from survey.captions import mark_caption
 from survey.models import Mark, Survey, Thermogram
 from survey.thermal.units import rounded
 
@@ -184,7 +185,7 @@ def _uncertainty(mark: Mark, apparent_c: float, emissivity: float, reflected_c: 
 def _stats(mark: Mark, temperatures: np.ndarray | None) -> dict:
     if temperatures is not None or not mark.stats:
         from survey.services.arrays import thermogram_temperatures
-        from survey.services.marks import mark_stats
+        from survey.services.mark_stats import mark_stats
 
         if temperatures is None:
             temperatures = thermogram_temperatures(mark.thermogram)
@@ -503,6 +504,8 @@ def mark_readings(
         "points": mark.points,
         "note": mark.note,
         "rise_method": mark.rise_method,
+        "load_current_a": mark.load_current_a,
+        "caption": mark_caption(mark),
         "emissivity": emissivity,
         "emissivity_own": mark.emissivity is not None,
         "reflected_c": reflected_c,

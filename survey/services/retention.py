@@ -16,7 +16,7 @@ from django.db.models import QuerySet
 from django.utils import timezone
 
 from survey.dependents import survey_hold, survey_release
-from survey.models import Survey
+from survey.models import Survey, Thermogram
 from survey.services.audit import audit_record
 
 logger = logging.getLogger(__name__)
@@ -58,7 +58,8 @@ def _purge(survey_id: int, user: AbstractBaseUser | None) -> int | None:
         if reason:
             raise ValidationError(f"{reason} It is kept for good.")
         paths = []
-        for thermogram in survey.thermograms.all():
+        # Thermograms deleted on their own before the survey go with it too.
+        for thermogram in Thermogram.all_objects.filter(survey=survey):
             paths += [getattr(thermogram, name).name for name in THERMOGRAM_FILES]
         paths += survey_release(survey)
         paths = [path for path in paths if path]
@@ -67,8 +68,7 @@ def _purge(survey_id: int, user: AbstractBaseUser | None) -> int | None:
             organization=survey.organization, actor=user, action="purge", obj=survey, detail=detail
         )
         survey.delete()
-        # Files go only once the rows are gone for good.
-        transaction.on_commit(lambda: [default_storage.delete(path) for path in paths])
+        remove_files_on_commit(paths)
     return len(paths)
 
 
@@ -87,3 +87,8 @@ def surveys_purge_due(*, days: int) -> int:
             continue
         purged += removed is not None
     return purged
+
+
+def remove_files_on_commit(paths: list[str]) -> None:
+    """Delete media files once the rows naming them are gone for good (on commit)."""
+    transaction.on_commit(lambda: [default_storage.delete(path) for path in paths])

@@ -15,9 +15,19 @@ from django.utils import timezone
 
 from survey import thermal
 from survey.dependents import survey_hold
-from survey.models import Asset, Client, Conditions, Organization, Site, Survey, Thermogram
+from survey.models import (
+    Asset,
+    Client,
+    Conditions,
+    Organization,
+    Site,
+    SpanRule,
+    Survey,
+    Thermogram,
+)
 from survey.services.arrays import thermogram_temperatures
 from survey.services.audit import audit_record
+from survey.services.locks import thermogram_check_unlocked
 from survey.services.loggers import local_to_aware
 from survey.services.processing import write_images
 
@@ -39,6 +49,10 @@ SURVEY_FIELDS = (
     "scope_not_examined",
     "notes",
     "time_zone",
+    "default_emissivity",
+    "default_reflected_c",
+    "default_palette",
+    "default_span_rule",
 )
 
 
@@ -52,6 +66,7 @@ THERMOGRAM_SETTINGS = (
     "palette",
     "span_low_c",
     "span_high_c",
+    "span_rule",
     "asset",
     "title",
     "note",
@@ -82,7 +97,27 @@ def site_create(
     return site
 
 
+def client_update(*, client: Client, user: AbstractBaseUser | None, **changes: Any) -> Client:
+    unknown = set(changes) - {"name", "contact_name", "email", "address"}
+    if unknown:
+        raise TypeError(f"client_update() got unknown fields: {sorted(unknown)}")
+    apply_changes(client, changes, user=user)
+    return client
+
+
+def site_update(*, site: Site, user: AbstractBaseUser | None, **changes: Any) -> Site:
+    """Rename a site, change its address, or move it to another client of the organization."""
+    unknown = set(changes) - {"name", "address", "client"}
+    if unknown:
+        raise TypeError(f"site_update() got unknown fields: {sorted(unknown)}")
+    check_same_org(site.organization, client=changes.get("client"))
+    apply_changes(site, changes, user=user)
+    return site
+
+
 def asset_create(*, site: Site, user: AbstractBaseUser | None, name: str, **fields: Any) -> Asset:
+    if fields.get("rating") is not None and not fields.get("rating_unit"):
+        raise ValidationError({"rating_unit": "Say whether the rating is in A or kW."})
     asset = Asset(organization=site.organization, site=site, name=name, **fields)
     asset.full_clean()
     asset.save()
@@ -97,6 +132,11 @@ def check_same_org(organization: Organization, **rows: Any) -> None:
     for name, row in rows.items():
         if row is not None and row.organization_id != organization.pk:
             raise ValidationError({name: "Choose one of your organization's records."})
+
+
+def _check_palette(name: str, palette: str | None) -> None:
+    if palette and palette not in thermal.PALETTES:
+        raise ValidationError({name: f"Unknown palette {palette!r}."})
 
 
 @transaction.atomic
@@ -122,6 +162,7 @@ def survey_create(
         camera=fields.get("camera"),
     )
     _camera_accuracy(fields)
+    _check_palette("default_palette", fields.get("default_palette"))
     survey = Survey(
         organization=organization, site=site, kind=kind, date=date, created_by=user, **fields
     )
@@ -152,6 +193,7 @@ def survey_update(
         camera=changes.get("camera"),
     )
     _camera_accuracy(changes)
+    _check_palette("default_palette", changes.get("default_palette"))
     apply_changes(survey, changes, user=user)
     if conditions is not None:
         conditions_update(survey=survey, user=user, **conditions)
@@ -223,6 +265,12 @@ def survey_soft_delete(*, survey: Survey, user: AbstractBaseUser | None) -> Surv
 
 @transaction.atomic
 def survey_restore(*, survey: Survey, user: AbstractBaseUser | None) -> Survey:
+    """Bring a survey back; its site (and client) come back too if they were deleted since."""
+    site = Site.all_objects.get(pk=survey.site_id)
+    if site.deleted_at is not None or Client.all_objects.get(pk=site.client_id).deleted_at:
+        from survey.services.deletion import site_restore
+
+        site_restore(site=site, user=user)
     survey.status = Survey.Status.ACTIVE
     survey.deleted_at = None
     survey.save(update_fields=["status", "deleted_at", "updated_at"])
@@ -244,6 +292,7 @@ def thermogram_update_settings(
     check_same_org(thermogram.organization, asset=changes.get("asset"))
     if changes.get("captured_at") is not None:
         changes["captured_at"] = local_to_aware(thermogram.survey, changes["captured_at"])
+    thermogram_check_unlocked(thermogram)
     low = changes.get("span_low_c", thermogram.span_low_c)
     high = changes.get("span_high_c", thermogram.span_high_c)
     if (low is None) != (high is None):
@@ -255,10 +304,62 @@ def thermogram_update_settings(
             raise ValidationError({"palette": f"Unknown palette {changes['palette']!r}."})
     display_changed = any(
         changes.get(name, getattr(thermogram, name)) != getattr(thermogram, name)
-        for name in ("palette", "span_low_c", "span_high_c")
+        for name in ("palette", "span_low_c", "span_high_c", "span_rule")
     )
     apply_changes(thermogram, changes, user=user)
     if display_changed and thermogram.is_ready:
         write_images(thermogram, thermogram_temperatures(thermogram))
         thermogram.save(update_fields=["preview", "thumbnail"])
     return thermogram
+
+
+# --- survey-wide view defaults -------------------------------------------------------------------
+
+
+@transaction.atomic
+def survey_set_view_defaults(
+    *,
+    survey: Survey,
+    user: AbstractBaseUser | None,
+    palette: str,
+    span_rule: str,
+    apply_to_all: bool = False,
+) -> dict[str, Any]:
+    """Set how the survey's new thermograms are shown; with `apply_to_all`, show every
+    thermogram so now (its own fixed span cleared) and redraw the previews.
+
+    Returns ``applied`` (how many thermograms changed) and ``kept`` (those an issued report
+    holds, left as they are).
+    """
+    from survey.services.display import previews_enqueue
+
+    _check_palette("palette", palette)
+    if span_rule not in SpanRule.values:
+        raise ValidationError({"span_rule": "Choose how the span is set."})
+    survey.default_palette = palette
+    survey.default_span_rule = span_rule
+    survey.full_clean()
+    survey.save(update_fields=["default_palette", "default_span_rule", "updated_at"])
+    applied, kept = 0, []
+    if apply_to_all:
+        for thermogram in survey.thermograms.all():
+            try:
+                thermogram_check_unlocked(thermogram)
+            except ValidationError:
+                kept.append(str(thermogram))
+                continue
+            thermogram.palette = palette or thermogram.palette
+            thermogram.span_rule = span_rule
+            thermogram.span_low_c = thermogram.span_high_c = None
+            thermogram.save(update_fields=["palette", "span_rule", "span_low_c", "span_high_c"])
+            if thermogram.is_ready:
+                previews_enqueue(thermogram.pk)
+            applied += 1
+    audit_record(
+        organization=survey.organization,
+        actor=user,
+        action="view_defaults",
+        obj=survey,
+        detail={"palette": palette, "span_rule": span_rule, "applied": applied, "kept": kept},
+    )
+    return {"applied": applied, "kept": kept}

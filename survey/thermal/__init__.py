@@ -35,7 +35,7 @@ from survey.thermal.geometry import (
 from survey.thermal.heat_transfer import surface_heat_flux
 from survey.thermal.logger import LoggerFileError, LoggerSeries, RowError, read_logger_csv
 from survey.thermal.marks import mark_statistics
-from survey.thermal.palettes import PALETTES, auto_span, invert_palette, render
+from survey.thermal.palettes import PALETTES, auto_span, invert_palette, render, widen_span
 from survey.thermal.proposals import Proposal, drop_rejected, proposal_reason, propose, same_place
 from survey.thermal.psychrometrics import (
     condensation_margin_k,
@@ -72,6 +72,7 @@ __all__ = [
     "affine_from_pairs",
     "apparent_temperature",
     "auto_span",
+    "widen_span",
     "classify_rise",
     "condensation_margin_k",
     "conditions_at",

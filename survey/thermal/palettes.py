@@ -239,6 +239,26 @@ def auto_span(
     return low, high
 
 
+def widen_span(low_c: float, high_c: float, values_c) -> tuple[float, float]:
+    """The span (low_c, high_c) widened just enough to include every finite value given.
+
+    Used for the "include every mark's extremes" span rule: an automatic span clips the
+    hottest and coldest percent of pixels, which may be exactly the marked hot spot.
+
+    Examples
+    --------
+    >>> widen_span(20.0, 30.0, [18.5, 35.0, float("nan")])
+    (18.5, 35.0)
+    >>> widen_span(20.0, 30.0, [])
+    (20.0, 30.0)
+    """
+    values = np.asarray(values_c, dtype=np.float64).ravel()
+    finite = values[np.isfinite(values)]
+    if finite.size == 0:
+        return float(low_c), float(high_c)
+    return float(min(low_c, finite.min())), float(max(high_c, finite.max()))
+
+
 def centred_span(temperatures_c: np.ndarray, reference_c: float) -> tuple[float, float]:
     """A span symmetric about `reference_c` for the `blue-white-red` differential palette.
 

@@ -25,6 +25,7 @@ from survey.access import (
     require_editor,
     thermograms_for,
 )
+from survey.dependents import thermogram_hold
 from survey.models import Mark, Thermogram
 from survey.services import display
 from survey.services import marks as mark_services
@@ -148,6 +149,16 @@ class MarkForm(forms.Form):
     )
     reference = forms.CharField(required=False, max_length=8)
     single_pixel = forms.BooleanField(required=False)
+    load_current_a = forms.FloatField(
+        required=False,
+        min_value=0,
+        max_value=1_000_000,
+        error_messages={
+            "min_value": "The load current cannot be negative.",
+            "max_value": "The load current must be at most 1,000,000 A.",
+            "invalid": "The load current must be a number of amperes.",
+        },
+    )
 
     def __init__(self, data: dict, thermogram: Thermogram, mark: Mark | None = None):
         super().__init__(data)
@@ -173,11 +184,12 @@ def _mark_options(data: dict, thermogram: Thermogram, mark: Mark | None = None) 
     """Validate the JSON fields given; returns only those, as service keyword arguments."""
     allowed = {"emissivity", "reflected_c", "note", "reference", "single_pixel", "points"}
     allowed |= {"name", "rise_method"}
+    allowed |= {"load_current_a"}
     allowed |= {"kind"} if mark is None else set()
     unknown = sorted(set(data) - allowed)
     if unknown:
         raise ValidationError({name: "Unknown or read-only field." for name in unknown})
-    for name in ("emissivity", "reflected_c"):
+    for name in ("emissivity", "reflected_c", "load_current_a"):
         if isinstance(data.get(name), (bool, str)):
             raise ValidationError({name: f"{name} must be a number or null."})
     for name in ("name", "rise_method", "note"):
@@ -229,6 +241,8 @@ def mark_json(mark: Mark, readings: dict) -> dict:
         "points": mark.points,
         "single_pixel": mark.single_pixel,
         "note": mark.note,
+        "load_current_a": mark.load_current_a,
+        "caption": readings.get("caption", ""),
         "emissivity": mark.emissivity,
         "reflected_c": mark.reflected_c,
         "effective_emissivity": readings["emissivity"],
@@ -293,6 +307,8 @@ def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
     survey = thermogram.survey
     ready = thermogram.is_ready
     pk = thermogram.pk
+    # A thermogram an issued report shows opens read-only, and says why.
+    locked = thermogram_hold(thermogram)
     return {
         "id": pk,
         "title": str(thermogram),
@@ -321,7 +337,8 @@ def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
         "palettes": display.palette_ramps(),
         "colours": display.overlay_colours(),
         "unit": member.temperature_unit,
-        "can_edit": member.can_edit,
+        "can_edit": member.can_edit and not locked,
+        "locked": locked,
         "survey": {
             "id": survey.pk,
             "title": str(survey),

@@ -7,10 +7,12 @@ from django.contrib.auth.decorators import login_required
 from django.core.exceptions import ValidationError
 from django.http import HttpRequest, HttpResponse
 from django.shortcuts import redirect, render
+from django.utils import timezone
 from django.views.decorators.http import require_POST
 
 from survey import severity
 from survey.access import (
+    assets_for,
     findings_for,
     get_asset_for_user,
     get_criteria_table_for_user,
@@ -22,6 +24,7 @@ from survey.access import (
     require_admin,
     require_editor,
 )
+from survey.captions import mark_caption
 from survey.cautions import cautions_for, cautions_for_kinds
 from survey.charts import trend_svg
 from survey.conditions import conditions_check
@@ -39,6 +42,7 @@ from survey.models import Finding
 from survey.services import assets as asset_services
 from survey.services import criteria_tables as table_services
 from survey.services import findings as finding_services
+from survey.services import rounds
 
 OPEN = [Finding.Status.OPEN, Finding.Status.REPAIRED]
 
@@ -98,8 +102,14 @@ def finding_create(request: HttpRequest, pk: int) -> HttpResponse:
 @login_required
 def finding_detail(request: HttpRequest, pk: int) -> HttpResponse:
     finding = get_finding_for_user(request, pk)
+    marks = sorted(
+        finding.marks.select_related("thermogram__asset"), key=lambda m: (len(m.label), m.label)
+    )
+    for mark in marks:
+        mark.caption = mark_caption(mark)
     context = {
         "finding": finding,
+        "marks": marks,
         "survey": finding.survey,
         "category": severity.category_label(finding.survey.kind, finding.category),
         "status_form": FindingStatusForm(initial={"status": finding.status}),
@@ -107,7 +117,6 @@ def finding_detail(request: HttpRequest, pk: int) -> HttpResponse:
         "verification": asset_services.repair_verification(finding),
         "verified_text": finding_services.verification_text(finding),
         "changes": finding_services.finding_changes(finding),
-        "marks": sorted(finding.marks.all(), key=lambda m: (len(m.label), m.label)),
         "previous_label": finding_label(finding.previous) if finding.previous_id else "",
         "estimates": finding.heat_loss_estimates.all(),
         "cautions": cautions_for(finding.survey.kind),
@@ -243,19 +252,23 @@ def _with_changes(findings) -> list:
 @login_required
 def asset_detail(request: HttpRequest, pk: int) -> HttpResponse:
     asset = get_asset_for_user(request, pk)
+    unit = get_member(request).temperature_unit
     visits = asset_services.asset_history(asset)
     kinds = sorted({v["survey"].kind for v in visits})
     context = {
         "asset": asset,
+        "due": rounds.register_states(
+            assets_for(get_member(request)).filter(pk=asset.pk), timezone.localdate()
+        )[0],
         "visits": visits,
-        "chart": _asset_chart(asset, visits),
+        "chart": _asset_chart(asset, visits, unit),
         "verifications": asset_services.asset_verifications(asset, visits),
         "cautions": cautions_for_kinds(kinds),
     }
     return render(request, "survey/assets/detail.html", context)
 
 
-def _asset_chart(asset, visits) -> str:
+def _asset_chart(asset, visits, unit: str = "C") -> str:
     points = asset_services.trend_points(visits)
     thresholds = []
     for basis in ("similar", "ambient"):
@@ -264,13 +277,15 @@ def _asset_chart(asset, visits) -> str:
             threshold = severity.no_finding_below(table.rows)
             if threshold is not None:
                 thresholds.append((threshold, f"{basis}: no finding below {threshold:g} K"))
-    return trend_svg(points, 560, 220, "K", title=f"Rise at {asset}", thresholds=thresholds)
+    points, thresholds, label = asset_services.trend_in_unit(points, thresholds, unit)
+    return trend_svg(points, 560, 220, label, title=f"Rise at {asset}", thresholds=thresholds)
 
 
 @login_required
 def asset_trend_svg(request: HttpRequest, pk: int) -> HttpResponse:
     asset = get_asset_for_user(request, pk)
-    svg = _asset_chart(asset, asset_services.asset_history(asset))
+    unit = get_member(request).temperature_unit
+    svg = _asset_chart(asset, asset_services.asset_history(asset), unit)
     return HttpResponse(svg, content_type="image/svg+xml")
 
 

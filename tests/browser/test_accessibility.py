@@ -140,10 +140,16 @@ def demo_firm(transactional_db):
         title="Started by mistake",
     )
     survey_soft_delete(survey=mistake, user=admin.user)
+    # The issued report shows the envelope survey's thermograms, so they open read-only; the
+    # workspace's mark editor is checked on one the report does not hold.
+    electrical = Survey.objects.get(organization=admin.organization, kind=Survey.Kind.ELECTRICAL)
     return {
         "admin": admin,
         "survey": survey,
+        "site": survey.site,
+        "client": survey.site.client,
         "thermogram": survey.thermograms.order_by("pk").first(),
+        "open_thermogram": electrical.thermograms.order_by("pk").first(),
         "finding": survey.findings.order_by("pk").first(),
         "share_token": link.token,
         "template": MarkTemplate.objects.get(organization=admin.organization),
@@ -272,6 +278,9 @@ FORM_ERRORS = [
     ("survey:finding_edit", ("finding",), "main form", {"level": "1"}, ".errorlist"),
     ("survey:heat_loss_create", ("survey",), "main form", {}, ".errorlist"),
     ("survey:survey_delete", ("survey",), "main form", {}, ".errorlist"),
+    ("survey:site", ("site",), "#add-asset", {"rating": "160"}, ".errorlist"),
+    ("survey:client_edit", ("client",), "main form", {}, ".errorlist"),
+    ("survey:thermogram_delete", ("thermogram",), "main form", {}, ".errorlist"),
     ("password_change", (), "main form", {}, ".errorlist"),
     ("reports:survey", ("survey",), "form.issue-form", {}, ".messages .msg-error"),
     ("survey:logger_import", ("survey",), "main form", {}, ".errorlist"),
@@ -286,6 +295,57 @@ FORM_ERRORS = [
         ".errorlist",
     ),
 ]
+
+
+# A phone (390 CSS px, as many phones of 2020–2025 are wide) and a small laptop or tablet in
+# landscape (1024 px): every page must fit the width, wide tables scrolling in their card.
+OVERFLOW_WIDTHS = (390, 1024)
+# The layout viewport's width is clientWidth: with mobile emulation window.innerWidth grows
+# to fit an overflowing page, hiding the overflow it should show.
+OVERFLOW_SCRIPT = """
+var root = document.documentElement, width = root.clientWidth;
+function inScroller(node) {
+  for (var up = node.parentElement; up && up !== document.body; up = up.parentElement) {
+    var style = getComputedStyle(up);
+    if (/(auto|scroll|hidden)/.test(style.overflowX)) { return true; }
+  }
+  return false;
+}
+var wide = [];
+document.querySelectorAll("body *").forEach(function (node) {
+  var box = node.getBoundingClientRect();
+  if (box.width && box.right > width + 1 && !inScroller(node)) {
+    wide.push(node.tagName.toLowerCase() + (node.id ? "#" + node.id : "") +
+      (node.className && node.className.baseVal === undefined ? "." + node.className : "") +
+      " right=" + Math.round(box.right));
+  }
+});
+return {document: root.scrollWidth, viewport: width, wide: wide.slice(0, 5)};
+"""
+
+
+def _overflows(browser, paths, origin: str) -> list[str]:
+    """Pages wider than the window at each width of OVERFLOW_WIDTHS, with what sticks out."""
+    found = []
+    try:
+        for path in paths:
+            for index, width in enumerate(OVERFLOW_WIDTHS):
+                browser.execute_cdp_cmd(
+                    "Emulation.setDeviceMetricsOverride",
+                    {"width": width, "height": 844, "deviceScaleFactor": 1, "mobile": width < 600},
+                )
+                if index == 0:
+                    browser.get(origin + path)
+                _wait_until_settled(browser)
+                measured = browser.execute_script(OVERFLOW_SCRIPT)
+                if measured["document"] > measured["viewport"]:
+                    found.append(
+                        f"{path} at {width} px: document {measured['document']} px wide; "
+                        f"{', '.join(measured['wide'])}"
+                    )
+    finally:
+        browser.execute_cdp_cmd("Emulation.clearDeviceMetricsOverride", {})
+    return found
 
 
 class PageChecker:
@@ -431,7 +491,7 @@ def test_it_finds_no_wcag_violation_and_no_html_error_on_any_page(chromium, live
     assert len(checker.checked) >= 30, f"the crawl reached only {checker.checked}"
 
     # The workspace as scripts leave it with a mark picked: the mark editor is open.
-    browser.get(origin + reverse("survey:thermogram", args=[demo_firm["thermogram"].pk]))
+    browser.get(origin + reverse("survey:thermogram", args=[demo_firm["open_thermogram"].pk]))
     _wait_until_settled(browser)
     browser.find_element(By.CSS_SELECTOR, "#ws-table-body button.ws-label").click()
     assert browser.find_element(By.ID, "ws-editor").is_displayed(), "the mark editor stayed shut"
@@ -443,8 +503,17 @@ def test_it_finds_no_wcag_violation_and_no_html_error_on_any_page(chromium, live
 
     assert urlparse(browser.current_url).path != login_path, "the session ended mid-crawl"
     print(f"\nChecked {len(checker.checked)} pages:\n  " + "\n  ".join(checker.checked))
+    # Every page reached, at a phone's and a small laptop's width: nothing wider than the
+    # window (the share page signed out as well, as the client sees it).
+    pages = [path for path in checker.served if not path.endswith("(sent with errors)")]
+    signed_out = pages[:3]  # sign-in, a live share link, a dead one: checked first above
+    overflows = _overflows(browser, pages[3:], origin)
+    browser.delete_all_cookies()
+    overflows += _overflows(browser, signed_out, origin)
     html_errors = _vnu_errors(checker.served)
     report = []
+    if overflows:
+        report.append(f"{len(overflows)} pages wider than the window:\n  " + "\n  ".join(overflows))
     if checker.violations:
         report.append(
             f"{len(checker.violations)} accessibility violations:\n  "

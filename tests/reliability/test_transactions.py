@@ -110,13 +110,14 @@ def _share(world):
 
 @pytest.fixture
 def world(envelope_survey, reviewer, thermographer):
-    thermogram = make_thermogram(envelope_survey)
     report = Report.objects.create(
         organization=envelope_survey.organization, survey=envelope_survey, number="R2026-900"
     )
     version = ReportVersion.objects.create(
         report=report, version=1, is_draft=False, status=ReportVersion.Status.ISSUED
     )
+    # Uploaded after the issue: the issued report does not show it, so it can still be marked.
+    thermogram = make_thermogram(envelope_survey)
     return {
         "survey": envelope_survey,
         "thermogram": thermogram,

@@ -200,7 +200,41 @@ class Command(BaseCommand):
                 "covers_opened_by_qualified": True,
             },
         )
-        panel = self._asset(kestrel, admin, "Main distribution panel", Asset.Kind.PANEL, "MDP-1")
+        panel = self._asset(
+            kestrel,
+            admin,
+            "Main distribution panel",
+            Asset.Kind.PANEL,
+            "MDP-1",
+            rating=400.0,
+            rating_unit="A",
+            criticality="high",
+            round_order=1,
+            location="Switch room, ground floor",
+        )
+        self._asset(
+            kestrel,
+            admin,
+            "Supply transformer",
+            Asset.Kind.TRANSFORMER,
+            "TX-1",
+            rating=630.0,
+            rating_unit="kW",
+            criticality="high",
+            round_order=2,
+            location="Transformer room (locked)",
+        )
+        self._asset(
+            kestrel,
+            admin,
+            "Mixer drive motor",
+            Asset.Kind.MOTOR,
+            "M-14",
+            rating=45.0,
+            rating_unit="kW",
+            round_order=3,
+            location="Mixing hall, line 2",
+        )
         wall_zone = self._asset(alder, admin, "North wall, flat B2", Asset.Kind.WALL_ZONE, "")
         roof_section = self._asset(alder, admin, "Roof section B", Asset.Kind.ROOF_SECTION, "")
 
@@ -290,9 +324,9 @@ class Command(BaseCommand):
             lugs,
             admin,
             [
-                ("ellipse", [[62, 52], [78, 68]], {"note": "Phase A lug"}),
-                ("ellipse", [[112, 52], [128, 68]], {"note": "Phase B lug"}),
-                ("ellipse", [[162, 52], [178, 68]], {"note": "Phase C lug"}),
+                ("ellipse", [[62, 52], [78, 68]], {"note": "Phase A lug", "load_current_a": 246}),
+                ("ellipse", [[112, 52], [128, 68]], {"note": "Phase B lug", "load_current_a": 251}),
+                ("ellipse", [[162, 52], [178, 68]], {"note": "Phase C lug", "load_current_a": 240}),
             ],
         )
         self._findings(envelope, electrical, slab, window, lugs, admin)
@@ -391,12 +425,12 @@ class Command(BaseCommand):
             certificate_reference="CAL-DEMO-0001 (invented)",
         )
 
-    def _asset(self, site: Site, admin: Member, name: str, kind: str, tag: str) -> Asset:
+    def _asset(self, site: Site, admin: Member, name: str, kind: str, tag: str, **fields) -> Asset:
         asset = Asset.objects.filter(site=site, name=name).first()
         if asset is not None:
             return asset
         return surveys.asset_create(
-            site=site, user=admin.user, name=name, kind=kind, tag=tag, notes=FICTION
+            site=site, user=admin.user, name=name, kind=kind, tag=tag, notes=FICTION, **fields
         )
 
     def _thermogram(self, survey, admin, name, data, *, title, **options) -> Thermogram:

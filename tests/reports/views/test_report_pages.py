@@ -31,6 +31,9 @@ def _urls(version, link) -> list[tuple[str, str]]:
         ("post", reverse("reports:retry", args=[version.pk])),
         ("post", reverse("reports:share_create", args=[version.pk])),
         ("post", reverse("reports:share_revoke", args=[link.pk])),
+        ("get", reverse("reports:share_revoke", args=[link.pk])),
+        ("post", reverse("reports:share_email", args=[link.pk])),
+        ("get", reverse("reports:issue", args=[report_id])),
     ]
 
 
@@ -140,7 +143,13 @@ def test_it_creates_and_revokes_a_share_link(reviewer_client, issued_version):
     reviewer_client.post(reverse("reports:share_create", args=[issued_version.pk]), {"days": "10"})
     link = ShareLink.objects.get()
     assert link.expires_at.date() == (timezone.now() + datetime.timedelta(days=10)).date()
-    reviewer_client.post(reverse("reports:share_revoke", args=[link.pk]))
+    revoke = reverse("reports:share_revoke", args=[link.pk])
+    # Revoking asks first: the page, then an unticked send, leave the link live.
+    assert "Revoke the link" in reviewer_client.get(revoke).content.decode()
+    assert "Tick the box" in reviewer_client.post(revoke).content.decode()
+    link.refresh_from_db()
+    assert link.revoked_at is None
+    reviewer_client.post(revoke, {"confirm": "on"})
     link.refresh_from_db()
     assert link.revoked_at is not None
 
