@@ -274,10 +274,11 @@ class SurveyForm(UnitFormMixin, forms.Form):
         length_unit: str = "m",
     ) -> dict:
         """Initial values from stored survey and conditions values (a new visit's copy)."""
-        values = {k: v for k, v in survey_values.items() if k not in ("thermographer", "reviewer")}
-        for name in ("thermographer", "reviewer"):
-            member = survey_values.get(name)
-            values[name] = member.pk if member is not None else None
+        related = ("thermographer", "reviewer", "camera")
+        values = {k: v for k, v in survey_values.items() if k not in related}
+        for name in related:
+            row = survey_values.get(name)
+            values[name] = row.pk if row is not None else None
         for name, value in conditions.items():
             values[name] = yes_no_initial(value) if name in CONDITION_BOOL_FIELDS else value
         return cls.initial_in_unit(values, unit, speed_unit, length_unit)

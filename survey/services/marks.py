@@ -13,10 +13,10 @@ from django.core.exceptions import ValidationError
 from django.db import transaction
 from django.db.models import Q
 
+from survey.hooks import marks_changed
 from survey.models import Mark, SpanRule, Thermogram, mark_label
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.audit import audit_record
-from survey.services.display import previews_enqueue
 from survey.services.locks import thermogram_check_unlocked
 from survey.services.mark_stats import mark_stats
 from survey.thermal.alignment import affine_from_pairs
@@ -133,7 +133,7 @@ def _lock(thermogram: Thermogram) -> Thermogram:
 def _marks_changed(thermogram: Thermogram) -> None:
     """A span widened to the marks' extremes follows them: redraw the previews."""
     if thermogram.span_rule == SpanRule.MARKS and thermogram.span_low_c is None:
-        previews_enqueue(thermogram.pk)
+        marks_changed(thermogram.pk)
 
 
 @transaction.atomic

@@ -50,6 +50,7 @@ COPIED_SURVEY_FIELDS = (
     "crew",
     "thermographer",
     "reviewer",
+    "camera",
     "instrument",
     "ifov_mrad",
     "camera_accuracy_c",
@@ -60,6 +61,7 @@ COPIED_SURVEY_FIELDS = (
     "default_reflected_c",
     "default_palette",
     "default_span_rule",
+    "time_zone",
 )
 STATUS_LABELS = {
     "overdue": "Overdue",

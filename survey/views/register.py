@@ -25,6 +25,7 @@ from survey.access import (
     get_round_stop_for_user,
     get_site_for_user,
     get_survey_for_user,
+    instruments_for,
     members_for,
     require_editor,
     sites_for,
@@ -145,6 +146,7 @@ def site_visit(request: HttpRequest, pk: int) -> HttpResponse:
         submitted(request),
         sites=sites_for(member).filter(pk=site.pk),
         members=members_for(member),
+        instruments=instruments_for(member),
         initial=initial,
         **member_units(member),
     )

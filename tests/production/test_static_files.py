@@ -30,13 +30,18 @@ YEAR_S = 365 * 24 * 3600
 SKIP = re.compile(r"(logout|/original/|\.png$|\.npy$|\.svg$|\.csv$|\.json$|/pdf/|/admin/)")
 
 
-def _crawl(browser: Browser, start: str, limit: int = 40) -> dict[str, str]:
-    """HTML of up to `limit` pages reached by links from `start` (GET only)."""
-    pages, queue = {}, [start]
+def _crawl(browser: Browser, start: str, limit: int = 60, per_pattern: int = 2) -> dict[str, str]:
+    """HTML of up to `limit` pages reached by links from `start` (GET only), at most
+    `per_pattern` of each address shape (/assets/2/ and /assets/3/ are one shape)."""
+    pages, queue, shapes = {}, [start], {}
     while queue and len(pages) < limit:
         path = queue.pop(0)
         if path in pages:
             continue
+        shape = re.sub(r"\d+", "N", path)
+        if shapes.get(shape, 0) >= per_pattern:
+            continue
+        shapes[shape] = shapes.get(shape, 0) + 1
         response = browser.get(path)
         assert response.status_code == 200, (path, response.status_code)
         pages[path] = response.text

@@ -5,6 +5,7 @@ import hashlib
 
 import numpy as np
 import pytest
+from django.core.exceptions import ValidationError
 from django.urls import reverse
 
 from reports.models import ReportVersion
@@ -136,8 +137,8 @@ def test_it_notices_a_reference_and_a_reflected_temperature_change(judged):
 def test_it_never_changes_an_issued_report_when_a_finding_is_judged_again(
     judged, reviewer, thermographer_client, django_capture_on_commit_callbacks
 ):
-    """The issued PDF keeps its bytes and fingerprint after the marks change and the
-    finding is judged again."""
+    """The issued PDF keeps its bytes and fingerprint: the marks of a thermogram it shows are
+    locked, and judging the finding again leaves the issued file alone."""
     from reports.services import report_create, report_issue
 
     finding, hot, _ = judged
@@ -147,7 +148,8 @@ def test_it_never_changes_an_issued_report_when_a_finding_is_judged_again(
     version.refresh_from_db()
     with version.pdf.open("rb") as handle:
         issued = handle.read()
-    mark_update(mark=hot, user=None, emissivity=0.8)
+    with pytest.raises(ValidationError, match="can no longer be changed"):
+        mark_update(mark=hot, user=None, emissivity=0.8)
     thermographer_client.post(reverse("survey:finding_rejudge", args=[finding.pk]))
     version = ReportVersion.objects.get(pk=version.pk)
     with version.pdf.open("rb") as handle:
