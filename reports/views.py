@@ -22,6 +22,7 @@ from reports.access import (
 )
 from reports.forms import IssueForm, ShareLinkForm
 from reports.models import ReportVersion
+from reports.rendering import version_is_stalled
 from reports.results import content_digest, survey_results
 from survey.access import get_member, get_survey_for_user
 from survey.files import serve_file
@@ -67,12 +68,27 @@ def report_create(request: HttpRequest, survey_id: int) -> HttpResponse:
     return redirect(_survey_page(survey.pk))
 
 
+WAITING_MESSAGE = (
+    "The render queue cannot be reached just now. The request is kept and the PDF will be "
+    "made when the queue is back; nothing needs to be done again."
+)
+
+
+def _queued(request: HttpRequest, version: ReportVersion, message: str) -> None:
+    """Say that the version is queued, or that it waits for the broker (decided on commit)."""
+    version.refresh_from_db(fields=["waiting_for_broker"])
+    if version.waiting_for_broker:
+        messages.warning(request, WAITING_MESSAGE)
+    else:
+        messages.success(request, message)
+
+
 @login_required
 @require_POST
 def draft_request(request: HttpRequest, report_id: int) -> HttpResponse:
     report = get_report_for_user(request, report_id)
-    services.report_request_draft(report=report, user=request.user)
-    messages.success(request, "Draft requested; this page shows its progress.")
+    version = services.report_request_draft(report=report, user=request.user)
+    _queued(request, version, "Draft requested; this page shows its progress.")
     return redirect(_survey_page(report.survey_id))
 
 
@@ -84,6 +100,8 @@ def version_retry(request: HttpRequest, version_id: int) -> HttpResponse:
         services.report_retry(version=version, user=request.user)
     except ValidationError as error:
         _fail(request, error)
+    else:
+        _queued(request, version, "Queued again; this page shows its progress.")
     return redirect(_survey_page(version.report.survey_id))
 
 
@@ -102,7 +120,7 @@ def report_issue(request: HttpRequest, report_id: int) -> HttpResponse:
     except ValidationError as error:
         _fail(request, error)
     else:
-        messages.success(request, f"Version {version.version} is being issued.")
+        _queued(request, version, f"Version {version.version} is being issued.")
     return redirect(_survey_page(report.survey_id))
 
 
@@ -111,11 +129,15 @@ def report_issue(request: HttpRequest, report_id: int) -> HttpResponse:
 def version_progress(request: HttpRequest, version_id: int) -> JsonResponse:
     version = get_report_version_for_user(request, version_id)
     done = version.status in {ReportVersion.Status.READY, ReportVersion.Status.ISSUED}
+    stage = version.stage
+    if version_is_stalled(version):
+        stage = "Stalled: its worker was lost; it is being queued again"
     return JsonResponse(
         {
             "status": version.status,
             "status_label": version.get_status_display(),
-            "stage": version.stage,
+            "stage": stage,
+            "waiting_for_broker": version.waiting_for_broker,
             "progress_pct": version.progress_pct,
             "done": done,
             "failed": version.status == ReportVersion.Status.FAILED,

@@ -341,6 +341,10 @@ class Thermogram(models.Model):
     processed_at = models.DateTimeField(null=True, blank=True)
     # Set when a worker claims the job and while it works; a stale one means a stalled job.
     heartbeat_at = models.DateTimeField(null=True, blank=True)
+    # The job could not be handed to the broker; the re-queue job sends it when it is back.
+    waiting_for_broker = models.BooleanField(default=False)
+    # How many times a worker has taken the job; one lost too often is failed, not retried.
+    attempts = models.PositiveSmallIntegerField(default=0)
 
     class Meta:
         ordering = ["survey", "sequence", "id"]

@@ -1,4 +1,8 @@
-"""Celery tasks: they take ids and hand the work to a service (imported inside the task)."""
+"""Celery tasks: they take ids and hand the work to a service (imported inside the task).
+
+The periodic jobs at the end run from celery beat (CELERY_BEAT_SCHEDULE in settings.py);
+each is idempotent, so a late, repeated or overlapping run does no harm.
+"""
 
 from celery import shared_task
 
@@ -15,10 +19,26 @@ def process_thermogram(self, thermogram_id: int) -> str | None:
     delivery would lose the job.
     """
     from survey.models import Thermogram
-    from survey.services.processing import STALLED_AFTER, thermogram_process
+    from survey.services.processing import stalled_after, thermogram_process
 
-    status = thermogram_process(thermogram_id)
+    status = thermogram_process(thermogram_id, keep_alive=not self.request.is_eager)
     held = Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING)
     if status is None and held.exists():
-        raise self.retry(countdown=STALLED_AFTER.total_seconds() + 1)
+        raise self.retry(countdown=stalled_after().total_seconds() + 1)
     return status
+
+
+@shared_task(ignore_result=True)
+def requeue_thermograms() -> int:
+    """Periodic: send again the thermograms waiting for the broker or whose worker was lost."""
+    from survey.services.ingest import thermograms_requeue
+
+    return thermograms_requeue().sent
+
+
+@shared_task(ignore_result=True)
+def prune_signin_throttle() -> int:
+    """Periodic: forget sign-in counters that no longer hold anyone back."""
+    from survey.services.signin import throttle_prune
+
+    return throttle_prune()

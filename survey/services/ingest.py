@@ -19,7 +19,8 @@ from django.core.files.base import ContentFile
 from django.core.files.storage import default_storage
 from django.core.files.uploadedfile import UploadedFile
 from django.db import transaction
-from django.db.models import Max
+from django.db.models import Max, Q
+from django.utils import timezone
 
 from survey import thermal
 from survey.models import Asset, Survey, Thermogram
@@ -235,6 +236,8 @@ def thermogram_ingest(
 class BatchResult:
     created: list[Thermogram] = field(default_factory=list)
     rejected: list[tuple[str, str]] = field(default_factory=list)
+    # Stored, but the broker could not be reached to start their processing.
+    waiting_for_broker: int = 0
 
 
 def _messages(error: ValidationError) -> str:
@@ -271,6 +274,10 @@ def thermograms_ingest_batch(
             )
         except ValidationError as error:
             result.rejected.append((_file_name(uploaded), _messages(error)))
+    created = [thermogram.pk for thermogram in result.created]
+    result.waiting_for_broker = Thermogram.objects.filter(
+        pk__in=created, waiting_for_broker=True
+    ).count()
     return result
 
 
@@ -280,18 +287,61 @@ def thermogram_enqueue(thermogram_id: int) -> None:
 
 
 def thermogram_publish(thermogram_id: int) -> bool:
-    """Publish the task; when the broker is down the row stays `queued` for requeue_thermograms."""
+    """Publish the task; when the broker is down the row is marked as waiting for it.
+
+    The re-queue job (survey.tasks.requeue_thermograms, every minute) or
+    `manage.py requeue_thermograms` sends it again once the broker answers.
+    """
+    rows = Thermogram.objects.filter(pk=thermogram_id)
     try:
         process_thermogram.apply_async(args=[thermogram_id], retry=False)
     except Exception as error:  # kombu/redis raise several connection error types
         logger.warning(
-            "Could not queue thermogram %s (%s); it stays queued until "
-            "`manage.py requeue_thermograms` runs.",
-            thermogram_id,
-            error,
+            "Could not queue thermogram %s (%s); it waits for the broker.", thermogram_id, error
         )
+        rows.filter(status=Thermogram.Status.QUEUED).update(waiting_for_broker=True)
         return False
+    rows.filter(waiting_for_broker=True).update(waiting_for_broker=False)
     return True
+
+
+@dataclass
+class RequeueResult:
+    sent: int = 0
+    failed: int = 0
+
+
+def thermograms_requeue(
+    *, survey_id: int | None = None, every_queued: bool = False
+) -> RequeueResult:
+    """Send again the jobs waiting for the broker and those whose worker was lost.
+
+    A stalled job (processing, heartbeat older than the stall time) goes back to `queued`
+    first so that the task's claim takes it. `every_queued` also re-sends queued jobs the
+    broker has already accepted (after Redis lost its data); a duplicate task is harmless,
+    as the claim lets only one through. Idempotent: run it as often as you like.
+    """
+    from survey.services.processing import stalled_after
+
+    stalled = Q(status=Thermogram.Status.PROCESSING) & (
+        Q(heartbeat_at__lt=timezone.now() - stalled_after()) | Q(heartbeat_at__isnull=True)
+    )
+    waiting = Q(status=Thermogram.Status.QUEUED)
+    if not every_queued:
+        waiting &= Q(waiting_for_broker=True)
+    rows = Thermogram.objects.filter(stalled | waiting)
+    if survey_id is not None:
+        rows = rows.filter(survey_id=survey_id)
+    result = RequeueResult()
+    for thermogram_id in rows.order_by("pk").values_list("pk", flat=True):
+        Thermogram.objects.filter(pk=thermogram_id).filter(stalled).update(
+            status=Thermogram.Status.QUEUED, heartbeat_at=None
+        )
+        if thermogram_publish(thermogram_id):
+            result.sent += 1
+        else:
+            result.failed += 1
+    return result
 
 
 @transaction.atomic
@@ -322,6 +372,8 @@ def thermogram_reprocess(
     thermogram.status = Thermogram.Status.QUEUED
     thermogram.error = ""
     thermogram.heartbeat_at = None
+    thermogram.attempts = 0
+    thermogram.waiting_for_broker = False
     thermogram.full_clean()
     thermogram.save()
     audit_record(

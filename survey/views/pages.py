@@ -178,7 +178,7 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
     )
     thermograms = list(survey.thermograms.all())
     for thermogram in thermograms:
-        thermogram.stalled = processing.thermogram_is_stalled(thermogram)
+        thermogram.status_text = processing.thermogram_status_text(thermogram)
     context = {
         "survey": survey,
         "thermograms": thermograms,
@@ -210,7 +210,13 @@ def survey_upload(request: HttpRequest, pk: int) -> HttpResponse:
         user=request.user,
         **form.ingest_defaults(),
     )
-    if result.created:
+    if result.waiting_for_broker:
+        messages.warning(
+            request,
+            f"Stored {len(result.created)} file(s). The processing queue cannot be reached just "
+            "now: they will be processed automatically when it is back.",
+        )
+    elif result.created:
         messages.success(request, f"Stored {len(result.created)} file(s); processing has started.")
     for name, reason in result.rejected:
         messages.error(request, f"{name} was not stored: {reason}")
@@ -228,7 +234,7 @@ def survey_status(request: HttpRequest, pk: int) -> JsonResponse:
             {
                 "id": thermogram.pk,
                 "status": thermogram.status,
-                "status_display": thermogram.get_status_display(),
+                "status_display": processing.thermogram_status_text(thermogram),
                 "stalled": processing.thermogram_is_stalled(thermogram),
                 "error": thermogram.error,
                 "thumbnail": reverse("survey:thermogram_thumbnail", args=[thermogram.pk])

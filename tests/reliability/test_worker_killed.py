@@ -129,16 +129,6 @@ def _kill_mid_processing(thermogram: Thermogram, victim, moment=None) -> None:
     assert not thermogram.preview
 
 
-@pytest.fixture
-def publisher(settings):
-    from survey.celery import app
-
-    settings.CELERY_TASK_ALWAYS_EAGER = False
-    app.conf.task_always_eager = False
-    yield app
-    app.conf.task_always_eager = True
-
-
 @pytest.mark.services
 @pytest.mark.slow
 def test_it_redelivers_the_task_of_a_killed_worker_to_another_worker(

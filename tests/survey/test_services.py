@@ -285,7 +285,7 @@ def test_it_reclaims_a_stalled_job_but_not_a_live_one(envelope_survey):
     )
     assert processing.thermogram_process(thermogram.pk) is None
     Thermogram.objects.filter(pk=thermogram.pk).update(
-        heartbeat_at=timezone.now() - processing.STALLED_AFTER - datetime.timedelta(minutes=1)
+        heartbeat_at=timezone.now() - processing.stalled_after() - datetime.timedelta(minutes=1)
     )
     assert processing.thermogram_process(thermogram.pk) == Thermogram.Status.READY
 
@@ -325,12 +325,15 @@ def test_it_keeps_the_upload_queued_when_the_broker_is_down(
     finally:
         app.conf.task_always_eager = True
         settings.CELERY_TASK_ALWAYS_EAGER = True
+    thermogram.refresh_from_db()
     assert thermogram.status == Thermogram.Status.QUEUED
+    assert thermogram.waiting_for_broker
     assert thermogram.original and thermogram.original_sha256
-    assert "requeue_thermograms" in caplog.text
+    assert "waits for the broker" in caplog.text
     call_command("requeue_thermograms")
     thermogram.refresh_from_db()
     assert thermogram.status == Thermogram.Status.READY
+    assert not thermogram.waiting_for_broker
 
 
 def test_it_caches_the_array_until_it_is_rewritten(
