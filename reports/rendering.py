@@ -143,6 +143,7 @@ def _store_pdf(version: ReportVersion, rendered) -> bool:
         sha256=hashlib.sha256(rendered.pdf).hexdigest(),
         content_sha256=rendered.content_sha256,
         page_count=rendered.page_count,
+        notes=rendered.notes,
         status=ReportVersion.Status.ISSUED if final else ReportVersion.Status.READY,
         stage="Done",
         progress_pct=100,

@@ -28,7 +28,7 @@ from survey.services.audit import audit_record
 from survey.services.surveys import check_same_org
 from survey.tasks import process_thermogram
 from survey.thermal import units
-from survey.thermal.decode import detect_format
+from survey.thermal.decode import declared_size, detect_format
 
 logger = logging.getLogger(__name__)
 
@@ -130,6 +130,10 @@ def thermogram_check_upload(
             "False-colour options were given, but this file holds temperature data: "
             "upload it without them."
         )
+    try:
+        declared_size(data, name, max_pixels=settings.THERMOGRAM_MAX_PIXELS)
+    except thermal.ThermogramFormatError as error:
+        raise ValidationError(str(error)) from None
     return "false-colour" if false_colour else kind
 
 

@@ -39,6 +39,11 @@ import numpy as np
 MAX_PIXELS = 20_000_000
 """Default pixel limit: 20 megapixels, far above any thermal camera sensor."""
 
+MAX_ASPECT_RATIO = 20.0
+"""Longest side over shortest side of an accepted image. Camera frames are 4:3 to 16:9 and
+a panorama stitched from a dozen frames stays well inside 20:1; a 2 × 2000 table is an
+export gone wrong, not a picture, and would make every drawing of it degenerate."""
+
 MAX_FILE_BYTES = 200 * 1024 * 1024
 """Default size limit of a binary file (TIFF, PNG, JPEG, .npy), in bytes."""
 
@@ -219,7 +224,11 @@ def read_temperatures(
                 f"{name} is a {_FORMAT_NAMES[kind]}, not a false-colour picture; palette "
                 "decoding needs a JPEG or PNG."
             )
-        return _read_palette_picture(data, name, palette, low_c, high_c, scale_bar_box, max_pixels)
+        values = _read_palette_picture(
+            data, name, palette, low_c, high_c, scale_bar_box, max_pixels
+        )
+        _check_pixels(name, values.shape[1], values.shape[0], max_pixels)
+        return values
     if kind == "tiff":
         values = _read_tiff(data, name, max_pixels)
     elif kind == "npy":
@@ -233,6 +242,7 @@ def read_temperatures(
             )
     else:
         values = _read_picture(data, name, kind, max_pixels)
+    _check_pixels(name, values.shape[1], values.shape[0], max_pixels)
     return _to_celsius(values, name, unit, scale, offset)
 
 
@@ -330,6 +340,116 @@ def _check_pixels(name: str, width: int, height: int, max_pixels: int) -> None:
             f"{name} is {width}×{height} pixels; images may have at most "
             f"{max_pixels / 1e6:g} megapixels."
         )
+    _check_aspect(name, width, height)
+
+
+def _check_aspect(name: str, width: int, height: int) -> None:
+    long, short = max(width, height), min(width, height)
+    if long > MAX_ASPECT_RATIO * short:
+        wide = width >= height
+        raise ThermogramFormatError(
+            f"{name} is {width}×{height} pixels, {long / short:.0f} times as "
+            f"{'wide as it is tall' if wide else 'tall as it is wide'}; an image may be at most "
+            f"{MAX_ASPECT_RATIO:g} times as wide as it is tall, or as tall as it is wide. "
+            "Check the export: rows and columns may have been cut or joined."
+        )
+
+
+def declared_size(data: bytes, name: str = "", *, max_pixels: int = MAX_PIXELS):
+    """(width, height) of an image from its header, or of a text table from its first row
+    and its number of rows, without decoding the values; None when the content is not one
+    we can size (the decoder then says why).
+
+    Raises `ThermogramFormatError` when the size is over `max_pixels` or the shape beyond
+    `MAX_ASPECT_RATIO`: what the decoder would refuse, known before anything is stored.
+
+    Examples
+    --------
+    >>> declared_size(b"20;21;22\\n23;24;25\\n", "wall.csv")
+    (3, 2)
+    """
+    name = name or "the file"
+    try:
+        kind = detect_format(data)
+    except ThermogramFormatError:
+        return None
+    try:
+        size = _SIZE_READERS[kind](bytes(data))
+    except ThermogramFormatError:
+        if kind == "jpeg":  # a bomb: its size is not even read
+            raise ThermogramFormatError(
+                f"{name} declares too many pixels; images may have at most "
+                f"{max_pixels / 1e6:g} megapixels."
+            ) from None
+        return None
+    except Exception:  # noqa: BLE001 - a damaged header is the decoder's to explain
+        return None
+    if size is not None:
+        _check_pixels(name, size[0], size[1], max_pixels)
+    return size
+
+
+def _png_size(data: bytes):
+    if data[12:16] != b"IHDR":
+        return None
+    return int.from_bytes(data[16:20], "big"), int.from_bytes(data[20:24], "big")
+
+
+def _picture_size(data: bytes):
+    from PIL import Image
+
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", Image.DecompressionBombWarning)
+            with Image.open(io.BytesIO(data)) as image:  # reads the header only
+                return image.size
+    except Image.DecompressionBombError:
+        raise ThermogramFormatError("The picture declares far too many pixels.") from None
+
+
+def _tiff_size(data: bytes):
+    import tifffile
+
+    with tifffile.TiffFile(io.BytesIO(data)) as tiff:
+        page = tiff.pages.first
+        return int(page.imagewidth), int(page.imagelength)
+
+
+def _npy_size(data: bytes):
+    buffer = io.BytesIO(data)
+    version = np.lib.format.read_magic(buffer)
+    read = (
+        np.lib.format.read_array_header_1_0
+        if version == (1, 0)
+        else np.lib.format.read_array_header_2_0
+    )
+    shape = [int(n) for n in read(buffer)[0] if n != 1] or [1, 1]
+    return (shape[-1], int(np.prod(shape[:-1]))) if len(shape) > 1 else (shape[0], 1)
+
+
+def _text_size(data: bytes):
+    text = data.decode("utf-8-sig", errors="replace")
+    first_lines = _first_lines(text.replace("\r\n", "\n").replace("\r", "\n"), 2)
+    if not first_lines:
+        return None
+    delimiter = _delimiter_of(first_lines[-1][1])
+    rows = len(_NOT_BLANK_LINE.findall(text))
+    first = first_lines[0][1]
+    if not _row_is_numeric(_split_line(first, delimiter), delimiter):
+        rows -= 1
+        first = first_lines[-1][1] if len(first_lines) > 1 else ""
+    return len(_split_line(first, delimiter)), rows
+
+
+_NOT_BLANK_LINE = re.compile(r"^[^\S\n]*\S", re.MULTILINE)
+
+_SIZE_READERS = {
+    "png": _png_size,
+    "jpeg": _picture_size,
+    "tiff": _tiff_size,
+    "npy": _npy_size,
+    "text": _text_size,
+}
 
 
 def _plane(values: np.ndarray, name: str) -> np.ndarray:
@@ -549,15 +669,7 @@ def _read_text(data: bytes, name: str, max_pixels: int) -> tuple[np.ndarray, str
     first_lines = _first_lines(text, 2)
     if not first_lines:
         raise ThermogramFormatError(f"{name} holds no numbers.")
-    sample = first_lines[-1][1]
-    if "\t" in sample:
-        delimiter = "\t"
-    elif ";" in sample:
-        delimiter = ";"
-    elif "," in sample:
-        delimiter = ","
-    else:
-        delimiter = None  # spaces
+    delimiter = _delimiter_of(first_lines[-1][1])
     header_unit = None
     first_number, first = first_lines[0]
     body, body_first_line = text, 1
@@ -592,6 +704,14 @@ def _read_text(data: bytes, name: str, max_pixels: int) -> tuple[np.ndarray, str
         rows.append(_parse_row(name, number, cells, decimal_comma))
     _check_pixels(name, len(rows[0]), len(rows), max_pixels)
     return np.array(rows, dtype=np.float64), header_unit
+
+
+def _delimiter_of(sample: str) -> str | None:
+    """The separator of a row: tab, semicolon, comma, or None for spaces."""
+    for delimiter in ("\t", ";", ","):
+        if delimiter in sample:
+            return delimiter
+    return None
 
 
 _NOT_BLANK = re.compile(r"\S")

@@ -436,3 +436,22 @@ def test_it_refuses_to_delete_a_survey_with_an_issued_report(envelope_survey, ow
     assert Survey.objects.get(pk=envelope_survey.pk).status == Survey.Status.DELETED
     surveys.survey_restore(survey=envelope_survey, user=owner.user)
     assert Survey.objects.get(pk=envelope_survey.pk).status == Survey.Status.ACTIVE
+
+
+@pytest.mark.parametrize(
+    "name, data",
+    [
+        # 2 rows of 2000 values: a 12 kB table of the kind that took a report worker to 3 GB.
+        ("strip.csv", ("\n".join(";".join(["21.5"] * 2000) for _ in range(2)) + "\n").encode()),
+        ("strip.csv", ("\n".join("21.5;22.5" for _ in range(2000)) + "\n").encode()),
+    ],
+)
+def test_it_refuses_an_extreme_shape_at_upload(envelope_survey, settings, name, data):
+    """Nothing is stored; the message gives the shape and the limit."""
+    with pytest.raises(ValidationError) as caught:
+        ingest_services.thermogram_ingest(
+            survey=envelope_survey, uploaded_file=upload(name, data), user=None
+        )
+    assert "at most 20 times as wide as it is tall" in " ".join(caught.value.messages)
+    assert not envelope_survey.thermograms.exists()
+    assert media_files(settings) == []
