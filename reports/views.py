@@ -26,6 +26,7 @@ from reports.rendering import version_is_stalled
 from reports.results import content_digest, survey_results
 from survey.access import get_member, get_survey_for_user
 from survey.files import serve_file
+from survey.net import client_address
 
 
 def _fail(request: HttpRequest, error: ValidationError) -> None:
@@ -37,7 +38,8 @@ def _survey_page(survey_id: int) -> str:
 
 
 def _client_ip(request: HttpRequest) -> str | None:
-    return request.META.get("REMOTE_ADDR") or None
+    address = client_address(request)
+    return None if address == "unknown" else address
 
 
 @login_required

@@ -587,3 +587,33 @@ class AuditEvent(models.Model):
 
     def __str__(self) -> str:
         return f"{self.action} {self.object_type} {self.object_id}"
+
+
+class SignInThrottle(models.Model):
+    """Failed sign-ins counted per client address and per username, in one indexed table.
+
+    An address has a token bucket (each failure takes a token, tokens come back with time;
+    an empty bucket refuses that address). A username counts its failures from any address
+    and asks for a short, growing wait between attempts instead of locking the account.
+    Rows idle for long are pruned (survey.tasks.prune_signin_throttle).
+    """
+
+    class Scope(models.TextChoices):
+        ADDRESS = "address", "Client address"
+        USERNAME = "username", "Username"
+
+    scope = models.CharField(max_length=10, choices=Scope.choices)
+    key = models.CharField(max_length=150)
+    tokens = models.FloatField(default=0.0)
+    failures = models.PositiveIntegerField(default=0)
+    last_failure_at = models.DateTimeField(null=True, blank=True)
+    updated_at = models.DateTimeField()
+
+    class Meta:
+        constraints = [
+            models.UniqueConstraint(fields=["scope", "key"], name="signin_throttle_key"),
+        ]
+        indexes = [models.Index(fields=["updated_at"], name="signin_throttle_updated")]
+
+    def __str__(self) -> str:
+        return f"{self.scope} {self.key}"

@@ -51,6 +51,13 @@ if not SECRET_KEY:
     raise ImproperlyConfigured("SECRET_KEY must be set when DEBUG=0")
 ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", "127.0.0.1,localhost,testserver" if DEBUG else "")
 CSRF_TRUSTED_ORIGINS = env_list("CSRF_TRUSTED_ORIGINS", "")
+# Behind a reverse proxy: the header it writes the client's address into (for example
+# X-Forwarded-For) and how many proxies of yours stand in front of the app. Unset, the
+# connection's own address is used and such headers are ignored (survey/net.py).
+TRUSTED_PROXY_HEADER = env_str("TRUSTED_PROXY_HEADER", "")
+TRUSTED_PROXY_COUNT = env_int("TRUSTED_PROXY_COUNT", 1)
+if TRUSTED_PROXY_COUNT < 1:
+    raise ImproperlyConfigured("TRUSTED_PROXY_COUNT must be 1 or more")
 
 INSTALLED_APPS = [
     "django.contrib.admin",
@@ -109,6 +116,9 @@ if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":
         "init_command": "PRAGMA journal_mode=WAL; PRAGMA synchronous=NORMAL;",
     }
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
+
+# Sign-in is throttled for every form that authenticates, the admin's included.
+AUTHENTICATION_BACKENDS = ["survey.backends.ThrottledModelBackend"]
 
 AUTH_PASSWORD_VALIDATORS = [
     {"NAME": "django.contrib.auth.password_validation.UserAttributeSimilarityValidator"},

@@ -5,7 +5,7 @@ from django.contrib.auth import views as auth_views
 from django.urls import include, path
 
 from survey.views import api, audit, findings, media, members, pages
-from survey.views.signin import ThrottledLoginView
+from survey.views.signin import ThrottledLoginView, admin_login
 
 # --- pages: home, clients, sites, surveys, upload (survey/views/pages.py) ---
 page_patterns = [
@@ -85,6 +85,7 @@ judgement_patterns = [
 survey_patterns = page_patterns + api_patterns + judgement_patterns
 
 urlpatterns = [
+    path("admin/login/", admin_login),  # the admin's page, answering 429 when throttled
     path("admin/", admin.site.urls),
     path("accounts/login/", ThrottledLoginView.as_view(), name="login"),
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),
