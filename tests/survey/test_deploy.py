@@ -29,6 +29,17 @@ def test_it_defines_the_four_services_with_health_checks():
     assert "--max-tasks-per-child" in services["worker"]["command"]
 
 
+def test_it_recycles_web_workers_with_jitter():
+    """The web command reads .docker/gunicorn.conf.py, which restarts each worker after
+    about 500 requests, spread by a jitter (tested with real gunicorn in test_gunicorn.py)."""
+    command = compose()["services"]["web"]["command"]
+    assert "gunicorn -c .docker/gunicorn.conf.py" in command
+    config: dict = {}
+    exec((ROOT / ".docker" / "gunicorn.conf.py").read_text(), config)
+    assert config["wsgi_app"] == "survey.wsgi:application"
+    assert config["max_requests"] == 500 and config["max_requests_jitter"] == 50
+
+
 def test_it_keeps_the_database_and_media_in_volumes():
     """The database and media survive a container rebuild."""
     data = compose()
