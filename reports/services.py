@@ -322,7 +322,7 @@ def share_link_revoke(*, link: ShareLink, user: AbstractBaseUser) -> ShareLink:
 
 def share_link_active(token: str) -> ShareLink | None:
     """The live link for `token`, or None when unknown, expired, revoked or not issued."""
-    if not token or len(token) > 64:
+    if not token or len(token) > 64 or "\x00" in token:
         return None
     return (
         ShareLink.objects.select_related("version__report__survey__site__client")

@@ -26,6 +26,7 @@ from reports.rendering import version_is_stalled
 from reports.results import content_digest, survey_results
 from survey.access import get_member, get_survey_for_user
 from survey.files import serve_file
+from survey.middleware import NO_STORE
 from survey.net import client_address
 
 
@@ -204,7 +205,9 @@ def share_link_revoke(request: HttpRequest, link_id: int) -> HttpResponse:
 
 
 def _not_found() -> HttpResponse:
-    return HttpResponse(render_to_string("reports/share_missing.html"), status=404)
+    response = HttpResponse(render_to_string("reports/share_missing.html"), status=404)
+    response["Cache-Control"] = NO_STORE
+    return response
 
 
 @require_GET
@@ -215,6 +218,8 @@ def share_page(request: HttpRequest, token: str) -> HttpResponse:
     response = render(request, "reports/share.html", {"link": link, "version": link.version})
     response["Referrer-Policy"] = "no-referrer"
     response["X-Robots-Tag"] = "noindex, nofollow"
+    # A revoked link must stop working at once, also for a browser or proxy cache.
+    response["Cache-Control"] = NO_STORE
     return response
 
 
@@ -229,7 +234,9 @@ def share_download(request: HttpRequest, token: str) -> HttpResponse:
         ip_address=_client_ip(request),
         user_agent=request.META.get("HTTP_USER_AGENT", ""),
     )
-    return _pdf_response(link.version)
+    response = _pdf_response(link.version)
+    response["Cache-Control"] = NO_STORE
+    return response
 
 
 @login_required

@@ -72,14 +72,19 @@ INSTALLED_APPS = [
 
 MIDDLEWARE = [
     "django.middleware.security.SecurityMiddleware",
+    # Before anything reads the body: refuses oversized requests and NUL characters.
+    "survey.middleware.RequestLimitsMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
     "django.contrib.auth.middleware.AuthenticationMiddleware",
+    "survey.middleware.PrivateCacheMiddleware",
     "django.contrib.messages.middleware.MessageMiddleware",
     "django.middleware.clickjacking.XFrameOptionsMiddleware",
     "survey.middleware.ContentSecurityPolicyMiddleware",
 ]
+# The JSON API answers a refused CSRF check with its JSON error (survey/views/errors.py).
+CSRF_FAILURE_VIEW = "survey.views.errors.csrf_failure"
 
 ROOT_URLCONF = "survey.urls"
 WSGI_APPLICATION = "survey.wsgi.application"
@@ -150,6 +155,11 @@ DATA_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
 FILE_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
 DATA_UPLOAD_MAX_NUMBER_FILES = 500
 THERMOGRAM_MAX_UPLOAD_BYTES = env_int("THERMOGRAM_MAX_UPLOAD_BYTES", 200 * 1024 * 1024)
+# Text tables (CSV, TSV) cost about 13 times their size in memory to decode: the one limit
+# for them, checked at upload and at decode (a 1280 × 1024 table is about 10 MB).
+THERMOGRAM_MAX_TEXT_BYTES = env_int("THERMOGRAM_MAX_TEXT_BYTES", 50 * 1024 * 1024)
+# The most one request may send (a batch of files); larger batches are sent in parts.
+UPLOAD_MAX_REQUEST_BYTES = env_int("UPLOAD_MAX_REQUEST_BYTES", 1024 * 1024 * 1024)
 THERMOGRAM_MAX_PIXELS = env_int("THERMOGRAM_MAX_PIXELS", 20_000_000)
 # A running job refreshes its heartbeat this often, from a thread, while its process lives
 # (survey/services/heartbeat.py). One silent for the stall time has lost its worker: another

@@ -6,8 +6,11 @@ status `queued` and enqueues `process_thermogram` once the transaction commits; 
 then runs survey/services/processing.py.
 """
 
+import contextlib
 import hashlib
+import io
 import logging
+import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -21,6 +24,7 @@ from django.core.files.uploadedfile import UploadedFile
 from django.db import transaction
 from django.db.models import Max, Q
 from django.utils import timezone
+from PIL import Image, ImageFile, ImageOps
 
 from survey import thermal
 from survey.models import Asset, Survey, Thermogram
@@ -28,9 +32,25 @@ from survey.services.audit import audit_record
 from survey.services.surveys import check_same_org
 from survey.tasks import process_thermogram
 from survey.thermal import units
-from survey.thermal.decode import declared_size, detect_format
+from survey.thermal.decode import declared_size, detect_format, size_comparison
 
 logger = logging.getLogger(__name__)
+
+# Photos are stored at most this many pixels on their long side: a full A4 page at about
+# 250 dpi, room to zoom when aligning it with the thermogram, and 12 MB of RGB at most to
+# draw (a 12000-pixel camera picture would cost 430 MB).
+PHOTO_MAX_SIDE_PX = 2048
+
+
+@contextlib.contextmanager
+def _strict_pictures():
+    """Refuse truncated pictures even if another library relaxed Pillow (WeasyPrint does)."""
+    previous = ImageFile.LOAD_TRUNCATED_IMAGES
+    ImageFile.LOAD_TRUNCATED_IMAGES = False
+    try:
+        yield
+    finally:
+        ImageFile.LOAD_TRUNCATED_IMAGES = previous
 
 
 def sniff_format(head: bytes, name: str) -> str:
@@ -110,14 +130,10 @@ def thermogram_check_upload(
     *, survey: Survey, name: str, data: bytes, palette_source: dict | None
 ) -> str:
     """Everything that can be known about an upload before it is stored; returns its format."""
-    limit = settings.THERMOGRAM_MAX_UPLOAD_BYTES
-    if len(data) == 0:
-        raise ValidationError("The file is empty.")
-    if len(data) > limit:
-        raise ValidationError(
-            f"The file is {len(data) / 1e6:.1f} MB; the limit is {limit / 1e6:.0f} MB."
-        )
+    _check_size(name, data)
     kind = sniff_format(data[:4096], name)
+    if kind == "text":
+        _check_size(name, data, settings.THERMOGRAM_MAX_TEXT_BYTES, "a text table")
     false_colour = kind == "jpeg" or (kind == "png" and _png_is_false_colour(data[:64]))
     if false_colour and not palette_source:
         raise ValidationError(
@@ -137,13 +153,53 @@ def thermogram_check_upload(
     return "false-colour" if false_colour else kind
 
 
+def _check_size(name: str, data: bytes, limit: int | None = None, what: str = "") -> None:
+    limit = settings.THERMOGRAM_MAX_UPLOAD_BYTES if limit is None else limit
+    if len(data) == 0:
+        raise ValidationError(f"{name} is empty.")
+    if len(data) > limit:
+        size, most = size_comparison(len(data), limit)
+        if what:
+            raise ValidationError(f"{name} is {size}; {what} may be at most {most}.")
+        raise ValidationError(f"{name} is {size}; the limit is {most}.")
+
+
 def _check_photo(photo: UploadedFile) -> bytes:
+    """The photo as it will be stored: checked with the thermogram limits (bytes, pixels,
+    shape), decoded whole once, and shrunk to print size when larger."""
+    name = _file_name(photo)
     data = _read_upload(photo)
-    if len(data) > settings.THERMOGRAM_MAX_UPLOAD_BYTES:
-        raise ValidationError("The photo is larger than the upload limit.")
+    _check_size(name, data)
     if not data.startswith((b"\xff\xd8\xff", b"\x89PNG\r\n\x1a\n")):
-        raise ValidationError(f"The photo {_file_name(photo)} is not a JPEG or PNG picture.")
-    return data
+        raise ValidationError(f"The photo {name} is not a JPEG or PNG picture.")
+    try:
+        if declared_size(data, name, max_pixels=settings.THERMOGRAM_MAX_PIXELS) is None:
+            raise thermal.ThermogramFormatError(f"{name} could not be read as a picture.")
+        return photo_at_print_size(data, name)
+    except thermal.ThermogramFormatError as error:
+        raise ValidationError(str(error)) from None
+
+
+def photo_at_print_size(data: bytes, name: str) -> bytes:
+    """`data` unchanged when its long side is at most PHOTO_MAX_SIDE_PX, else the picture
+    turned upright (EXIF orientation) and shrunk to that size, as JPEG quality 90."""
+    with warnings.catch_warnings(), _strict_pictures():
+        warnings.simplefilter("ignore", Image.DecompressionBombWarning)
+        try:
+            with Image.open(io.BytesIO(data)) as image:
+                if max(image.size) <= PHOTO_MAX_SIDE_PX:
+                    image.load()  # a whole picture, not a truncated one
+                    return data
+                image.draft("RGB", (PHOTO_MAX_SIDE_PX, PHOTO_MAX_SIDE_PX))
+                picture = ImageOps.exif_transpose(image).convert("RGB")
+        except Exception:  # noqa: BLE001 - Pillow raises many kinds for damaged files
+            raise thermal.ThermogramFormatError(
+                f"{name} could not be read as a picture (damaged or cut short)."
+            ) from None
+    picture.thumbnail((PHOTO_MAX_SIDE_PX, PHOTO_MAX_SIDE_PX), Image.Resampling.LANCZOS)
+    buffer = io.BytesIO()
+    picture.save(buffer, "JPEG", quality=90)
+    return buffer.getvalue()
 
 
 def thermogram_ingest(

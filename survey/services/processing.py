@@ -109,7 +109,7 @@ def decode_original(data: bytes, name: str, decode_settings: dict) -> np.ndarray
         scale_bar_box=tuple(box) if (box := false_colour.get("scale_bar_box")) else None,
         max_pixels=settings.THERMOGRAM_MAX_PIXELS,
         max_bytes=settings.THERMOGRAM_MAX_UPLOAD_BYTES,
-        max_text_bytes=settings.THERMOGRAM_MAX_UPLOAD_BYTES,
+        max_text_bytes=settings.THERMOGRAM_MAX_TEXT_BYTES,
     )
 
 

@@ -265,15 +265,53 @@ def _check_unit(unit: str) -> str:
     return normalised
 
 
-def _megabytes(size: int) -> str:
-    return f"{size / (1024 * 1024):.0f} MB" if size >= 1024 * 1024 else f"{size} bytes"
+MEGABYTE = 1024 * 1024
+"""Sizes are shown in MB of 1 048 576 bytes, the unit the limits are set in (200 MB)."""
+
+
+def size_text(size: int, decimals: int = 1) -> str:
+    """A size in bytes as MB.
+
+    Examples
+    --------
+    >>> size_text(209_715_200)
+    '200.0 MB'
+    """
+    return f"{size / MEGABYTE:.{decimals}f} MB"
+
+
+def size_comparison(size: int, limit: int) -> tuple[str, str]:
+    """`size` and `limit` in the same unit and rounding, with as many digits as it takes for
+    a size above the limit not to print as large as it (then in bytes).
+
+    Examples
+    --------
+    >>> size_comparison(220_000_000, 209_715_200)
+    ('209.8 MB', '200.0 MB')
+    """
+    for decimals in (1, 3):
+        shown = size_text(size, decimals), size_text(limit, decimals)
+        if shown[0] != shown[1] or size == limit:
+            return shown
+    return f"{size:,} bytes", f"{limit:,} bytes"
+
+
+_INTERNALS = re.compile(r"<[^<>]*\bat 0x[0-9a-fA-F]+>|<ast\.[^<>]*>")
+
+
+def _reason(error: BaseException) -> str:
+    """A library's own words about a damaged file, as ": words", without Python object
+    names (Pillow names its BytesIO, numpy its parse tree) and at most 150 characters."""
+    text = " ".join(_INTERNALS.sub("", str(error)).split()).strip(" :;,.")
+    if not text or "0x" in text:
+        return ""
+    return ": " + (text if len(text) <= 150 else text[:147] + "…")
 
 
 def _size_error(name: str, size: int, kind: str | None, limit: int) -> ThermogramFormatError:
     what = f"a {_FORMAT_NAMES[kind]}" if kind else "a file"
-    return ThermogramFormatError(
-        f"{name} is {_megabytes(size)}; {what} may be at most {_megabytes(limit)}."
-    )
+    shown, most = size_comparison(size, limit)
+    return ThermogramFormatError(f"{name} is {shown}; {what} may be at most {most}.")
 
 
 def _read_bytes(source, name: str, max_bytes: int, max_text_bytes: int) -> tuple[str, bytes]:
@@ -327,7 +365,7 @@ def _read_stream(handle, name: str, size: int | None, limit_for) -> tuple[str, b
     data = head + handle.read(limit + 1 - len(head))
     if len(data) > limit:
         raise ThermogramFormatError(
-            f"{name} is larger than {_megabytes(limit)}, the most a {_FORMAT_NAMES[kind]} may be."
+            f"{name} is larger than {size_text(limit)}, the most a {_FORMAT_NAMES[kind]} may be."
         )
     return kind, data
 
@@ -490,7 +528,7 @@ def _read_tiff(data: bytes, name: str, max_pixels: int) -> np.ndarray:
         raise
     except Exception as error:  # tifffile raises many types for damaged files
         raise ThermogramFormatError(
-            f"{name} could not be read as a TIFF (damaged or truncated file: {error})."
+            f"{name} could not be read as a TIFF (damaged or truncated file{_reason(error)})."
         )
     return _plane(np.asarray(values), name)
 
@@ -511,8 +549,8 @@ def _read_npy(data: bytes, name: str, max_pixels: int) -> np.ndarray:
             shape, _, dtype = np.lib.format.read_array_header_1_0(buffer)
         else:
             shape, _, dtype = np.lib.format.read_array_header_2_0(buffer)
-    except Exception as error:
-        raise ThermogramFormatError(f"{name} has a damaged .npy header ({error}).")
+    except Exception:
+        raise ThermogramFormatError(f"{name} has a damaged .npy header.") from None
     if dtype.hasobject or dtype.kind not in "fiu":
         raise ThermogramFormatError(
             f"{name} holds values of type {dtype}; a .npy thermogram must hold numbers."
@@ -529,7 +567,7 @@ def _read_npy(data: bytes, name: str, max_pixels: int) -> np.ndarray:
     try:
         values = np.load(io.BytesIO(data), allow_pickle=False)
     except Exception as error:
-        raise ThermogramFormatError(f"{name} could not be read as .npy (damaged: {error}).")
+        raise ThermogramFormatError(f"{name} could not be read as .npy (damaged{_reason(error)}).")
     return _plane(values, name)
 
 
@@ -568,7 +606,9 @@ def _open_picture(data: bytes, name: str, kind: str, max_pixels: int):
             f"{max_pixels / 1e6:g} megapixels."
         )
     except Exception as error:
-        raise ThermogramFormatError(f"{name} could not be read as {kind.upper()} ({error}).")
+        raise ThermogramFormatError(
+            f"{name} could not be read as {kind.upper()} (not a picture{_reason(error)})."
+        )
     width, height = image.size
     _check_pixels(name, width, height, max_pixels)
     try:
@@ -576,8 +616,9 @@ def _open_picture(data: bytes, name: str, kind: str, max_pixels: int):
             warnings.simplefilter("ignore", Image.DecompressionBombWarning)
             image.load()
     except Exception as error:
+        reason = _reason(error)
         raise ThermogramFormatError(
-            f"{name} could not be read as {kind.upper()} (damaged or truncated file: {error})."
+            f"{name} could not be read as {kind.upper()} (damaged or truncated file{reason})."
         )
     return image
 

@@ -24,6 +24,7 @@ from survey.access import (
     require_editor,
     thermograms_for,
 )
+from survey.forms.fields import holds_nul
 from survey.models import Mark, Thermogram
 from survey.services import display
 from survey.services import marks as mark_services
@@ -97,6 +98,8 @@ def _body(request: HttpRequest) -> dict:
         raise ValidationError("The request body is not valid JSON.") from None
     if not isinstance(data, dict):
         raise ValidationError("The request body must be a JSON object.")
+    if holds_nul(data):
+        raise ValidationError("The request body holds a NUL character (\\u0000); remove it.")
     return data
 
 

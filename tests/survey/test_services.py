@@ -455,3 +455,36 @@ def test_it_refuses_an_extreme_shape_at_upload(envelope_survey, settings, name, 
     assert "at most 20 times as wide as it is tall" in " ".join(caught.value.messages)
     assert not envelope_survey.thermograms.exists()
     assert media_files(settings) == []
+
+
+def test_it_states_an_oversized_upload_in_one_unit(envelope_survey, settings):
+    """One byte over the limit never reads "1.0 MB; the limit is 1 MB"."""
+    settings.THERMOGRAM_MAX_UPLOAD_BYTES = 1_048_576
+    with pytest.raises(ValidationError) as caught:
+        ingest_services.thermogram_ingest(
+            survey=envelope_survey, uploaded_file=upload("big.npy", bytes(1_048_577)), user=None
+        )
+    assert caught.value.messages == ["big.npy is 1,048,577 bytes; the limit is 1,048,576 bytes."]
+
+
+def test_it_keeps_one_limit_for_text_tables(
+    envelope_survey, settings, django_capture_on_commit_callbacks
+):
+    """THERMOGRAM_MAX_TEXT_BYTES refuses a larger table at upload; the worker decodes with the
+    same limit (it once allowed 200 MB of text there, 1.3 GB of memory for 100 MB)."""
+    settings.THERMOGRAM_MAX_TEXT_BYTES = 1000
+    table = ((";".join(["21.5"] * 10) + "\n") * 30).encode()  # 10 × 30 values, 1500 bytes
+    with pytest.raises(ValidationError, match="a text table may be at most 1,000 bytes"):
+        ingest_services.thermogram_ingest(
+            survey=envelope_survey, uploaded_file=upload("t.csv", table), user=None
+        )
+    settings.THERMOGRAM_MAX_TEXT_BYTES = 2000
+    thermogram = ingest(envelope_survey, "t.csv", table, capture=django_capture_on_commit_callbacks)
+    assert thermogram.status == Thermogram.Status.READY
+    # The worker reads the same setting: lowered, decoding the table again is refused.
+    settings.THERMOGRAM_MAX_TEXT_BYTES = 1000
+    with django_capture_on_commit_callbacks(execute=True):
+        ingest_services.thermogram_reprocess(thermogram=thermogram, user=None, unit="C")
+    thermogram.refresh_from_db()
+    assert thermogram.status == Thermogram.Status.FAILED
+    assert "may be at most 1,000 bytes" in thermogram.error

@@ -18,6 +18,7 @@ from survey.thermal.decode import (
     declared_size,
     detect_format,
     read_temperatures,
+    size_comparison,
 )
 from survey.thermal.palettes import PALETTES, render
 from tests.hypothesis_profiles import examples
@@ -307,7 +308,7 @@ def test_read_temperatures_refuses_100_mb_csv_by_its_size(tmp_path):
     with path.open("wb") as handle:
         handle.write(b"20.5;21.5\n" * 1000)
         handle.truncate(100 * 1024 * 1024)
-    with pytest.raises(ThermogramFormatError, match="100 MB; a text matrix .* at most 50 MB"):
+    with pytest.raises(ThermogramFormatError, match="100.0 MB; a text matrix .* at most 50.0 MB"):
         read_temperatures(path, "huge.csv")
     with path.open("rb") as handle, pytest.raises(ThermogramFormatError, match="larger than"):
         read_temperatures(handle, "huge.csv")
@@ -315,7 +316,7 @@ def test_read_temperatures_refuses_100_mb_csv_by_its_size(tmp_path):
 
 def test_read_temperatures_refuses_big_text_by_the_text_limit():
     """Text over the text limit is refused before parsing."""
-    with pytest.raises(ThermogramFormatError, match="at most 1000 bytes"):
+    with pytest.raises(ThermogramFormatError, match="0.002 MB; .* at most 0.001 MB"):
         read_temperatures(b"20.5;21.5\n" * 200, "big.csv", max_text_bytes=1000)
 
 
@@ -632,3 +633,36 @@ def test_declared_size_refuses_what_the_decoder_would_refuse():
     with pytest.raises(ThermogramFormatError, match="times as wide"):
         declared_size(_csv_of(2, 2000), "strip.csv")
     assert declared_size(b"\x00\x01", "x.bin") is None  # the decoder says why later
+
+
+def test_read_temperatures_says_a_damaged_npy_header_without_internals():
+    """A header holding a call, not a literal, once answered "<ast.Call object at 0x…>"."""
+    header = b"{'descr': '<f4', 'fortran_order': False, 'shape': (2, 2), 'x': f(), }"
+    header += b" " * (63 - len(header) % 64) + b"\n"
+    data = b"\x93NUMPY\x01\x00" + len(header).to_bytes(2, "little") + header + bytes(16)
+    with pytest.raises(ThermogramFormatError) as caught:
+        read_temperatures(data, "hostile.npy")
+    message = str(caught.value)
+    assert message == "hostile.npy has a damaged .npy header."
+    assert "0x" not in message and "ast" not in message
+
+
+def test_read_temperatures_says_an_unreadable_picture_without_internals():
+    """Pillow names its BytesIO object in its own message; ours does not."""
+    with pytest.raises(ThermogramFormatError) as caught:
+        read_temperatures(b"\x89PNG\r\n\x1a\n" + b"\x00" * 40, "broken.png")
+    assert " at 0x" not in str(caught.value) and "broken.png" in str(caught.value)
+
+
+@pytest.mark.parametrize(
+    "size, limit, expected",
+    [
+        (1_258_292, 1_048_576, ("1.2 MB", "1.0 MB")),
+        (1_048_577, 1_048_576, ("1,048,577 bytes", "1,048,576 bytes")),
+        (209_715_200 + 50_000, 209_715_200, ("200.048 MB", "200.000 MB")),
+    ],
+)
+def test_size_comparison_prints_both_in_the_same_unit(size, limit, expected):
+    """Never "209.7 MB; the limit is 210 MB": one unit (MB of 1 048 576 bytes), one rounding,
+    and more digits when one decimal would print a larger file as large as the limit."""
+    assert size_comparison(size, limit) == expected
