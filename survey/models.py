@@ -349,6 +349,10 @@ class Thermogram(models.Model):
     class Meta:
         ordering = ["survey", "sequence", "id"]
         constraints = [
+            # The same bytes once per survey, also when two uploads race each other.
+            models.UniqueConstraint(
+                fields=["survey", "original_sha256"], name="thermogram_content_once_per_survey"
+            ),
             models.CheckConstraint(
                 condition=Q(emissivity__gt=0, emissivity__lte=1), name="thermogram_emissivity_range"
             ),

@@ -21,7 +21,7 @@ from django.core.exceptions import ValidationError
 from django.core.files.base import ContentFile
 from django.core.files.storage import default_storage
 from django.core.files.uploadedfile import UploadedFile
-from django.db import transaction
+from django.db import IntegrityError, transaction
 from django.db.models import Max, Q
 from django.utils import timezone
 from PIL import Image, ImageFile, ImageOps
@@ -231,11 +231,7 @@ def thermogram_ingest(
         survey=survey, name=name, data=data, palette_source=palette_source
     )
     digest = hashlib.sha256(data).hexdigest()
-    duplicate = survey.thermograms.filter(original_sha256=digest).first()
-    if duplicate is not None:
-        raise ValidationError(
-            f"Already in this survey as {duplicate.original_name} (identical content)."
-        )
+    _refuse_duplicate(survey, digest)
     photo_data = _check_photo(photo) if photo is not None else None
     if asset is not None:
         check_same_org(survey.organization, asset=asset)
@@ -265,16 +261,21 @@ def thermogram_ingest(
             setattr(thermogram, attribute, value)
     saved_paths: list[str] = []
     try:
+        # Files first, outside the lock below: storing 200 MB must not hold up the survey.
+        thermogram.original.save(name, ContentFile(data), save=False)
+        saved_paths.append(thermogram.original.name)
+        if photo_data is not None:
+            thermogram.photo.save(_file_name(photo), ContentFile(photo_data), save=False)
+            saved_paths.append(thermogram.photo.name)
+            thermogram.photo_sha256 = hashlib.sha256(photo_data).hexdigest()
         with transaction.atomic():
+            # One upload of this survey at a time from here: its duplicate check and its
+            # number cannot interleave with another's (a unique constraint backs the first).
+            Survey.objects.select_for_update().filter(pk=survey.pk).values_list("pk").first()
+            _refuse_duplicate(survey, digest)
             thermogram.sequence = (
                 survey.thermograms.aggregate(last=Max("sequence"))["last"] or 0
             ) + 1
-            thermogram.original.save(name, ContentFile(data), save=False)
-            saved_paths.append(thermogram.original.name)
-            if photo_data is not None:
-                thermogram.photo.save(_file_name(photo), ContentFile(photo_data), save=False)
-                saved_paths.append(thermogram.photo.name)
-                thermogram.photo_sha256 = hashlib.sha256(photo_data).hexdigest()
             thermogram.full_clean()
             thermogram.save()
             audit_record(
@@ -285,11 +286,24 @@ def thermogram_ingest(
                 detail={"name": name, "sha256": digest, "size": len(data)},
             )
             thermogram_enqueue(thermogram.pk)
+    except IntegrityError:
+        for path in saved_paths:
+            default_storage.delete(path)
+        _refuse_duplicate(survey, digest)  # a copy that slipped past the lock
+        raise
     except Exception:
         for path in saved_paths:
             default_storage.delete(path)
         raise
     return thermogram
+
+
+def _refuse_duplicate(survey: Survey, digest: str) -> None:
+    duplicate = survey.thermograms.filter(original_sha256=digest).first()
+    if duplicate is not None:
+        raise ValidationError(
+            f"Already in this survey as {duplicate.original_name} (identical content)."
+        )
 
 
 @dataclass

@@ -1,6 +1,7 @@
 """Rows the web figures need: one firm, one inspector, surveys full of real thermograms."""
 
 import datetime
+import hashlib
 
 import numpy as np
 
@@ -109,6 +110,11 @@ def _copy(template, sequence: int):
     clone.pk = None
     clone.sequence = sequence
     clone.original_name = f"IR_{sequence:04d}.tif"
+    # A survey holds each original once: the copies stand for distinct files (their
+    # originals are never read again in the bench).
+    clone.original_sha256 = hashlib.sha256(
+        f"{template.original_sha256}-{sequence}".encode()
+    ).hexdigest()
     name = f"derived/{template.organization_id}/copy-{template.survey_id}-{sequence}/celsius.npy"
     target = Path(default_storage.path(name))
     target.parent.mkdir(parents=True, exist_ok=True)
