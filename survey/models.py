@@ -414,6 +414,9 @@ class Mark(models.Model):
     note = models.TextField(blank=True, max_length=4000)
     # Statistics of the apparent temperatures, cached when the mark is saved.
     stats = models.JSONField(default=dict, blank=True)
+    # Counts the changes; a change made to an older version is refused (two people marking
+    # the same thermogram never overwrite each other silently).
+    version = models.PositiveIntegerField(default=1)
     created_at = models.DateTimeField(auto_now_add=True)
     updated_at = models.DateTimeField(auto_now=True)
 

@@ -488,7 +488,10 @@
   }
 
   function updateMark(mark, changes, message) {
+    // The version read with the mark: a change someone else made meanwhile answers 409.
+    changes = Object.assign({ version: mark.version }, changes);
     return api("PATCH", mark.url, changes).then(function (updated) {
+      mark.version = updated.version;
       status(message || ("Mark " + updated.label + " saved."));
       return refreshTable();
     }).catch(function (error) { status(error.message, true); return refreshTable(); });

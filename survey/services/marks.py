@@ -220,14 +220,38 @@ def mark_add(
     return mark
 
 
+class MarkChanged(Exception):
+    """The mark was changed by someone else since the version the change was made to."""
+
+
+def _locked_mark(mark: Mark) -> tuple[Thermogram, Mark]:
+    """The thermogram locked and the mark read again under the lock; Mark.DoesNotExist
+    when it was deleted meanwhile."""
+    thermogram = _lock(mark.thermogram)
+    current = Mark.objects.select_related("thermogram").filter(pk=mark.pk).first()
+    if current is None:
+        raise Mark.DoesNotExist(f"Mark {mark.label} was deleted meanwhile.")
+    return thermogram, current
+
+
 @transaction.atomic
-def mark_update(*, mark: Mark, user: AbstractBaseUser | None, **changes: Any) -> Mark:
-    """Change a mark's points, emissivity, reflected temperature, note or reference."""
+def mark_update(
+    *, mark: Mark, user: AbstractBaseUser | None, version: int | None = None, **changes: Any
+) -> Mark:
+    """Change a mark's points, emissivity, reflected temperature, note or reference.
+
+    With `version` (the one the change was made to) a mark changed since is refused with
+    MarkChanged; each change counts one version up.
+    """
     unknown = set(changes) - EDITABLE_FIELDS
     if unknown:
         raise ValidationError({name: "This field cannot be changed." for name in sorted(unknown)})
-    thermogram = _lock(mark.thermogram)
-    mark = Mark.objects.select_related("thermogram").get(pk=mark.pk)
+    thermogram, mark = _locked_mark(mark)
+    if version is not None and version != mark.version:
+        raise MarkChanged(
+            f"Mark {mark.label} was changed by someone else since you read it (version "
+            f"{version}, now {mark.version}); reload to see their change, then make yours."
+        )
     for name, value in changes.items():
         setattr(mark, name, value)
     if "note" in changes and mark.note is None:
@@ -239,6 +263,7 @@ def mark_update(*, mark: Mark, user: AbstractBaseUser | None, **changes: Any) ->
     if {"points", "single_pixel"} & set(changes) or not mark.stats:
         temperatures = _ready_temperatures(thermogram)
         mark.stats = mark_stats(temperatures, mark.kind, mark.points, mark.single_pixel)
+    mark.version += 1
     mark.save()
     audit_record(
         organization=thermogram.organization,
@@ -253,7 +278,7 @@ def mark_update(*, mark: Mark, user: AbstractBaseUser | None, **changes: Any) ->
 @transaction.atomic
 def mark_delete(*, mark: Mark, user: AbstractBaseUser | None) -> None:
     """Delete a mark; marks that took it as their reference lose that reference."""
-    thermogram = _lock(mark.thermogram)
+    thermogram, mark = _locked_mark(mark)
     Mark.objects.filter(reference_mark=mark).update(
         reference_mark=None, reference_kind=Mark.ReferenceKind.NONE
     )

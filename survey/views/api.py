@@ -85,6 +85,10 @@ def api(*methods: str):
                 return _validation_error(error)
             except ThermogramNotReady as error:
                 return _error(409, str(error))
+            except mark_services.MarkChanged as error:
+                return _error(409, str(error))
+            except Mark.DoesNotExist:  # deleted by someone else while this request ran
+                return _error(404, "Not found.")
 
         return wrapper
 
@@ -154,22 +158,29 @@ class MarkForm(forms.Form):
 def _mark_options(data: dict, thermogram: Thermogram, mark: Mark | None = None) -> dict:
     """Validate the JSON fields given; returns only those, as service keyword arguments."""
     allowed = {"emissivity", "reflected_c", "note", "reference", "single_pixel", "points"}
-    allowed |= {"kind"} if mark is None else set()
+    allowed |= {"kind"} if mark is None else {"version"}
     unknown = sorted(set(data) - allowed)
     if unknown:
         raise ValidationError({name: "Unknown or read-only field." for name in unknown})
     for name in ("emissivity", "reflected_c"):
         if isinstance(data.get(name), (bool, str)):
             raise ValidationError({name: f"{name} must be a number or null."})
-    form = MarkForm({k: v for k, v in data.items() if k != "points"}, thermogram, mark)
+    version = data.get("version")
+    if "version" in data and (
+        isinstance(version, bool) or not isinstance(version, int) or version < 1
+    ):
+        raise ValidationError({"version": "version must be the whole number the mark showed."})
+    form = MarkForm(
+        {k: v for k, v in data.items() if k not in {"points", "version"}}, thermogram, mark
+    )
     if not form.is_valid():
         raise ValidationError({name: errors for name, errors in form.errors.items()})
     options = {}
     for name in data:
         if name == "reference":
             options |= form.cleaned_data["reference"]
-        elif name == "points":
-            options["points"] = data["points"]
+        elif name in {"points", "version"}:
+            options[name] = data[name]
         else:
             options[name] = form.cleaned_data[name]
     return options
@@ -182,6 +193,7 @@ def mark_json(mark: Mark, readings: dict) -> dict:
     return {
         "id": mark.pk,
         "label": mark.label,
+        "version": mark.version,
         "kind": mark.kind,
         "points": mark.points,
         "single_pixel": mark.single_pixel,
