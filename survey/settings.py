@@ -158,6 +158,8 @@ THERMOGRAM_MAX_UPLOAD_BYTES = env_int("THERMOGRAM_MAX_UPLOAD_BYTES", 200 * 1024 
 # Text tables (CSV, TSV) cost about 13 times their size in memory to decode: the one limit
 # for them, checked at upload and at decode (a 1280 × 1024 table is about 10 MB).
 THERMOGRAM_MAX_TEXT_BYTES = env_int("THERMOGRAM_MAX_TEXT_BYTES", 50 * 1024 * 1024)
+# The most the files of one survey archive may hold together, uncompressed (import_survey).
+ARCHIVE_MAX_BYTES = env_int("ARCHIVE_MAX_BYTES", 4 * 1024 * 1024 * 1024)
 # The most one request may send (a batch of files); larger batches are sent in parts.
 UPLOAD_MAX_REQUEST_BYTES = env_int("UPLOAD_MAX_REQUEST_BYTES", 1024 * 1024 * 1024)
 THERMOGRAM_MAX_PIXELS = env_int("THERMOGRAM_MAX_PIXELS", 20_000_000)

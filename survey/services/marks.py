@@ -5,6 +5,7 @@ saved, caches the apparent statistics on the mark (`Mark.stats`) and leaves an a
 """
 
 import math
+from types import SimpleNamespace
 from typing import Any
 
 import numpy as np
@@ -78,6 +79,12 @@ def _clean_points(thermogram: Thermogram, kind: str, points: Any) -> list[list[f
     if kind != Mark.Kind.POINT and len({tuple(p) for p in cleaned}) < least:
         raise ValidationError({"points": f"The points of a {kind} must not coincide."})
     return cleaned
+
+
+def mark_points_check(*, kind: Any, points: Any, width: int, height: int) -> list[list[float]]:
+    """The cleaned points of a mark of `kind` on a width × height image (ValidationError
+    saying why not); for marks that arrive before their thermogram is decoded."""
+    return _clean_points(SimpleNamespace(width=width, height=height), _clean_kind(kind), points)
 
 
 def _ready_temperatures(thermogram: Thermogram) -> np.ndarray:

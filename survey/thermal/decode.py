@@ -381,6 +381,17 @@ def _check_pixels(name: str, width: int, height: int, max_pixels: int) -> None:
     _check_aspect(name, width, height)
 
 
+def check_image_size(name: str, width: int, height: int, max_pixels: int = MAX_PIXELS) -> None:
+    """Raise `ThermogramFormatError` for a size the decoder refuses: over `max_pixels`, or
+    beyond `MAX_ASPECT_RATIO`.
+
+    Examples
+    --------
+    >>> check_image_size("wall.csv", 640, 480)
+    """
+    _check_pixels(name, width, height, max_pixels)
+
+
 def _check_aspect(name: str, width: int, height: int) -> None:
     long, short = max(width, height), min(width, height)
     if long > MAX_ASPECT_RATIO * short:
