@@ -347,5 +347,13 @@ def thermogram_reprocess(request: HttpRequest, pk: int) -> HttpResponse:
     except ValidationError as error:
         messages.error(request, " ".join(error.messages))
         return redirect("survey:thermogram_settings", pk=thermogram.pk)
-    messages.success(request, f"{thermogram} queued for processing from its original.")
+    thermogram.refresh_from_db(fields=["waiting_for_broker"])
+    if thermogram.waiting_for_broker:
+        messages.warning(
+            request,
+            f"{thermogram} will be processed again when the processing queue, which cannot be "
+            "reached just now, is back.",
+        )
+    else:
+        messages.success(request, f"{thermogram} queued for processing from its original.")
     return redirect("survey:survey", pk=thermogram.survey_id)
