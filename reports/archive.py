@@ -659,23 +659,3 @@ def _bounded_stats(stats) -> dict:
 def _delete(paths: list[str]) -> None:
     for path in paths:
         default_storage.delete(path)
-
-
-def archive_thermogram_check(survey: Survey, manifest: dict) -> list[str]:
-    """Differences between the imported thermograms' derived values and the archive's."""
-    problems = []
-    by_sequence = {t.sequence: t for t in survey.thermograms.all()}
-    for entry in manifest.get("thermograms", []):
-        thermogram = by_sequence.get(entry.get("sequence"))
-        if thermogram is None:
-            problems.append(f"thermogram {entry.get('original_name')} is missing")
-            continue
-        for name, value in (entry.get("derived") or {}).items():
-            if getattr(thermogram, name) != value:
-                problems.append(f"{thermogram}: {name} {getattr(thermogram, name)} != {value}")
-    return problems
-
-
-def read_manifest(data) -> dict:
-    with _opened(data) as archive:
-        return _read_manifest(archive)

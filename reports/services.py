@@ -39,6 +39,13 @@ def _member_of(user: AbstractBaseUser, organization) -> Member:
     return member
 
 
+def _require_editor(user: AbstractBaseUser, organization) -> Member:
+    member = _member_of(user, organization)
+    if not member.can_edit:
+        raise PermissionDenied("Your role cannot create or change reports.")
+    return member
+
+
 def _require_reviewer(user: AbstractBaseUser, organization) -> Member:
     member = _member_of(user, organization)
     if not member.can_review:
@@ -61,9 +68,7 @@ def next_report_number(organization, year: int) -> str:
 
 
 def report_create(*, survey: Survey, user: AbstractBaseUser) -> Report:
-    member = _member_of(user, survey.organization)
-    if not member.can_edit:
-        raise PermissionDenied("Your role cannot create reports.")
+    _require_editor(user, survey.organization)
     if survey.reports.exists():
         raise ValidationError(f"This survey already has report {survey.reports.first().number}.")
     # Two people may create reports at the same moment: retry on a taken number.
@@ -173,7 +178,7 @@ def reports_requeue(*, report_id: int | None = None, every_queued: bool = False)
 def report_request_draft(*, report: Report, user: AbstractBaseUser) -> ReportVersion:
     """Queue a watermarked draft; a draft already waiting is returned instead of a second one
     (and sent again when the broker had been unreachable or its worker was lost)."""
-    _member_of(user, report.organization)
+    _require_editor(user, report.organization)
     pending = report.versions.filter(is_draft=True, status__in=UNFINISHED).first()
     if pending is not None:
         if version_needs_sending(pending):
@@ -230,7 +235,7 @@ def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "
 def report_retry(*, version: ReportVersion, user: AbstractBaseUser) -> ReportVersion:
     """Queue a failed draft again, or send again a version waiting for the broker or lost by
     its worker (a failed final version is retried by issuing again)."""
-    _member_of(user, version.report.organization)
+    _require_editor(user, version.report.organization)
     if version_needs_sending(version):
         report_requeue_version(version)
         return version

@@ -82,10 +82,6 @@ def get_site_for_user(request: HttpRequest, pk: int) -> Site:
     return get_object_or_404(sites_for(get_member(request)).select_related("client"), pk=pk)
 
 
-def get_client_for_user(request: HttpRequest, pk: int) -> Client:
-    return get_object_or_404(clients_for(get_member(request)), pk=pk)
-
-
 def get_asset_for_user(request: HttpRequest, pk: int) -> Asset:
     return get_object_or_404(assets_for(get_member(request)).select_related("site"), pk=pk)
 

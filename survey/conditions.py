@@ -271,21 +271,3 @@ def conditions_check(survey) -> list[dict]:
             }
         )
     return checks
-
-
-def conditions_shortfall(checks: list[dict]) -> str | None:
-    """One sentence for the report when the conditions fell short, None when all were met."""
-    not_met = [c["criterion"].lower() for c in checks if c["status"] == "not_met"]
-    missing = [c["criterion"].lower() for c in checks if c["status"] == "not_recorded"]
-    parts = []
-    if not_met:
-        parts.append("not met: " + "; ".join(not_met))
-    if missing:
-        parts.append("not recorded: " + "; ".join(missing))
-    if not parts:
-        return None
-    return (
-        "The survey conditions fell short of the usual criteria ("
-        + " — ".join(parts)
-        + "). Findings may understate or overstate what a survey in good conditions would show."
-    )

@@ -26,6 +26,7 @@ class Organization(models.Model):
 
 class Member(models.Model):
     class Role(models.TextChoices):
+        VIEWER = "viewer", "Viewer (read only)"
         THERMOGRAPHER = "thermographer", "Thermographer"
         REVIEWER = "reviewer", "Reviewer"
         ADMIN = "admin", "Admin"
@@ -58,6 +59,7 @@ class Member(models.Model):
 
     @property
     def can_edit(self) -> bool:
+        """Everyone but a viewer, who sees the organization's work and changes nothing."""
         return self.role in {self.Role.THERMOGRAPHER, self.Role.REVIEWER, self.Role.ADMIN}
 
     @property

@@ -286,14 +286,3 @@ def no_finding_below(rows: list[dict]) -> float | None:
             break
         threshold = row.get("below_c", row.get("up_to_c"))
     return threshold
-
-
-def band_limits(rows: list[dict]) -> list[float]:
-    """Every numeric band limit of a table, either shape."""
-    limits = []
-    for row in rows:
-        for name in ("lower", "upper", "below_c", "up_to_c"):
-            value = row.get(name)
-            if _is_number(value):
-                limits.append(float(value))
-    return sorted(set(limits))

@@ -1,8 +1,8 @@
 """Shared fixtures: named personas in two organizations, and service checks.
 
-The owner organization "Northwind Thermal" has an admin (Olivia), a reviewer (Rita) and a
-thermographer (Theo). "Ridgeback Inspections" is another firm: its member Otto is the
-outsider who must never see Northwind's data.
+The owner organization "Northwind Thermal" has an admin (Olivia), a reviewer (Rita), a
+thermographer (Theo) and a read-only viewer (Vera). "Ridgeback Inspections" is another firm:
+its member Otto is the outsider who must never see Northwind's data.
 """
 
 import os
@@ -122,7 +122,7 @@ def _media_in_tmp(settings, tmp_path_factory):
     yield
 
 
-def _person(org: Organization, username: str, role: str, name: str) -> Member:
+def make_person(org: Organization, username: str, role: str, name: str) -> Member:
     first, _, last = name.partition(" ")
     user = get_user_model().objects.create_user(
         username=username, password=PASSWORD, first_name=first, last_name=last
@@ -132,7 +132,7 @@ def _person(org: Organization, username: str, role: str, name: str) -> Member:
 
 @pytest.fixture
 def org(db) -> Organization:
-    return Organization.objects.create(name="Northwind Thermal", slug="northwind")
+    return make_organization()
 
 
 @pytest.fixture
@@ -142,22 +142,27 @@ def other_org(db) -> Organization:
 
 @pytest.fixture
 def owner(org) -> Member:
-    return _person(org, "olivia", Member.Role.ADMIN, "Olivia Admin")
+    return make_person(org, "olivia", Member.Role.ADMIN, "Olivia Admin")
 
 
 @pytest.fixture
 def reviewer(org) -> Member:
-    return _person(org, "rita", Member.Role.REVIEWER, "Rita Reviewer")
+    return make_person(org, "rita", Member.Role.REVIEWER, "Rita Reviewer")
 
 
 @pytest.fixture
 def thermographer(org) -> Member:
-    return _person(org, "theo", Member.Role.THERMOGRAPHER, "Theo Thermographer")
+    return make_person(org, "theo", Member.Role.THERMOGRAPHER, "Theo Thermographer")
+
+
+@pytest.fixture
+def viewer(org) -> Member:
+    return make_person(org, "vera", Member.Role.VIEWER, "Vera Viewer")
 
 
 @pytest.fixture
 def outsider(other_org) -> Member:
-    return _person(other_org, "otto", Member.Role.ADMIN, "Otto Outsider")
+    return make_person(other_org, "otto", Member.Role.ADMIN, "Otto Outsider")
 
 
 def login(client, member: Member):
@@ -185,14 +190,17 @@ def outsider_client(client, outsider):
     return login(client, outsider)
 
 
-@pytest.fixture
-def site(org) -> Site:
+def make_organization() -> Organization:
+    return Organization.objects.create(name="Northwind Thermal", slug="northwind")
+
+
+def make_site(org: Organization) -> Site:
     client = Client.objects.create(organization=org, name="Harbour Lane Housing Co-op")
     return Site.objects.create(organization=org, client=client, name="Block C, 14 Harbour Lane")
 
 
-@pytest.fixture
-def envelope_survey(org, site, thermographer) -> Survey:
+def make_envelope_survey(org: Organization, site: Site, thermographer: Member) -> Survey:
+    """The envelope survey of the personas: 20 °C / 50 % inside, −5 °C outside."""
     import datetime
 
     from survey.models import Conditions
@@ -209,6 +217,16 @@ def envelope_survey(org, site, thermographer) -> Survey:
         survey=survey, indoor_air_c=20.0, indoor_rh_pct=50.0, outdoor_air_c=-5.0, wind_m_s=2.0
     )
     return survey
+
+
+@pytest.fixture
+def site(org) -> Site:
+    return make_site(org)
+
+
+@pytest.fixture
+def envelope_survey(org, site, thermographer) -> Survey:
+    return make_envelope_survey(org, site, thermographer)
 
 
 @pytest.fixture

@@ -55,11 +55,6 @@ def thermogram_temperatures(thermogram: Thermogram) -> np.ndarray:
     return array
 
 
-def clear_cache() -> None:
-    with _lock:
-        _cache.clear()
-
-
 @dataclass(frozen=True)
 class EncodedTemperatures:
     """A thermogram's °C array as little-endian bytes: value = stored × scale + offset."""

@@ -117,7 +117,7 @@ def demo_firm(transactional_db):
     """The demo firm, plus an issued report of its envelope survey and a live share link."""
     from reports.services import report_create, report_issue, share_link_create
     from survey.models import Member, Survey
-    from survey.services.findings import criteria_table_copy_defaults
+    from survey.services.criteria_tables import criteria_table_copy_defaults
     from survey.services.surveys import survey_create, survey_soft_delete
 
     call_command("demo_data", stdout=io.StringIO())

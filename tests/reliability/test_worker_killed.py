@@ -50,19 +50,16 @@ HEIGHT, WIDTH = 2400, 3200
 
 
 def _start_worker(broker, postgres_url, media_root, log_path, pool, **extra):
-    """A worker that counts a job stalled after STALL_SECONDS and restores unacked tasks fast."""
-    return start_worker(
-        broker,
-        postgres_url,
-        media_root,
-        log_path,
-        pool,
-        CELERY_VISIBILITY_TIMEOUT="2",
-        CELERY_UNACKED_RESTORE_INTERVAL="1",
-        THERMOGRAM_STALLED_AFTER_SECONDS=str(STALL_SECONDS),
-        REPORT_STALLED_AFTER_SECONDS=str(STALL_SECONDS),
-        **extra,
-    )
+    """A worker that counts a job stalled after STALL_SECONDS and restores unacked tasks fast;
+    `extra` environment variables override those."""
+    environment = {
+        "CELERY_VISIBILITY_TIMEOUT": "2",
+        "CELERY_UNACKED_RESTORE_INTERVAL": "1",
+        "THERMOGRAM_STALLED_AFTER_SECONDS": str(STALL_SECONDS),
+        "REPORT_STALLED_AFTER_SECONDS": str(STALL_SECONDS),
+    }
+    environment.update(extra)
+    return start_worker(broker, postgres_url, media_root, log_path, pool, **environment)
 
 
 def _pool_children(pid: int) -> list[int]:

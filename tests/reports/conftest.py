@@ -24,6 +24,11 @@ def envelope_field() -> np.ndarray:
 
 @pytest.fixture
 def report_survey(envelope_survey, thermographer, reviewer) -> Survey:
+    return build_report_survey(envelope_survey, thermographer, reviewer)
+
+
+def build_report_survey(envelope_survey: Survey, thermographer, reviewer) -> Survey:
+    """Mark, finding and heat-loss estimate of the hand-built report survey."""
     from survey.services.marks import mark_add
 
     envelope_survey.reviewer = reviewer

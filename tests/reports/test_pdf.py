@@ -2,15 +2,26 @@
 
 import io
 import re
+from types import SimpleNamespace
 
 import pytest
+from django.db import transaction
+from django.test import override_settings
 from pypdf import PdfReader
 
 from reports.document import render_pdf
 from reports.models import Report, ReportVersion
 from reports.results import content_digest, survey_results
-from survey.models import Conditions, Survey
-from tests.reports.conftest import COLD_C, EMISSIVITY, REFLECTED_C, SOUND_C, kind_survey
+from survey.models import Conditions, Member, Survey
+from tests.conftest import make_envelope_survey, make_organization, make_person, make_site
+from tests.reports.conftest import (
+    COLD_C,
+    EMISSIVITY,
+    REFLECTED_C,
+    SOUND_C,
+    build_report_survey,
+    kind_survey,
+)
 from tests.reports.helpers import dew_point_c, flat, object_c, pdf_text, surface_rh_pct
 
 NUMBER = r"(-?\d+\.\d)"
@@ -22,9 +33,33 @@ def render(survey: Survey, *, draft: bool = True):
     return render_pdf(version)
 
 
+@pytest.fixture(scope="module")
+def hand_built(django_db_setup, django_db_blocker, tmp_path_factory):
+    """The hand-built survey rendered once for the whole module, as a draft and as an issued
+    version, with the digest of its results; its rows are rolled back afterwards."""
+    media = str(tmp_path_factory.mktemp("media"))
+    hasher = ["django.contrib.auth.hashers.MD5PasswordHasher"]
+    with (
+        django_db_blocker.unblock(),
+        override_settings(MEDIA_ROOT=media, PASSWORD_HASHERS=hasher),
+        transaction.atomic(),
+    ):
+        org = make_organization()
+        thermographer = make_person(org, "theo", Member.Role.THERMOGRAPHER, "Theo Thermographer")
+        reviewer = make_person(org, "rita", Member.Role.REVIEWER, "Rita Reviewer")
+        survey = make_envelope_survey(org, make_site(org), thermographer)
+        build_report_survey(survey, thermographer, reviewer)
+        draft = render(survey, draft=True)
+        Report.objects.all().delete()
+        final = render(survey, draft=False)
+        digest = content_digest(survey_results(survey))
+        transaction.set_rollback(True)
+    return SimpleNamespace(draft=draft, final=final, digest=digest)
+
+
 @pytest.fixture
-def rendered(report_survey):
-    return render(report_survey)
+def rendered(hand_built):
+    return hand_built.draft
 
 
 def test_it_lays_out_cover_contents_header_and_page_numbers(rendered):
@@ -117,18 +152,17 @@ def test_it_prints_the_load_correction_of_an_electrical_survey(electrical_report
     assert "1 act now" in text and "re-terminate the L2 lug" in text
 
 
-def test_it_marks_drafts_and_issued_versions_differently(report_survey):
+def test_it_marks_drafts_and_issued_versions_differently(hand_built):
     """A draft says it is not issued; an issued version says its file is never changed."""
-    draft = flat(pdf_text(render(report_survey, draft=True).pdf))
-    Report.objects.all().delete()
-    final = flat(pdf_text(render(report_survey, draft=False).pdf))
+    draft = flat(pdf_text(hand_built.draft.pdf))
+    final = flat(pdf_text(hand_built.final.pdf))
     assert "Draft, not issued" in draft and "Issued version" not in draft
     assert "Issued version" in final and "Draft, not issued" not in final
 
 
-def test_it_embeds_print_size_jpegs_and_the_digest_of_the_survey_data(report_survey):
+def test_it_embeds_print_size_jpegs_and_the_digest_of_the_survey_data(hand_built):
     """Pictures go in as JPEG of about 170 dpi of their printed width; the data digest too."""
-    rendered = render(report_survey)
+    rendered = hand_built.draft
     reader = PdfReader(io.BytesIO(rendered.pdf))
     widths = []
     for page in reader.pages:
@@ -138,7 +172,7 @@ def test_it_embeds_print_size_jpegs_and_the_digest_of_the_survey_data(report_sur
     # 100 mm at 170 dpi = 669 px (thermogram); 34 mm = 228 px (summary thumbnail).
     assert 669 in widths and 228 in widths
     assert max(widths) <= 700
-    expected = content_digest(survey_results(report_survey))
+    expected = hand_built.digest
     assert rendered.content_sha256 == expected
     assert expected in pdf_text(rendered.pdf).replace("\n", "")
 

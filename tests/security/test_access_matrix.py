@@ -41,7 +41,7 @@ SECRETS = [SECRET_TITLE, SECRET_FILE, SECRET_ASSET, SECRET_REPORT, SECRET_LOCATI
 # Routes that take no object id, or are public by design (reached with a share token).
 NOT_OBJECT_ROUTES = {"reports:share", "reports:share_download"}
 
-ROLES = ("thermographer", "reviewer", "admin")
+ROLES = ("viewer", "thermographer", "reviewer", "admin")
 PDF_BYTES = b"%PDF-1.4\n% an invented stand-in for an issued report\n%%EOF\n"
 
 
@@ -153,12 +153,17 @@ def everyone(status: int) -> dict:
     return {role: status for role in ROLES}
 
 
+def editors(status: int) -> dict:
+    """Every role but the read-only viewer."""
+    return {"viewer": 403, "thermographer": status, "reviewer": status, "admin": status}
+
+
 def reviewers(status: int) -> dict:
-    return {"thermographer": 403, "reviewer": status, "admin": status}
+    return {"viewer": 403, "thermographer": 403, "reviewer": status, "admin": status}
 
 
 def admins(status: int) -> dict:
-    return {"thermographer": 403, "reviewer": 403, "admin": status}
+    return {"viewer": 403, "thermographer": 403, "reviewer": 403, "admin": status}
 
 
 def survey(w):
@@ -188,14 +193,14 @@ def version_id(w):
 MATRIX: dict[str, Entry] = {
     # pages (web-core)
     "survey:survey": Entry("get", survey, everyone(200)),
-    "survey:survey_edit": Entry("get", survey, everyone(200)),
-    "survey:survey_upload": Entry("post", survey, everyone(302)),
+    "survey:survey_edit": Entry("get", survey, editors(200)),
+    "survey:survey_upload": Entry("post", survey, editors(302)),
     "survey:survey_status": Entry("get", survey, everyone(200)),
     "survey:survey_delete": Entry("get", survey, reviewers(200)),
     "survey:survey_restore": Entry("post", lambda w: {"pk": w.deleted_survey()}, reviewers(302)),
-    "survey:thermogram_settings": Entry("get", thermogram, everyone(200)),
+    "survey:thermogram_settings": Entry("get", thermogram, editors(200)),
     "survey:thermogram_reprocess": Entry(
-        "post", lambda w: {"pk": w.fresh_thermogram()}, everyone(302), data={"source_unit": "C"}
+        "post", lambda w: {"pk": w.fresh_thermogram()}, editors(302), data={"source_unit": "C"}
     ),
     "survey:thermogram_original": Entry(
         "get", thermogram, everyone(200), media_type="application/octet-stream"
@@ -212,36 +217,36 @@ MATRIX: dict[str, Entry] = {
     "survey:api-thermogram": Entry("get", thermogram, everyone(200)),
     "survey:api-thermogram-temperatures": Entry("get", thermogram, everyone(200)),
     "survey:api-marks": Entry(
-        "post", thermogram, everyone(201), json_body={"kind": "point", "points": [[5, 5]]}
+        "post", thermogram, editors(201), json_body={"kind": "point", "points": [[5, 5]]}
     ),
     "survey:api-thermogram-overlays": Entry("get", thermogram, everyone(200)),
     "survey:api-thermogram-alignment": Entry("get", thermogram, everyone(200)),
     "survey:api-thermogram-neighbours": Entry("get", thermogram, everyone(200)),
     "survey:api-mark": Entry(
-        "patch", lambda w: {"pk": w.mark_id}, everyone(200), json_body={"note": "Checked."}
+        "patch", lambda w: {"pk": w.mark_id}, editors(200), json_body={"note": "Checked."}
     ),
     # findings, assets, criteria (judgement)
-    "survey:finding_create": Entry("get", thermogram, everyone(200)),
+    "survey:finding_create": Entry("get", thermogram, editors(200)),
     "survey:finding": Entry("get", finding, everyone(200)),
-    "survey:finding_edit": Entry("get", finding, everyone(200)),
-    "survey:finding_status": Entry("post", finding, everyone(302), data={"status": "open"}),
-    "survey:finding_verify": Entry("post", finding, everyone(302)),
+    "survey:finding_edit": Entry("get", finding, editors(200)),
+    "survey:finding_status": Entry("post", finding, editors(302), data={"status": "open"}),
+    "survey:finding_verify": Entry("post", finding, editors(302)),
     "survey:survey_findings": Entry("get", survey, everyone(200)),
-    "survey:heat_loss_create": Entry("get", survey, everyone(200)),
+    "survey:heat_loss_create": Entry("get", survey, editors(200)),
     "survey:site_findings": Entry("get", lambda w: {"pk": w.survey.site_id}, everyone(200)),
     "survey:asset": Entry("get", lambda w: {"pk": w.asset.pk}, everyone(200)),
     "survey:asset_trend": Entry("get", lambda w: {"pk": w.asset.pk}, everyone(200)),
     "survey:criteria_edit": Entry("get", lambda w: {"pk": w.criteria_table_id}, admins(200)),
     # reports
     "reports:survey": Entry("get", survey_id, everyone(200)),
-    "reports:create": Entry("post", lambda w: {"survey_id": w.bare_survey()}, everyone(302)),
+    "reports:create": Entry("post", lambda w: {"survey_id": w.bare_survey()}, editors(302)),
     "reports:findings_csv": Entry("get", survey_id, everyone(200)),
     "reports:results_json": Entry("get", survey_id, everyone(200)),
-    "reports:draft": Entry("post", report_id, everyone(302)),
+    "reports:draft": Entry("post", report_id, editors(302)),
     "reports:issue": Entry("post", report_id, reviewers(302), data={"change_note": "Typo."}),
     "reports:progress": Entry("get", version_id, everyone(200)),
     "reports:download": Entry("get", version_id, everyone(200), media_type="application/pdf"),
-    "reports:retry": Entry("post", version_id, everyone(302)),
+    "reports:retry": Entry("post", version_id, editors(302)),
     "reports:share_create": Entry("post", version_id, reviewers(302), data={"days": "30"}),
     "reports:share_revoke": Entry("post", lambda w: {"link_id": w.share_link()}, reviewers(302)),
 }
@@ -305,9 +310,12 @@ def _check_headers(response, entry: Entry, where: str) -> None:
         assert response.get("X-Content-Type-Options") == "nosniff", where
 
 
-def test_it_answers_each_route_as_the_matrix_says(world, owner, reviewer, thermographer, outsider):
+def test_it_answers_each_route_as_the_matrix_says(
+    world, owner, reviewer, thermographer, viewer, outsider
+):
     """Anonymous -> sign in (401 for /api/), outsider -> bare 404, each role -> its answer."""
     members = {"admin": owner, "reviewer": reviewer, "thermographer": thermographer}
+    members["viewer"] = viewer
     clients = {role: _signed_in(member) for role, member in members.items()}
     outsider_http = _signed_in(outsider)
     anonymous = HttpClient()
@@ -342,11 +350,12 @@ def test_it_answers_each_route_as_the_matrix_says(world, owner, reviewer, thermo
     assert checked == len(MATRIX) * len(ROLES)
     # Each role's download of the original and of the PDF is in the audit log; no one else's.
     audit = AuditEvent.objects.filter(organization=world.survey.organization)
-    assert audit.filter(action="download", object_id=str(world.thermogram.pk)).count() == 3
-    assert audit.filter(action="report.download", object_id=str(world.version.pk)).count() == 3
-    # Links offered to anonymous, outsider and thermographer stay live; reviewers revoked theirs.
+    assert audit.filter(action="download", object_id=str(world.thermogram.pk)).count() == 4
+    assert audit.filter(action="report.download", object_id=str(world.version.pk)).count() == 4
+    # Links offered to anonymous, outsider, viewer and thermographer stay live; reviewers
+    # revoked theirs.
     revoked = [ShareLink.objects.get(pk=pk).revoked_at is not None for pk in world.made]
-    assert revoked == [False, False, False, True, True]
+    assert revoked == [False, False, False, False, True, True]
 
 
 def test_it_sends_anonymous_visitors_of_every_page_to_sign_in(client):
@@ -409,3 +418,96 @@ def test_it_lets_only_admins_see_the_audit_log(
     assert "report.download" not in body
     client.force_login(outsider.user)
     assert "Theo Thermographer" not in client.get(url).content.decode()
+
+
+def _viewer_writes(w: World) -> list[tuple[str, str, dict, dict | None, dict | None]]:
+    """(method, route, kwargs, form data, JSON body) of every write a member could send."""
+    link = w.share_link()
+    return [
+        ("post", "survey:clients", {}, {"name": "Viewer's client"}, None),
+        ("post", "survey:sites", {}, {"client": w.survey.site.client_id, "name": "S"}, None),
+        ("post", "survey:survey_create", {}, {"site": w.survey.site_id, "kind": "roof"}, None),
+        ("post", "survey:survey_edit", survey(w), {"title": "Changed"}, None),
+        ("post", "survey:survey_upload", survey(w), {}, None),
+        ("post", "survey:survey_delete", survey(w), {"confirm": "on"}, None),
+        ("post", "survey:survey_restore", {"pk": w.deleted_survey()}, {}, None),
+        ("post", "survey:thermogram_settings", thermogram(w), {"emissivity": "0.5"}, None),
+        ("post", "survey:thermogram_reprocess", thermogram(w), {"source_unit": "C"}, None),
+        ("patch", "survey:api-thermogram", thermogram(w), None, {"palette": "perceptual"}),
+        ("post", "survey:api-marks", thermogram(w), None, {"kind": "point", "points": [[5, 5]]}),
+        ("patch", "survey:api-mark", {"pk": w.mark_id}, None, {"note": "Viewer was here."}),
+        ("delete", "survey:api-mark", {"pk": w.mark_id}, None, None),
+        (
+            "put",
+            "survey:api-thermogram-alignment",
+            thermogram(w),
+            None,
+            {"pairs": [[[0, 0], [0, 0]], [[5, 0], [5, 0]]]},
+        ),
+        ("delete", "survey:api-thermogram-alignment", thermogram(w), None, None),
+        ("post", "survey:finding_create", thermogram(w), {"category": "other"}, None),
+        ("post", "survey:finding_edit", finding(w), {"location": "Changed"}, None),
+        ("post", "survey:finding_status", finding(w), {"status": "repaired"}, None),
+        ("post", "survey:finding_verify", finding(w), {}, None),
+        ("post", "survey:heat_loss_create", survey(w), {"label": "x"}, None),
+        ("post", "survey:criteria_copy", {}, {}, None),
+        ("post", "survey:criteria_edit", {"pk": w.criteria_table_id}, {"rows": "[]"}, None),
+        ("post", "survey:member_edit", {"pk": w.survey.thermographer_id}, {"role": "admin"}, None),
+        ("post", "reports:create", {"survey_id": w.bare_survey()}, {}, None),
+        ("post", "reports:draft", report_id(w), {}, None),
+        ("post", "reports:issue", report_id(w), {"change_note": "x"}, None),
+        ("post", "reports:retry", version_id(w), {}, None),
+        ("post", "reports:share_create", version_id(w), {"days": "30"}, None),
+        ("post", "reports:share_revoke", {"link_id": link}, {}, None),
+    ]
+
+
+def _state(w: World) -> dict:
+    from survey.models import Client, CriteriaTable, HeatLossEstimate, Mark, Member, Site
+
+    w.survey.refresh_from_db()
+    mark = Mark.objects.filter(pk=w.mark_id).first()
+    return {
+        "rows": [
+            model.objects.count()
+            for model in (
+                Client,
+                Site,
+                Survey,
+                Thermogram,
+                Mark,
+                Finding,
+                HeatLossEstimate,
+                CriteriaTable,
+                Report,
+                ReportVersion,
+            )
+        ],
+        "survey": (w.survey.title, w.survey.status),
+        "mark_note": mark.note if mark else None,
+        "finding": Finding.objects.values_list("status", "location").get(pk=w.finding.pk),
+        "thermogram": Thermogram.objects.values_list(
+            "emissivity", "palette", "status", "photo_alignment"
+        ).get(pk=w.thermogram.pk),
+        "roles": sorted(Member.objects.values_list("role", flat=True)),
+        "live_links": ShareLink.objects.filter(revoked_at__isnull=True).count(),
+    }
+
+
+def test_it_lets_a_viewer_see_everything_and_change_nothing(world, viewer):
+    """Every write a viewer sends answers 403 and leaves every row as it was."""
+    http = _signed_in(viewer)
+    writes = _viewer_writes(world)
+    before = _state(world)
+    for method, name, kwargs, data, body in writes:
+        url = reverse(name, kwargs=kwargs)
+        send = getattr(http, method)
+        if body is not None:
+            response = send(url, data=json.dumps(body), content_type="application/json")
+        else:
+            response = send(url, data=data or {})
+        assert response.status_code == 403, (method, name, response.content[:200])
+    assert _state(world) == before
+    # What the matrix lets everyone read, the viewer reads too.
+    assert http.get(reverse("survey:survey", kwargs=survey(world))).status_code == 200
+    assert http.get(reverse("survey:home")).status_code == 200

@@ -93,7 +93,8 @@ def test_it_compares_at_full_load(repaired_finding, org, site, thermographer, as
     """0.5 K at 50 % load becomes 2 K at full load (I²R), still above 1 K: not fixed."""
     _later_visit(org, site, thermographer, asset, 0.5, load_pct=50.0)
     check = repair_verification(repaired_finding)
-    # 0.5 · (100/50)² = 2.0 K by hand (REFERENCES.md, load correction, n = 2).
+    # 0.5 · (100/50)² = 2.0 K by hand, n = 2 (docs/references.md § Electrical and
+    # mechanical ranking).
     assert check["after_value"] == pytest.approx(2.0, abs=0.01)
     assert check["outcome"] == "not_fixed"
 

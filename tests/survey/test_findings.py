@@ -29,8 +29,8 @@ def full_load_survey(org, site, thermographer):
     return equipment_survey(org, site, thermographer, ambient_air_c=24.0, load_pct=100.0)
 
 
-# Bands of the NETA MTS thermographic table as recalled in REFERENCES.md [memory], with
-# the interval ends documented in survey.thermal.electrical: (−∞, 1) none, [1, 3] 4,
+# Bands of the NETA MTS thermographic table as recalled in docs/references.md § Electrical
+# [memory], with the interval ends documented in survey.thermal.electrical: (−∞, 1) none, [1, 3] 4,
 # (3, 15] 3, (15, ∞) 1 for like components.
 @pytest.mark.parametrize(
     ("rise", "level"),
@@ -62,7 +62,8 @@ def test_it_flags_low_load_and_corrects_the_rise(org, site, thermographer):
     survey = equipment_survey(org, site, thermographer, ambient_air_c=24.0, load_pct=30.0)
     _, hot, _ = hot_and_reference(survey, 20.0, 25.0)
     suggestion = finding_suggest(survey=survey, basis="similar", marks=[hot])
-    # I²R correction ΔT·(I_full/I)² (REFERENCES.md, common practice): 5·(100/30)² = 55.56 K.
+    # I²R correction ΔT·(I_full/I)² (docs/references.md § Electrical and mechanical ranking,
+    # practice): 5·(100/30)² = 55.56 K.
     assert suggestion["values"]["corrected_rise_c"] == pytest.approx(55.56, abs=0.01)
     assert "low_load" in suggestion["flags"]
     assert suggestion["level"] == 1  # above 15 K over a like component [memory, NETA MTS]
@@ -295,7 +296,8 @@ def test_it_gives_the_temperature_factor_margin_in_kelvin(org, site, thermograph
     """At 12 °C with 20 °C / 50 % inside and −5 °C outside the margin is about −0.6 K."""
     survey, mark = _envelope(org, site, thermographer, 12.0)
     values = finding_suggest(survey=survey, basis="envelope", marks=[mark])["values"]
-    # fRsi = (12 − (−5)) / 25 = 0.68 by hand; fRsi,min 0.705 [computed, REFERENCES.md].
+    # fRsi = (12 − (−5)) / 25 = 0.68 by hand; fRsi,min 0.705 [computed,
+    # docs/references.md § Building envelope].
     assert values["temperature_factor"] == pytest.approx(0.68, abs=1e-3)
     assert values["critical_factor"] == pytest.approx(0.705, abs=2e-3)
     # θsi,min: dew point of the vapour pressure p_i / 0.8, with psychrolib.
@@ -322,7 +324,8 @@ def test_it_flags_a_surface_that_fails_only_at_design_conditions(org, site, ther
     assert values["design_surface_c"] == pytest.approx(14.8, abs=0.01)
     expected_rh = _surface_rh_psychrolib(21.0, 55.0, 14.8)  # psychrolib
     assert values["design_surface_rh_pct"] == pytest.approx(expected_rh, abs=0.3)
-    # fRsi,min 0.808 for 21 °C / 55 % with −10 °C [computed, REFERENCES.md].
+    # fRsi,min 0.808 for 21 °C / 55 % with −10 °C [computed,
+    # docs/references.md § Building envelope].
     assert values["design_critical_factor"] == pytest.approx(0.808, abs=2e-3)
     assert values["design_margin_k"] < 0
     assert design["level"] == 3
@@ -348,7 +351,8 @@ def test_it_estimates_the_wet_area_with_the_oblique_caveat(org, site, thermograp
     mark = mark_add(thermogram=thermogram, kind="rectangle", points=[[2, 2], [90, 70]], user=None)
     pixels = mark.stats["pixels"]
     square_on = finding_suggest(survey=survey, basis="roof", marks=[mark])
-    # Pixel footprint = distance × IFOV (REFERENCES.md): 20 m × 1.309 mrad = 26.18 mm.
+    # Pixel footprint = distance × IFOV (docs/references.md § Geometry and wet areas):
+    # 20 m × 1.309 mrad = 26.18 mm.
     expected = pixels * (20.0 * 1.309e-3) ** 2
     assert square_on["values"]["wet_area_m2"] == pytest.approx(expected, rel=1e-3)
     assert "oblique_caveat" in square_on["flags"]
@@ -394,7 +398,7 @@ def test_it_estimates_heat_loss_energy_and_cost(envelope_survey, thermographer):
     )
     results = estimate.results
     # 85.9 W/m² total for 1 m vertical wall, 30 °C in still 20 °C air, ε 0.9 (±3 %)
-    # [computed, REFERENCES.md].
+    # [computed, docs/references.md § Heat transfer].
     assert results["total_w_m2"] == pytest.approx(85.9, rel=0.03)
     q = results["total_w_m2"]
     # Hand calculation: W = q · A; kWh = W · h / 1000; bought = kWh / 0.9; cost = bought · 0.12

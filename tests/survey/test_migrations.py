@@ -11,7 +11,7 @@ from tests.factories import make_thermogram
 
 def test_it_caps_line_profiles_stored_before_the_cap(envelope_survey):
     """A 5000-point profile (as stored before) keeps at most the cap, with its extremes."""
-    migration = importlib.import_module("survey.migrations.0006_cap_line_profiles")
+    migration = importlib.import_module("survey.migrations.0007_cap_line_profiles")
     thermogram = make_thermogram(envelope_survey)
     profile = [[float(d), 20.0 + (d % 7) / 10] for d in range(5000)]
     profile[1234][1], profile[4321][1] = 95.5, -3.0

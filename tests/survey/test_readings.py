@@ -35,7 +35,8 @@ def test_mark_readings_corrects_with_the_marks_own_emissivity(electrical_survey,
         emissivity=0.90,
     )
     readings = mark_readings(mark)
-    expected = reference_object_c(80.0, 0.90, 25.0)  # scipy; REFERENCES.md gives 84.999
+    # scipy; docs/references.md § Radiometry lists 84.999.
+    expected = reference_object_c(80.0, 0.90, 25.0)
     assert readings["corrected"]["max"] == pytest.approx(expected, abs=0.02)
     assert readings["corrected"]["mean"] == pytest.approx(expected, abs=0.02)
     assert readings["apparent"]["count"] == 9 * 7
@@ -49,7 +50,8 @@ def test_mark_readings_uses_the_thermograms_transmittance(electrical_survey, the
         electrical_survey, 60.0, reflected_c=20.0, transmittance=0.95, atmosphere_c=20.0
     )
     mark = mark_add(thermogram=thermogram, kind="point", points=[[5, 5]], user=thermographer.user)
-    expected = reference_object_c(60.0, 0.95, 20.0, 0.95, 20.0)  # scipy; REFERENCES.md 63.664
+    # scipy; docs/references.md § Radiometry lists 63.664.
+    expected = reference_object_c(60.0, 0.95, 20.0, 0.95, 20.0)
     assert mark_readings(mark)["corrected"]["max"] == pytest.approx(expected, abs=0.02)
 
 
@@ -162,7 +164,8 @@ def test_mark_readings_humidity_figures_match_psychrolib(envelope_survey, thermo
     readings = mark_readings(mark)
     dew_c = psychrolib.GetTDewPointFromRelHum(20.0, 0.5)
     vapour_pa = 0.5 * psychrolib.GetSatVapPres(20.0)
-    surface_rh = 100 * vapour_pa / psychrolib.GetSatVapPres(12.0)  # 83.4 % (REFERENCES.md)
+    # 83.4 % (docs/references.md § Psychrometrics)
+    surface_rh = 100 * vapour_pa / psychrolib.GetSatVapPres(12.0)
     mould_c = psychrolib.GetTDewPointFromVapPres(20.0, vapour_pa / 0.8)  # surface RH = 80 %
     assert readings["dew_point_c"] == pytest.approx(dew_c, abs=0.03)
     assert readings["surface_rh_pct"] == pytest.approx(surface_rh, abs=0.15)

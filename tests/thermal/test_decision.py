@@ -23,6 +23,7 @@ from survey.thermal.psychrometrics import (
     surface_limit_temperature,
     surface_rh,
 )
+from tests.hypothesis_profiles import examples
 
 psychrolib.SetUnitSystem(psychrolib.SI)
 
@@ -129,7 +130,7 @@ def test_expanded_from_limit_treats_an_accuracy_limit_as_rectangular():
     assert expanded_from_limit(2.0) == pytest.approx(2.0 * 2.0 / np.sqrt(3.0), rel=1e-12)
 
 
-@settings(max_examples=150, deadline=None)
+@settings(max_examples=examples(150), deadline=None)
 @given(
     t_air_c=st.floats(min_value=-20.0, max_value=35.0),
     rh_pct=st.floats(min_value=20.0, max_value=95.0),

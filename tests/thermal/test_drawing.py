@@ -29,9 +29,10 @@ def test_isotherm_mask_is_an_inclusive_band():
 
 
 def test_condensation_masks_against_reference_surface_rh():
-    """Surface RH thresholds 80 % / 100 % (ISO 13788) on REFERENCES.md check values."""
-    # psychrolib-computed surface RH for air 20 °C 50 %: 12 °C surface → 83.4 % (mould risk),
-    # 15 °C → 68.6 % (none); for air 22 °C 55 % a 10 °C surface → 118 % (condensation).
+    """Surface RH thresholds 80 % / 100 % (ISO 13788) on the psychrometric check values."""
+    # Source: docs/references.md § Psychrometrics, psychrolib-computed surface RH for air
+    # 20 °C 50 %: 12 °C surface → 83.4 % (mould risk), 15 °C → 68.6 % (none); for air
+    # 22 °C 55 % a 10 °C surface → 118 % (condensation).
     mould, wet = condensation_masks(np.array([[12.0, 15.0, np.nan]]), 20.0, 50.0)
     assert mould.tolist() == [[True, False, False]] and not wet.any()
     mould, wet = condensation_masks(np.array([10.0]), 22.0, 55.0)
@@ -122,6 +123,16 @@ def test_encoders_accept_arrays_and_images():
     decoded = np.asarray(Image.open(io.BytesIO(encode_png(Image.fromarray(rgb)))))
     np.testing.assert_array_equal(decoded, rgb)
     assert encode_png(rgb) == encode_png(Image.fromarray(rgb))
+
+
+def test_condensation_masks_leave_a_pixel_above_the_formula_range_out():
+    """A 150 °C flue pixel in a wall picture is in neither mask instead of refusing the image."""
+    # Expected masks from the definition (ISO 13788: mould at surface RH >= 80 %,
+    # condensation at >= 100 %); 20 °C / 50 % air makes a 5 °C surface condense
+    # (docs/references.md § Psychrometrics).
+    mould, wet = condensation_masks(np.array([150.0, 20.0, 5.0]), 20.0, 50.0)
+    assert mould.tolist() == [False, False, True]
+    assert wet.tolist() == [False, False, True]
 
 
 # --- extreme shapes: every drawn picture is bounded in both directions ---------------------

@@ -159,7 +159,7 @@ def decimal_level(rise: Decimal, basis: str):
     return 1
 
 
-@settings(max_examples=300, deadline=None)
+@settings(max_examples=examples(300), deadline=None)
 @given(
     hot_tenths=st.integers(min_value=-400, max_value=1500),
     reference_tenths=st.integers(min_value=-400, max_value=1500),

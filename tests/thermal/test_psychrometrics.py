@@ -511,7 +511,7 @@ def test_critical_temperature_factor_is_the_limit_temperature_as_a_factor():
         )
 
 
-@settings(max_examples=150, deadline=None)
+@settings(max_examples=examples(150), deadline=None)
 @given(
     t_air_c=temperatures,
     rh_pct=humidities,

@@ -40,11 +40,12 @@ def add_mark(client, thermogram, **data):
 
 
 def test_it_shows_the_workspace_page(thermographer_client, thermogram):
-    """The page loads the workspace script and styles, without inline script or style."""
+    """The page loads the workspace's module script and styles, without inline script or style."""
     response = thermographer_client.get(reverse("survey:thermogram", args=[thermogram.pk]))
     assert response.status_code == 200
     html = response.content.decode()
-    assert "js/workspace.js" in html and "css/workspace.css" in html
+    assert 'type="module"' in html and "js/workspace/main.js" in html
+    assert "css/workspace.css" in html
     assert "<script>" not in html and "style=" not in html
     assert reverse("survey:api-thermogram", args=[thermogram.pk]) in html
     assert "csrftoken" in response.cookies
@@ -427,7 +428,8 @@ def test_it_gives_the_condensation_overlay_thresholds(thermographer_client, ther
     ).json()
     overlay = data["condensation"]
     assert overlay["available"] is True
-    # θsi,min 12.63 °C (REFERENCES.md, computed); dew point 9.27 °C (psychrolib).
+    # θsi,min 12.63 °C (docs/references.md § Building envelope, computed); dew point 9.27 °C
+    # (psychrolib).
     assert overlay["surface_c"]["rh80"] == pytest.approx(12.63, abs=0.03)
     assert overlay["surface_c"]["rh100"] == pytest.approx(9.27, abs=0.03)
     # Below the reflected 20 °C a surface at ε 0.95 reads slightly warmer than it is.

@@ -6,7 +6,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('survey', '0003_creator_optional'),
+        ('survey', '0004_member_viewer_role'),
     ]
 
     operations = [

@@ -37,7 +37,7 @@ def remove_idle_duplicates(apps, schema_editor):
 
 
 class Migration(migrations.Migration):
-    dependencies = [("survey", "0006_cap_line_profiles")]
+    dependencies = [("survey", "0007_cap_line_profiles")]
 
     operations = [
         migrations.RunPython(remove_idle_duplicates, migrations.RunPython.noop),

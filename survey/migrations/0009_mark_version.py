@@ -6,7 +6,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('survey', '0007_thermogram_content_once_per_survey'),
+        ('survey', '0008_thermogram_content_once_per_survey'),
     ]
 
     operations = [

@@ -29,6 +29,6 @@ def cap_profiles(apps, schema_editor):
 
 
 class Migration(migrations.Migration):
-    dependencies = [("survey", "0005_signin_throttle")]
+    dependencies = [("survey", "0006_signin_throttle")]
 
     operations = [migrations.RunPython(cap_profiles, migrations.RunPython.noop)]

@@ -6,7 +6,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('survey', '0004_thermogram_queue_state'),
+        ('survey', '0005_thermogram_queue_state'),
     ]
 
     operations = [

@@ -1,0 +1,130 @@
+/* Marks: which one is picked, hit tests on screen, and adding, changing and deleting them
+   through the API; the editor of the picked mark's own ε, reflected temperature, reference
+   and note. */
+
+import { markAt, vertexAt } from "./geometry.js";
+import { draw } from "./rendering.js";
+import { api } from "./server.js";
+import { $, canvas, state, HANDLE_PX, clampPixel, fmtT, fromUnit, status } from "./state.js";
+import { renderTable } from "./table.js";
+
+export function selected() {
+  for (var i = 0; i < state.marks.length; i++) { if (state.marks[i].id === state.selectedId) { return state.marks[i]; } }
+  return null;
+}
+
+export function hitMark(sx, sy) { return markAt(state.marks, sx, sy, state, HANDLE_PX); }
+
+export function hitVertex(mark, sx, sy) { return vertexAt(mark, sx, sy, state, HANDLE_PX); }
+
+export function select(id) {
+  state.selectedId = id;
+  draw();
+  showEditor();
+  renderTable();
+}
+
+export function refreshTable() {
+  if (!state.meta) { return Promise.resolve(); }
+  return api("GET", state.meta.urls.marks).then(function (data) {
+    state.marks = data.marks;
+    if (!selected()) { state.selectedId = null; }
+    draw();
+    renderTable();
+    showEditor();
+  }).catch(function (error) { status(error.message, true); });
+}
+
+export function createMark(kind, points) {
+  state.drawing = null;
+  points = points.map(clampPixel);
+  api("POST", state.meta.urls.marks, { kind: kind, points: points }).then(function (mark) {
+    state.selectedId = mark.id;
+    status("Mark " + mark.label + " added.");
+    return refreshTable();
+  }).catch(function (error) { status(error.message, true); draw(); });
+}
+
+export function updateMark(mark, changes, message) {
+  // The version read with the mark: a change someone else made meanwhile answers 409.
+  changes = Object.assign({ version: mark.version }, changes);
+  return api("PATCH", mark.url, changes).then(function (updated) {
+    mark.version = updated.version;
+    status(message || ("Mark " + updated.label + " saved."));
+    return refreshTable();
+  }).catch(function (error) { status(error.message, true); return refreshTable(); });
+}
+
+export function deleteMark(mark) {
+  if (!mark) { return; }
+  api("DELETE", mark.url).then(function () {
+    status("Mark " + mark.label + " deleted.");
+    state.selectedId = null;
+    return refreshTable();
+  }).catch(function (error) { status(error.message, true); });
+}
+
+var nudgeTimer = null;
+export function shiftMark(mark, dx, dy, vertex) {
+  var pts = mark.points.map(function (p, i) {
+    if (vertex !== undefined && i !== vertex) { return p.slice(); }
+    return [p[0] + dx, p[1] + dy];
+  });
+  for (var i = 0; i < pts.length; i++) {
+    if (pts[i][0] < 0 || pts[i][1] < 0 || pts[i][0] > state.w - 1 || pts[i][1] > state.h - 1) { return; }
+  }
+  mark.points = pts;
+  draw();
+  clearTimeout(nudgeTimer);
+  nudgeTimer = setTimeout(function () { updateMark(mark, { points: mark.points }, "Mark " + mark.label + " moved."); }, 350);
+}
+
+export function finishPolygon() {
+  if (!state.drawing || state.drawing.points.length < 3) { status("A polygon needs at least three corners."); return; }
+  createMark("polygon", state.drawing.points);
+}
+
+// --- the picked mark's editor ---------------------------------------------------------------
+
+export function showEditor() {
+  var mark = selected(), box = $("ws-editor");
+  if (!mark || !state.meta.can_edit) { box.hidden = true; return; }
+  box.hidden = false;
+  $("ws-ed-label").textContent = mark.label;
+  $("ws-ed-kind").textContent = mark.kind;
+  var eps = $("ws-ed-eps"), refl = $("ws-ed-refl"), ref = $("ws-ed-ref"), note = $("ws-ed-note");
+  if (box.dataset.markId !== String(mark.id) || document.activeElement === canvas || !box.contains(document.activeElement)) {
+    eps.value = mark.emissivity === null ? "" : mark.emissivity;
+    eps.placeholder = state.meta.capture.emissivity;
+    refl.value = mark.reflected_c === null ? "" : fmtT(mark.reflected_c);
+    refl.placeholder = fmtT(state.meta.capture.reflected_c);
+    note.value = mark.note;
+    ref.textContent = "";
+    [["", "Nothing"], ["ambient", "Air temperature"]].concat(state.marks.filter(function (m) { return m.id !== mark.id; })
+      .map(function (m) { return [m.label, "Mark " + m.label]; })).forEach(function (item) {
+      var option = document.createElement("option");
+      option.value = item[0]; option.textContent = item[1];
+      ref.appendChild(option);
+    });
+    ref.value = mark.reference || "";
+    box.dataset.markId = String(mark.id);
+  }
+}
+
+$("ws-ed-form").addEventListener("submit", function (event) {
+  event.preventDefault();
+  var mark = selected();
+  if (!mark) { return; }
+  var epsText = $("ws-ed-eps").value.trim(), reflText = $("ws-ed-refl").value.trim();
+  var changes = {
+    emissivity: epsText === "" ? null : parseFloat(epsText),
+    reflected_c: reflText === "" ? null : Math.round(fromUnit(parseFloat(reflText)) * 1000) / 1000,
+    reference: $("ws-ed-ref").value,
+    note: $("ws-ed-note").value
+  };
+  if (changes.emissivity !== null && !isFinite(changes.emissivity)) { status("Emissivity must be a number between 0.01 and 1.", true); return; }
+  if (changes.reflected_c !== null && !isFinite(changes.reflected_c)) { status("Reflected temperature must be a number.", true); return; }
+  $("ws-editor").dataset.markId = "";
+  updateMark(mark, changes);
+});
+$("ws-ed-delete").addEventListener("click", function () { deleteMark(selected()); });
