@@ -32,7 +32,7 @@ from django.utils import timezone
 
 from reports.models import Report, ReportVersion
 from reports.results import survey_results
-from survey.forms.fields import holds_nul
+from survey.inputs import holds_nul
 from survey.models import (
     Asset,
     Client,

@@ -18,6 +18,7 @@ from django.db.models import Max
 from django.utils import timezone
 
 from reports.models import DownloadLog, Report, ReportVersion, ShareLink
+from survey.celery import task
 from survey.models import Member, Survey
 from survey.services.audit import audit_record
 
@@ -111,11 +112,9 @@ def report_publish(version_id: int) -> bool:
     The re-queue job (reports.tasks.requeue_reports, every minute), the next draft, issue or
     retry request, or `manage.py requeue_reports` sends it once the broker answers.
     """
-    from reports.tasks import render_report
-
     rows = ReportVersion.objects.filter(pk=version_id)
     try:
-        render_report.apply_async(args=[version_id], retry=False)
+        task("reports.tasks.render_report").apply_async(args=[version_id], retry=False)
     except Exception as error:  # kombu/redis raise several connection error types
         logger.warning("Could not queue report version %s (%s)", version_id, error)
         rows.filter(status=ReportVersion.Status.QUEUED).update(

@@ -6,7 +6,7 @@ from django import forms
 from django.core.exceptions import ValidationError
 
 from survey import severity
-from survey.forms.fields import holds_nul
+from survey.inputs import holds_nul
 from survey.models import Asset, Finding, Mark, Survey, Thermogram
 
 LEVEL_CHOICES = [("", "Use the suggested level")] + [

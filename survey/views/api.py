@@ -24,7 +24,7 @@ from survey.access import (
     require_editor,
     thermograms_for,
 )
-from survey.forms.fields import holds_nul
+from survey.inputs import holds_nul
 from survey.models import Mark, Thermogram
 from survey.services import display
 from survey.services import marks as mark_services
