@@ -18,7 +18,6 @@ from django.db.models import Max
 from django.utils import timezone
 
 from reports.models import DownloadLog, Report, ReportVersion, ShareLink
-from survey.celery import task
 from survey.models import Member, Survey
 from survey.services.audit import audit_record
 
@@ -109,12 +108,14 @@ def _enqueue_render(version: ReportVersion) -> None:
 def report_publish(version_id: int) -> bool:
     """Hand the render to the broker; when it is down, mark the version as waiting for it.
 
-    The re-queue job (reports.tasks.requeue_reports, every minute), the next draft, issue or
+    The re-queue job (reports.jobs.requeue_reports, every minute), the next draft, issue or
     retry request, or `manage.py requeue_reports` sends it once the broker answers.
     """
+    from reports.tasks import render_report
+
     rows = ReportVersion.objects.filter(pk=version_id)
     try:
-        task("reports.tasks.render_report").apply_async(args=[version_id], retry=False)
+        render_report.apply_async(args=[version_id], retry=False)
     except Exception as error:  # kombu/redis raise several connection error types
         logger.warning("Could not queue report version %s (%s)", version_id, error)
         rows.filter(status=ReportVersion.Status.QUEUED).update(

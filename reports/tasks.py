@@ -29,11 +29,3 @@ def render_report(self, version_id: int) -> bool:
     if not rendered and report_render_is_held(version_id):
         raise self.retry(countdown=render_stalled_after().total_seconds() + 1)
     return rendered
-
-
-@shared_task(ignore_result=True)
-def requeue_reports() -> int:
-    """Periodic: send again the renders waiting for the broker or whose worker was lost."""
-    from reports.services import reports_requeue
-
-    return reports_requeue().sent

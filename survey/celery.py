@@ -10,9 +10,3 @@ os.environ.setdefault("DJANGO_SETTINGS_MODULE", "survey.settings")
 app = Celery("survey")
 app.config_from_object("django.conf:settings", namespace="CELERY")
 app.autodiscover_tasks()
-
-
-def task(name: str):
-    """The registered task `name` ("survey.tasks.process_thermogram"). Services publish
-    through this instead of importing the task modules, which import the services."""
-    return app.tasks[name]

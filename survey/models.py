@@ -604,7 +604,7 @@ class SignInThrottle(models.Model):
     An address has a token bucket (each failure takes a token, tokens come back with time;
     an empty bucket refuses that address). A username counts its failures from any address
     and asks for a short, growing wait between attempts instead of locking the account.
-    Rows idle for long are pruned (survey.tasks.prune_signin_throttle).
+    Rows idle for long are pruned (survey.jobs.prune_signin_throttle).
     """
 
     class Scope(models.TextChoices):

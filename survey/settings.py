@@ -201,24 +201,26 @@ REPORT_STALLED_AFTER_SECONDS = env_int("REPORT_STALLED_AFTER_SECONDS", 120)
 # message instead of being tried again: one file must not take the workers down for ever.
 TASK_MAX_ATTEMPTS = env_int("TASK_MAX_ATTEMPTS", 3)
 
-# Periodic jobs, run by `celery -A survey.celery beat` (one beat process per installation).
+# Periodic jobs, run by `celery -A survey.celery beat` (one beat process per installation);
+# workers find them through CELERY_IMPORTS (tasks.py modules are found on their own).
+CELERY_IMPORTS = ["survey.jobs", "reports.jobs"]
 # Each job is idempotent; `expires` drops runs that waited longer than their interval, so a
 # broker outage does not leave a backlog of identical runs behind it.
 CELERY_BEAT_SCHEDULE = {
     # Thermograms and report renders waiting for the broker or whose worker was lost.
     "requeue-thermograms": {
-        "task": "survey.tasks.requeue_thermograms",
+        "task": "survey.jobs.requeue_thermograms",
         "schedule": 60.0,
         "options": {"expires": 55},
     },
     "requeue-reports": {
-        "task": "reports.tasks.requeue_reports",
+        "task": "reports.jobs.requeue_reports",
         "schedule": 60.0,
         "options": {"expires": 55},
     },
     # Sign-in counters that no longer hold anyone back (survey/services/signin.py).
     "prune-signin-throttle": {
-        "task": "survey.tasks.prune_signin_throttle",
+        "task": "survey.jobs.prune_signin_throttle",
         "schedule": 3600.0,
         "options": {"expires": 3000},
     },

@@ -1,7 +1,6 @@
 """Celery tasks: they take ids and hand the work to a service (imported inside the task).
 
-The periodic jobs at the end run from celery beat (CELERY_BEAT_SCHEDULE in settings.py);
-each is idempotent, so a late, repeated or overlapping run does no harm.
+The periodic jobs are in survey/jobs.py (they call services that publish these tasks).
 """
 
 from celery import shared_task
@@ -26,19 +25,3 @@ def process_thermogram(self, thermogram_id: int) -> str | None:
     if status is None and held.exists():
         raise self.retry(countdown=stalled_after().total_seconds() + 1)
     return status
-
-
-@shared_task(ignore_result=True)
-def requeue_thermograms() -> int:
-    """Periodic: send again the thermograms waiting for the broker or whose worker was lost."""
-    from survey.services.ingest import thermograms_requeue
-
-    return thermograms_requeue().sent
-
-
-@shared_task(ignore_result=True)
-def prune_signin_throttle() -> int:
-    """Periodic: forget sign-in counters that no longer hold anyone back."""
-    from survey.services.signin import throttle_prune
-
-    return throttle_prune()

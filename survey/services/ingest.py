@@ -27,10 +27,10 @@ from django.utils import timezone
 from PIL import Image, ImageFile, ImageOps
 
 from survey import thermal
-from survey.celery import task
 from survey.models import Asset, Survey, Thermogram
 from survey.services.audit import audit_record
 from survey.services.surveys import check_same_org
+from survey.tasks import process_thermogram
 from survey.thermal import units
 from survey.thermal.decode import declared_size, detect_format, size_comparison
 
@@ -363,12 +363,12 @@ def thermogram_enqueue(thermogram_id: int) -> None:
 def thermogram_publish(thermogram_id: int) -> bool:
     """Publish the task; when the broker is down the row is marked as waiting for it.
 
-    The re-queue job (survey.tasks.requeue_thermograms, every minute) or
+    The re-queue job (survey.jobs.requeue_thermograms, every minute) or
     `manage.py requeue_thermograms` sends it again once the broker answers.
     """
     rows = Thermogram.objects.filter(pk=thermogram_id)
     try:
-        task("survey.tasks.process_thermogram").apply_async(args=[thermogram_id], retry=False)
+        process_thermogram.apply_async(args=[thermogram_id], retry=False)
     except Exception as error:  # kombu/redis raise several connection error types
         logger.warning(
             "Could not queue thermogram %s (%s); it waits for the broker.", thermogram_id, error

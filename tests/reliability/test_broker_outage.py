@@ -14,13 +14,13 @@ from django.core.files.uploadedfile import SimpleUploadedFile
 from django.core.management import call_command
 from django.urls import reverse
 
+from reports.jobs import requeue_reports
 from reports.models import ReportVersion
 from reports.rendering import report_render
 from reports.services import report_create
-from reports.tasks import requeue_reports
+from survey.jobs import requeue_thermograms
 from survey.models import Thermogram
 from survey.services.marks import mark_add
-from survey.tasks import requeue_thermograms
 from tests.conftest import login
 from tests.factories import make_thermogram
 from tests.workers import broker_at

@@ -17,16 +17,16 @@ import numpy as np
 import pytest
 from django.core.files.uploadedfile import SimpleUploadedFile
 
+from reports.jobs import requeue_reports
 from reports.models import ReportVersion
 from reports.rendering import LOST_TOO_OFTEN as RENDER_LOST_TOO_OFTEN
 from reports.rendering import report_render
 from reports.services import report_create, report_request_draft
-from reports.tasks import requeue_reports
+from survey.jobs import requeue_thermograms
 from survey.models import Thermogram
 from survey.services.ingest import thermogram_ingest
 from survey.services.marks import mark_add
 from survey.services.processing import LOST_TOO_OFTEN, thermogram_process, thermogram_status_text
-from survey.tasks import requeue_thermograms
 from tests.factories import make_thermogram, synthetic_field
 from tests.workers import broker_at, start_worker, stop_worker
 
@@ -116,9 +116,13 @@ def test_it_requeues_a_decode_whose_worker_was_killed(
         if second is not None:
             stop_worker(second)
     thermogram.refresh_from_db()
-    assert thermogram.status == "ready", log_path.read_text(errors="replace")[-3000:]
+    log_text = log_path.read_text(errors="replace")
+    assert thermogram.status == "ready", log_text[-3000:]
     assert (thermogram.height, thermogram.width) == (HEIGHT, WIDTH)
     assert thermogram.attempts == 2
+    # The workers know the periodic jobs celery beat sends them (CELERY_IMPORTS).
+    for job in ("survey.jobs.requeue_thermograms", "reports.jobs.requeue_reports"):
+        assert job in log_text
 
 
 @pytest.mark.services

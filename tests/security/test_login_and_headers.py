@@ -15,10 +15,10 @@ from django.test.utils import CaptureQueriesContext
 from django.urls import reverse
 from django.utils import timezone
 
+from survey.jobs import prune_signin_throttle
 from survey.models import AuditEvent, SignInThrottle
 from survey.net import client_address
 from survey.services import signin
-from survey.tasks import prune_signin_throttle
 from tests.conftest import PASSWORD
 
 ROOT = Path(__file__).resolve().parents[2]

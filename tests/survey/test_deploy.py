@@ -1,5 +1,6 @@
 """Deployment files: docker-compose.yml, .env.example and Django's deployment checks."""
 
+import json
 import os
 import re
 import secrets
@@ -96,3 +97,24 @@ def test_it_passes_the_deployment_checks():
     )
     assert result.returncode == 0, result.stdout + result.stderr
     assert "ERROR" not in result.stdout + result.stderr
+
+
+def test_it_registers_every_periodic_job_it_schedules(settings):
+    """Each task of CELERY_BEAT_SCHEDULE is one a worker loads (its tasks.py modules and
+    CELERY_IMPORTS), checked in a fresh interpreter that starts like a worker."""
+    script = (
+        "import django, json; django.setup()\n"
+        "from survey.celery import app\n"
+        "app.loader.import_default_modules()\n"
+        "print(json.dumps(sorted(app.tasks)))\n"
+    )
+    environment = {k: v for k, v in os.environ.items() if k not in {"DATABASE_URL", "REDIS_URL"}}
+    environment["DJANGO_SETTINGS_MODULE"] = "survey.settings"
+    result = subprocess.run(
+        [sys.executable, "-c", script], cwd=ROOT, env=environment, capture_output=True, text=True
+    )
+    assert result.returncode == 0, result.stderr
+    registered = set(json.loads(result.stdout.strip().splitlines()[-1]))
+    scheduled = {entry["task"] for entry in settings.CELERY_BEAT_SCHEDULE.values()}
+    assert {"survey.jobs.requeue_thermograms", "reports.jobs.requeue_reports"} <= scheduled
+    assert scheduled <= registered
