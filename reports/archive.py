@@ -10,17 +10,21 @@ Every file in the archive is checked against the sha256 in the manifest before a
 written; an import is one transaction and leaves no file behind when it fails.
 """
 
+import contextlib
 import hashlib
 import io
 import json
+import struct
 import zipfile
+import zlib
 from pathlib import PurePosixPath
 from typing import Any
 
+import numpy as np
 from django.conf import settings
 from django.contrib.auth.models import AbstractBaseUser
 from django.core.exceptions import ValidationError
-from django.core.files.base import ContentFile
+from django.core.files.base import File
 from django.core.files.storage import default_storage
 from django.core.serializers.json import DjangoJSONEncoder
 from django.db import models, transaction
@@ -28,6 +32,7 @@ from django.utils import timezone
 
 from reports.models import Report, ReportVersion
 from reports.results import survey_results
+from survey.inputs import holds_nul
 from survey.models import (
     Asset,
     Client,
@@ -45,6 +50,9 @@ from survey.models import (
     Thermogram,
 )
 from survey.services.audit import audit_record
+from survey.services.marks import mark_points_check
+from survey.thermal.decode import ThermogramFormatError, check_image_size, size_comparison
+from survey.thermal.marks import MAX_PROFILE_SAMPLES, profile_extremes
 
 FORMAT = "heatmark-survey-archive"
 FORMAT_VERSION = 1
@@ -259,42 +267,102 @@ def _user_name(user) -> str | None:
 # --- import ---------------------------------------------------------------------------------
 
 
-def _open_archive(data: bytes) -> tuple[dict, dict[str, bytes]]:
-    """The manifest and every file it lists, each checked against its sha256."""
+CHUNK_BYTES = 1024 * 1024
+# What a damaged zip raises while it is read: none of it is the user's to see.
+ZIP_ERRORS = (
+    zipfile.BadZipFile,
+    zlib.error,
+    EOFError,
+    NotImplementedError,  # an unknown compression method
+    RuntimeError,  # an encrypted entry
+    OSError,
+    ValueError,
+    struct.error,
+)
+
+
+@contextlib.contextmanager
+def _opened(source):
+    """The zip of `source` (bytes, a path or a binary file), open for the block."""
     try:
-        archive = zipfile.ZipFile(io.BytesIO(data))
-    except zipfile.BadZipFile:
+        archive = zipfile.ZipFile(
+            io.BytesIO(source) if isinstance(source, bytes | bytearray) else source
+        )
+    except ZIP_ERRORS:
         raise ValidationError("This is not a survey archive (not a zip file).") from None
     with archive:
-        members = {info.filename: info for info in archive.infolist()}
-        info = members.get(MANIFEST)
+        yield archive
+
+
+def _read_manifest(archive: zipfile.ZipFile) -> dict:
+    members = {info.filename: info for info in archive.infolist()}
+    info = members.get(MANIFEST)
+    if info is None:
+        raise ValidationError("The archive has no manifest.json.")
+    if info.file_size > MAX_MANIFEST_BYTES:
+        raise ValidationError("The archive's manifest is implausibly large.")
+    try:
+        with archive.open(info) as handle:
+            raw = handle.read(MAX_MANIFEST_BYTES + 1)
+    except ZIP_ERRORS:
+        raise ValidationError("The archive is damaged: its manifest.json cannot be read.") from None
+    try:
+        manifest = json.loads(raw)
+    except (ValueError, UnicodeDecodeError):
+        raise ValidationError("The archive's manifest.json is not valid JSON.") from None
+    if not isinstance(manifest, dict) or manifest.get("format") != FORMAT:
+        raise ValidationError("The archive's manifest is not a survey archive manifest.")
+    if manifest.get("format_version") != FORMAT_VERSION:
+        raise ValidationError(
+            f"Archive format version {manifest.get('format_version')!r} is not supported "
+            f"(this installation reads version {FORMAT_VERSION})."
+        )
+    if holds_nul(manifest):
+        raise ValidationError("The archive's manifest holds NUL characters; it is not ours.")
+    return manifest
+
+
+def _check_files(archive: zipfile.ZipFile, manifest: dict) -> dict[str, str]:
+    """Every file the manifest lists, checked against its sha256 a chunk at a time (never
+    held whole in memory), within the per-file and the total limit; name -> sha256."""
+    listed = manifest.get("files") or {}
+    if not isinstance(listed, dict) or not all(
+        isinstance(name, str) and isinstance(digest, str) for name, digest in listed.items()
+    ):
+        raise ValidationError("The archive's manifest lists its files wrongly.")
+    members = {info.filename: info for info in archive.infolist()}
+    total = 0
+    for name in listed:
+        info = members.get(name)
         if info is None:
-            raise ValidationError("The archive has no manifest.json.")
-        if info.file_size > MAX_MANIFEST_BYTES:
-            raise ValidationError("The archive's manifest is implausibly large.")
-        try:
-            manifest = json.loads(archive.read(MANIFEST))
-        except (ValueError, UnicodeDecodeError):
-            raise ValidationError("The archive's manifest.json is not valid JSON.") from None
-        if not isinstance(manifest, dict) or manifest.get("format") != FORMAT:
-            raise ValidationError("The archive's manifest is not a survey archive manifest.")
-        if manifest.get("format_version") != FORMAT_VERSION:
-            raise ValidationError(
-                f"Archive format version {manifest.get('format_version')!r} is not supported "
-                f"(this installation reads version {FORMAT_VERSION})."
-            )
-        files = {}
-        for name, digest in (manifest.get("files") or {}).items():
-            info = members.get(name)
-            if info is None:
-                raise ValidationError(f"The archive lacks {name}, which its manifest lists.")
-            if info.file_size > settings.THERMOGRAM_MAX_UPLOAD_BYTES:
-                raise ValidationError(f"{name} is larger than the upload limit.")
-            content = archive.read(name)
-            if _sha256(content) != digest:
-                raise ValidationError(f"{name} is damaged: it does not match its sha256.")
-            files[name] = content
-    return manifest, files
+            raise ValidationError(f"The archive lacks {name}, which its manifest lists.")
+        if info.file_size > settings.THERMOGRAM_MAX_UPLOAD_BYTES:
+            size, most = size_comparison(info.file_size, settings.THERMOGRAM_MAX_UPLOAD_BYTES)
+            raise ValidationError(f"{name} is {size}; a file may be at most {most}.")
+        total += info.file_size
+    if total > settings.ARCHIVE_MAX_BYTES:
+        size, most = size_comparison(total, settings.ARCHIVE_MAX_BYTES)
+        raise ValidationError(
+            f"The archive's files total {size}; an archive may hold at most {most}."
+        )
+    for name, digest in listed.items():
+        if _streamed_sha256(archive, members[name]) != digest:
+            raise ValidationError(f"{name} is damaged: it does not match its sha256.")
+    return dict(listed)
+
+
+def _streamed_sha256(archive: zipfile.ZipFile, info: zipfile.ZipInfo) -> str:
+    digest, read = hashlib.sha256(), 0
+    try:
+        with archive.open(info) as handle:
+            while chunk := handle.read(CHUNK_BYTES):
+                read += len(chunk)
+                if read > info.file_size:  # more than the entry declares: a lying header
+                    raise zipfile.BadZipFile
+                digest.update(chunk)
+    except ZIP_ERRORS:
+        raise ValidationError(f"The archive is damaged: {info.filename} cannot be read.") from None
+    return digest.hexdigest()
 
 
 def _find_or_create(model, lookup: dict, values: dict) -> models.Model:
@@ -324,24 +392,34 @@ def _criteria_table(organization: Organization, ref: dict | None) -> CriteriaTab
 
 
 class _Importer:
-    def __init__(self, organization, user, manifest, files):
+    def __init__(self, organization, user, manifest, archive, digests):
         self.organization = organization
         self.user = user
         self.manifest = manifest
-        self.files = files
+        self.archive = archive
+        self.digests = digests
         self.saved_paths: list[str] = []
         self.assets: dict[Any, Asset] = {}
         self.thermograms: dict[Any, Thermogram] = {}
         self.marks: dict[tuple[Any, str], Mark] = {}
         self.findings: dict[Any, Finding] = {}
 
-    def file(self, name: str | None) -> bytes:
-        if name not in self.files:
+    def digest(self, name: str | None) -> str:
+        """The checked sha256 of a file the manifest refers to."""
+        if name not in self.digests:
             raise ValidationError(f"The manifest refers to {name!r}, which the archive lacks.")
-        return self.files[name]
+        return self.digests[name]
 
-    def store(self, field, name: str, data: bytes) -> None:
-        field.save(PurePosixPath(name).name, ContentFile(data), save=False)
+    def store(self, field, stored_name: str, archive_name: str) -> None:
+        """Copy an archive entry into storage as it is read (never whole in memory)."""
+        self.digest(archive_name)
+        try:
+            with self.archive.open(archive_name) as handle:
+                field.save(PurePosixPath(stored_name).name, File(handle), save=False)
+        except ZIP_ERRORS:
+            raise ValidationError(
+                f"The archive is damaged: {archive_name} cannot be read."
+            ) from None
         self.saved_paths.append(field.name)
 
     def run(self) -> Survey:
@@ -418,11 +496,11 @@ class _Importer:
         key = entry.pop("key")
         asset = self.assets.get(entry.pop("asset"))
         marks = entry.pop("marks", [])
-        entry.pop("derived", None)
-        original = self.file(entry.pop("original_file"))
+        width, height = _declared_size(entry.pop("derived", None), entry.get("original_name"))
+        original_file = entry.pop("original_file")
         photo_name = entry.pop("photo_file", None)
         values = _restore(Thermogram, entry)
-        if _sha256(original) != values.get("original_sha256"):
+        if self.digest(original_file) != values.get("original_sha256"):
             raise ValidationError(f"The original of {values.get('original_name')} is damaged.")
         thermogram = Thermogram(
             organization=self.organization,
@@ -432,9 +510,9 @@ class _Importer:
             created_by=self.user,
             **values,
         )
-        self.store(thermogram.original, values["original_name"], original)
+        self.store(thermogram.original, values["original_name"], original_file)
         if photo_name:
-            self.store(thermogram.photo, photo_name, self.file(photo_name))
+            self.store(thermogram.photo, photo_name, photo_name)
         thermogram.full_clean()
         thermogram.save()
         self.thermograms[key] = thermogram
@@ -443,6 +521,15 @@ class _Importer:
             mark_entry = dict(mark_entry)
             reference = mark_entry.pop("reference", None)
             mark = Mark(thermogram=thermogram, **_restore(Mark, mark_entry))
+            try:
+                mark.points = mark_points_check(
+                    kind=mark.kind, points=mark.points, width=width, height=height
+                )
+            except ValidationError as error:
+                raise ValidationError(
+                    f"Mark {mark.label} of {thermogram.original_name}: {' '.join(error.messages)}"
+                ) from None
+            mark.stats = _bounded_stats(mark.stats)
             mark.full_clean(exclude=["reference_mark"])
             mark.save()
             self.marks[(key, mark.label)] = mark
@@ -500,7 +587,7 @@ class _Importer:
         known = {f.name for f in ReportVersion._meta.concrete_fields}
         for version_entry in entry.get("versions", []):
             version_entry = dict(version_entry)
-            pdf = self.file(version_entry.pop("pdf_file"))
+            pdf_file = version_entry.pop("pdf_file")
             version_entry.pop("issued_by", None)
             unknown = sorted(set(version_entry) - known)
             if unknown:
@@ -509,52 +596,96 @@ class _Importer:
                 name: ReportVersion._meta.get_field(name).to_python(value)
                 for name, value in version_entry.items()
             }
-            if _sha256(pdf) != values.get("sha256"):
+            if values.get("is_draft") is not False:
+                raise ValidationError(
+                    f"Report {number} version {values.get('version')} claims to be a draft; "
+                    "an archive carries issued versions only."
+                )
+            if self.digest(pdf_file) != values.get("sha256"):
                 raise ValidationError(f"The issued PDF of {number} is damaged.")
             version = ReportVersion(
                 report=report, status=ReportVersion.Status.ISSUED, requested_by=self.user, **values
             )
-            self.store(version.pdf, f"{number}-v{values.get('version')}.pdf", pdf)
+            self.store(version.pdf, f"{number}-v{values.get('version')}.pdf", pdf_file)
             version.full_clean()
             version.save()
 
 
-def survey_import(
-    *, data: bytes, organization: Organization, user: AbstractBaseUser | None
-) -> Survey:
+def survey_import(*, data, organization: Organization, user: AbstractBaseUser | None) -> Survey:
     """Create the archive's survey in `organization`; its thermograms are queued for processing.
 
-    Clients, sites and assets are matched by name (and tag) or created. Members are matched by
-    username; a thermographer or reviewer unknown here is left empty. Raises ValidationError
-    with the reason, writing nothing, when the archive is damaged or does not fit.
+    `data` is the archive: bytes, a path or a binary file. Clients, sites and assets are
+    matched by name (and tag) or created. Members are matched by username; a thermographer
+    or reviewer unknown here is left empty. Raises ValidationError with the reason, writing
+    nothing, when the archive is damaged, too large or does not fit. Files are checked and
+    copied a chunk at a time, never held whole in memory.
     """
     from survey.services.ingest import thermogram_enqueue
 
-    manifest, files = _open_archive(data)
-    importer = _Importer(organization, user, manifest, files)
-    try:
-        with transaction.atomic():
-            survey = importer.run()
-            audit_record(
-                organization=organization,
-                actor=user,
-                action="import",
-                obj=survey,
-                detail={
-                    "from": str(manifest.get("exported_from", ""))[:200],
-                    "exported_at": str(manifest.get("exported_at", "")),
-                    "files": len(files),
-                },
-            )
-            for thermogram in importer.thermograms.values():
-                thermogram_enqueue(thermogram.pk)
-    except (KeyError, TypeError, AttributeError) as error:
-        _delete(importer.saved_paths)
-        raise ValidationError(f"The archive's manifest is incomplete or malformed ({error}).")
-    except BaseException:
-        _delete(importer.saved_paths)
-        raise
+    with _opened(data) as archive:
+        manifest = _read_manifest(archive)
+        digests = _check_files(archive, manifest)
+        importer = _Importer(organization, user, manifest, archive, digests)
+        try:
+            with transaction.atomic():
+                survey = importer.run()
+                audit_record(
+                    organization=organization,
+                    actor=user,
+                    action="import",
+                    obj=survey,
+                    detail={
+                        "from": str(manifest.get("exported_from", ""))[:200],
+                        "exported_at": str(manifest.get("exported_at", "")),
+                        "files": len(digests),
+                    },
+                )
+                for thermogram in importer.thermograms.values():
+                    thermogram_enqueue(thermogram.pk)
+        except (KeyError, TypeError, AttributeError, IndexError):
+            _delete(importer.saved_paths)
+            raise ValidationError(
+                "The archive's manifest is incomplete or malformed: it was not written by "
+                "this application, or was changed since."
+            ) from None
+        except BaseException:
+            _delete(importer.saved_paths)
+            raise
     return survey
+
+
+def _declared_size(derived, name) -> tuple[int, int]:
+    """The width and height the archive gives a thermogram, within the upload limits."""
+    derived = derived if isinstance(derived, dict) else {}
+    width, height = derived.get("width"), derived.get("height")
+    if not all(isinstance(v, int) and not isinstance(v, bool) and v > 0 for v in (width, height)):
+        raise ValidationError(f"The archive gives {name} no image size.")
+    try:
+        check_image_size(str(name), width, height, settings.THERMOGRAM_MAX_PIXELS)
+    except ThermogramFormatError as error:
+        raise ValidationError(str(error)) from None
+    return width, height
+
+
+def _bounded_stats(stats) -> dict:
+    """A mark's cached statistics from an archive, its line profile capped as ours are."""
+    if not isinstance(stats, dict):
+        return {}
+    profile = stats.get("profile")
+    if isinstance(profile, list) and len(profile) > MAX_PROFILE_SAMPLES:
+        try:
+            distances = np.array([float(point[0]) for point in profile])
+            values = np.array([np.nan if p[1] is None else float(p[1]) for p in profile])
+        except (TypeError, ValueError, IndexError):
+            raise ValidationError("A mark's profile in the archive is malformed.") from None
+        distances, values = profile_extremes(distances, values)
+        stats = stats | {
+            "profile": [
+                [float(d), None if np.isnan(v) else float(v)]
+                for d, v in zip(distances, values, strict=True)
+            ]
+        }
+    return stats
 
 
 def _delete(paths: list[str]) -> None:

@@ -265,7 +265,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
     ranked = sorted(findings, key=_urgency)
     # Only the summary's top findings show a thumbnail: only their thermograms need one.
     thumbnailed = {f.thermogram_id for f in ranked[:TOP_FINDINGS]}
-    sections, thumbs = [], {}
+    sections, thumbs, problems = [], {}, []
     shown = [t for t in thermograms if t.pk in readings or t.pk in by_thermogram]
     with ThreadPoolExecutor(max_workers=DRAWING_THREADS) as pool:
         drawn = pool.map(
@@ -279,6 +279,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
             drawing = next(drawn)
             if drawing["thumb"]:
                 thumbs[thermogram.pk] = drawing["thumb"]
+            problems += drawing["problems"]
             sections.append(
                 {
                     "thermogram": thermogram,
@@ -343,6 +344,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         "references": [ref for key in reference_keys for ref in REPORT_SOURCES[key]],
         "thermogram_count": len(thermograms),
         "_results": results,
+        "_problems": problems,
     }
 
 
@@ -374,6 +376,8 @@ class RenderedReport:
     pdf: bytes
     page_count: int
     content_sha256: str
+    # What had to be left out (a thermogram or photo that could not be drawn) and why.
+    notes: str = ""
 
 
 _collections_lock = threading.Lock()
@@ -427,7 +431,10 @@ def render_pdf(
         progress("Writing the PDF", 90)
         pdf = document.write_pdf()
         rendered = RenderedReport(
-            pdf=pdf, page_count=len(document.pages), content_sha256=context["content_sha256"]
+            pdf=pdf,
+            page_count=len(document.pages),
+            content_sha256=context["content_sha256"],
+            notes="\n".join(context["_problems"]),
         )
         # Free the render's own garbage now (some 200,000 objects in reference cycles for
         # 50 thermograms): with the raised thresholds nothing else would before the next

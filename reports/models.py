@@ -65,6 +65,12 @@ class ReportVersion(models.Model):
     finished_at = models.DateTimeField(null=True, blank=True)
     # Set when a worker claims the render and while it works; a stale one can be reclaimed.
     heartbeat_at = models.DateTimeField(null=True, blank=True)
+    # The render could not be handed to the broker; the re-queue job sends it when it is back.
+    waiting_for_broker = models.BooleanField(default=False)
+    # How many times a worker has taken the render; one lost too often is failed, not retried.
+    attempts = models.PositiveSmallIntegerField(default=0)
+    # What the render had to leave out (a thermogram or photo it could not draw) and why.
+    notes = models.TextField(blank=True)
 
     class Meta:
         ordering = ["report", "-version", "-id"]

@@ -10,21 +10,29 @@ JPEG and 5.8 s with PNG (2.7x), the file 2.8 MB against 5.8 MB.
 
 import functools
 import io
+import logging
+import warnings
 from dataclasses import dataclass, field
 
+from django.conf import settings
 from django.utils.safestring import mark_safe
 from PIL import Image, ImageDraw, ImageOps
 
 from reports.fetcher import BASE_URL
 from survey.charts import trend_svg
 from survey.models import SpanRule, Thermogram
-from survey.services.arrays import thermogram_temperatures
+from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.assets import asset_history, trend_in_unit, trend_points
 from survey.thermal import auto_span, units, widen_span
 from survey.thermal.drawing import font, render_picture
 
+logger = logging.getLogger(__name__)
+
 PRINT_DPI = 170
 THERMOGRAM_WIDTH_MM = 100
+# A thermogram taller than this at its printed width (a narrow strip) is drawn narrower,
+# in white space: no picture is taller than a page's share, whatever the file's shape.
+THERMOGRAM_MAX_HEIGHT_MM = 130
 PHOTO_WIDTH_MM = 72
 THUMBNAIL_WIDTH_MM = 34
 JPEG_QUALITY = 90
@@ -73,6 +81,7 @@ def thermogram_picture(thermogram: Thermogram, width_px: int, unit: str = "C") -
         marks=list(thermogram.marks.all()),
         unit=unit,
         width_px=width_px,
+        max_height_px=mm_to_px(THERMOGRAM_MAX_HEIGHT_MM),
     )
 
 
@@ -91,24 +100,46 @@ def thermal_span(thermogram: Thermogram, temperatures, marks) -> tuple[float, fl
     return float(low), float(high)
 
 
+class PictureError(Exception):
+    """A thermogram or photo that cannot be drawn; the message says why, for the app's page."""
+
+
 def draw_thermogram(
     thermogram: Thermogram, pictures: Pictures, *, thumbnail: bool, unit: str = "C"
 ) -> dict:
     """One thermogram's picture, photo and summary thumbnail, encoded, as report URLs.
 
-    Runs in a worker thread: numpy's colouring and Pillow's resampling and JPEG encoder
-    release the GIL, so two thermograms are drawn at once. Touches no database (the marks
-    are prefetched) and only adds to `pictures.files`.
+    What cannot be drawn is left out and said in `problems` (for the version's notes):
+    one damaged file must not stop the report. Runs in a worker thread: numpy's colouring
+    and Pillow's resampling and JPEG encoder release the GIL, so two thermograms are drawn
+    at once. Touches no database (the marks are prefetched) and only adds to
+    `pictures.files`.
     """
-    picture = thermogram_picture(thermogram, mm_to_px(THERMOGRAM_WIDTH_MM), unit)
-    photo = photo_picture(thermogram, mm_to_px(PHOTO_WIDTH_MM))
-    key = thermogram.pk
-    thumb = thumbnail_of(picture, mm_to_px(THUMBNAIL_WIDTH_MM)) if thumbnail else None
-    return {
-        "picture": pictures.add(f"thermogram-{key}", picture),
-        "photo": pictures.add(f"photo-{key}", photo) if photo else None,
-        "thumb": pictures.add(f"thumb-{key}", thumb) if thumb else None,
-    }
+    key, problems = thermogram.pk, []
+    drawn = {"picture": None, "photo": None, "thumb": None, "problems": problems}
+    name = f"{thermogram.sequence}. {thermogram}"
+    try:
+        picture = thermogram_picture(thermogram, mm_to_px(THERMOGRAM_WIDTH_MM), unit)
+    except ThermogramNotReady as error:
+        problems.append(f"{name}: left out ({error})")
+        picture = None
+    except Exception:  # noqa: BLE001 - logged; the report goes on without this picture
+        logger.exception("Thermogram %s could not be drawn", key)
+        problems.append(f"{name}: left out (it could not be drawn; logged for the administrator).")
+        picture = None
+    if picture is not None:
+        drawn["picture"] = pictures.add(f"thermogram-{key}", picture)
+        if thumbnail:
+            thumb = thumbnail_of(picture, mm_to_px(THUMBNAIL_WIDTH_MM))
+            drawn["thumb"] = pictures.add(f"thumb-{key}", thumb)
+    try:
+        photo = photo_picture(thermogram, mm_to_px(PHOTO_WIDTH_MM))
+    except PictureError as error:
+        problems.append(f"{name}: photo left out ({error})")
+        photo = None
+    if photo is not None:
+        drawn["photo"] = pictures.add(f"photo-{key}", photo)
+    return drawn
 
 
 @functools.cache
@@ -133,15 +164,25 @@ def draft_watermark() -> Image.Image:
 
 
 def photo_picture(thermogram: Thermogram, width_px: int) -> Image.Image | None:
+    """The paired photo at print size, or None without one; PictureError when it cannot be
+    read or declares more pixels than an upload may have (it is never decoded then)."""
     if not thermogram.photo:
         return None
     try:
-        with thermogram.photo.open("rb") as handle:
-            image = ImageOps.exif_transpose(Image.open(handle))
+        with thermogram.photo.open("rb") as handle, warnings.catch_warnings():
+            warnings.simplefilter("error", Image.DecompressionBombWarning)
+            image = Image.open(handle)
+            if image.width * image.height > settings.THERMOGRAM_MAX_PIXELS:
+                raise PictureError(
+                    f"it declares {image.width} × {image.height} pixels, more than a photo "
+                    "may have; upload it again."
+                )
             image.draft("RGB", (width_px, width_px))
-            image = image.convert("RGB")
-    except (OSError, ValueError):
-        return None
+            image = ImageOps.exif_transpose(image).convert("RGB")
+    except PictureError:
+        raise
+    except Exception:  # noqa: BLE001 - any damaged file: Pillow raises many kinds
+        raise PictureError("it could not be read; upload it again.") from None
     image.thumbnail((width_px, width_px * 2), Image.Resampling.LANCZOS)
     return image
 

@@ -12,11 +12,12 @@ import secrets
 
 from django.conf import settings
 from django.core.files.base import ContentFile
-from django.db.models import Q
+from django.db.models import F, Q
 from django.utils import timezone
 
 from reports.document import render_pdf
 from reports.models import ReportVersion
+from survey.services import heartbeat
 
 logger = logging.getLogger(__name__)
 
@@ -47,11 +48,43 @@ def report_render_is_held(version_id: int) -> bool:
     ).exists()
 
 
-def report_render(version_id: int) -> bool:
+def stalled_renders():
+    """Renders whose worker has been silent for the stall time: it was lost."""
+    stale = timezone.now() - render_stalled_after()
+    return ReportVersion.objects.filter(
+        Q(heartbeat_at__lt=stale) | Q(heartbeat_at__isnull=True),
+        status=ReportVersion.Status.RENDERING,
+        sha256="",
+    )
+
+
+def version_is_stalled(version: ReportVersion) -> bool:
+    return (
+        version.status == ReportVersion.Status.RENDERING
+        and not version.sha256
+        and (
+            version.heartbeat_at is None
+            or version.heartbeat_at < timezone.now() - render_stalled_after()
+        )
+    )
+
+
+LOST_TOO_OFTEN = (
+    "The render was interrupted several times (its worker stopped, for example when it ran "
+    "out of memory). Try again, or tell your administrator."
+)
+FAILED_MESSAGE = (
+    "The PDF could not be made because of an unexpected error; it has been logged for your "
+    "administrator. Try again later."
+)
+
+
+def report_render(version_id: int, *, keep_alive: bool = False) -> bool:
     """Render a queued version; returns False when there was nothing to do.
 
     Claimed with a conditional update, so a repeated or duplicated task is harmless. An
-    issued version never matches the claim again, so its file is never rewritten.
+    issued version never matches the claim again, so its file is never rewritten. With
+    `keep_alive` (a real worker) a thread refreshes the heartbeat while it renders.
     """
     stale = timezone.now() - render_stalled_after()
     claimed = ReportVersion.objects.filter(
@@ -64,6 +97,8 @@ def report_render(version_id: int) -> bool:
         stage="Starting",
         progress_pct=1,
         heartbeat_at=timezone.now(),
+        attempts=F("attempts") + 1,
+        waiting_for_broker=False,
     )
     if not claimed:
         return False
@@ -73,18 +108,28 @@ def report_render(version_id: int) -> bool:
         version_id,
         extra={"organization_id": version.report.organization_id, "version_id": version_id},
     )
-    try:
-        rendered = render_pdf(version, progress=_progress(version_id))
-    except Exception as exc:  # noqa: BLE001 - any failure is recorded for the user to see
-        logger.exception("Report version %s failed to render", version_id)
-        ReportVersion.objects.filter(pk=version_id).update(
-            status=ReportVersion.Status.FAILED,
-            stage="Failed",
-            error=f"The PDF could not be made: {exc}"[:2000],
-            finished_at=timezone.now(),
-        )
+    if version.attempts > settings.TASK_MAX_ATTEMPTS:
+        _fail(version_id, LOST_TOO_OFTEN)
         return False
-    return _store_pdf(version, rendered)
+    with heartbeat.keep_alive(
+        ReportVersion, version_id, ReportVersion.Status.RENDERING, enabled=keep_alive
+    ):
+        try:
+            rendered = render_pdf(version, progress=_progress(version_id))
+        except Exception:  # noqa: BLE001 - any failure is recorded for the user to see
+            logger.exception("Report version %s failed to render", version_id)
+            _fail(version_id, FAILED_MESSAGE)
+            return False
+        return _store_pdf(version, rendered)
+
+
+def _fail(version_id: int, message: str) -> None:
+    ReportVersion.objects.filter(pk=version_id, status=ReportVersion.Status.RENDERING).update(
+        status=ReportVersion.Status.FAILED,
+        stage="Failed",
+        error=message,
+        finished_at=timezone.now(),
+    )
 
 
 def _store_pdf(version: ReportVersion, rendered) -> bool:
@@ -103,6 +148,7 @@ def _store_pdf(version: ReportVersion, rendered) -> bool:
         sha256=hashlib.sha256(rendered.pdf).hexdigest(),
         content_sha256=rendered.content_sha256,
         page_count=rendered.page_count,
+        notes=rendered.notes,
         status=ReportVersion.Status.ISSUED if final else ReportVersion.Status.READY,
         stage="Done",
         progress_pct=100,

@@ -7,7 +7,9 @@ rendered or written again. A correction is a new version with its own number and
 import csv
 import datetime
 import io
+import logging
 import secrets
+from dataclasses import dataclass
 
 from django.contrib.auth.models import AbstractBaseUser
 from django.core.exceptions import PermissionDenied, ValidationError
@@ -20,7 +22,15 @@ from survey.models import Member, Survey
 from survey.services.audit import audit_record
 from survey.severity import category_label
 
+logger = logging.getLogger(__name__)
+
 SHARE_DAYS_MIN, SHARE_DAYS_MAX = 1, 365
+
+
+@dataclass
+class RequeueResult:
+    sent: int = 0
+    failed: int = 0
 
 
 def _member_of(user: AbstractBaseUser, organization) -> Member:
@@ -87,10 +97,83 @@ def next_final_version(report: Report) -> int:
     return (highest or 0) + 1
 
 
+WAITING_FOR_BROKER_STAGE = "Waiting for the render queue, which cannot be reached just now"
+REQUEUED_STAGE = "Stalled, re-queued"
+UNFINISHED = [ReportVersion.Status.QUEUED, ReportVersion.Status.RENDERING]
+
+
 def _enqueue_render(version: ReportVersion) -> None:
+    transaction.on_commit(lambda: report_publish(version.pk))
+
+
+def report_publish(version_id: int) -> bool:
+    """Hand the render to the broker; when it is down, mark the version as waiting for it.
+
+    The re-queue job (reports.jobs.requeue_reports, every minute), the next draft, issue or
+    retry request, or `manage.py requeue_reports` sends it once the broker answers.
+    """
     from reports.tasks import render_report
 
-    transaction.on_commit(lambda: render_report.delay(version.pk))
+    rows = ReportVersion.objects.filter(pk=version_id)
+    try:
+        render_report.apply_async(args=[version_id], retry=False)
+    except Exception as error:  # kombu/redis raise several connection error types
+        logger.warning("Could not queue report version %s (%s)", version_id, error)
+        rows.filter(status=ReportVersion.Status.QUEUED).update(
+            waiting_for_broker=True, stage=WAITING_FOR_BROKER_STAGE
+        )
+        return False
+    rows.filter(waiting_for_broker=True).update(waiting_for_broker=False, stage="")
+    return True
+
+
+def version_needs_sending(version: ReportVersion) -> bool:
+    """Unfinished, and either never handed to a worker or lost by its worker."""
+    from reports.rendering import version_is_stalled
+
+    return version.status in UNFINISHED and (
+        version.waiting_for_broker or version_is_stalled(version)
+    )
+
+
+def report_requeue_version(version: ReportVersion) -> bool:
+    """Send one waiting or stalled version again; True when the broker took it.
+
+    A stalled render goes back to `queued` first, so that the task's claim takes it.
+    """
+    from reports.rendering import stalled_renders
+
+    stalled_renders().filter(pk=version.pk).update(
+        status=ReportVersion.Status.QUEUED, stage=REQUEUED_STAGE, progress_pct=0
+    )
+    sent = report_publish(version.pk)
+    version.refresh_from_db()
+    return sent
+
+
+def reports_requeue(*, report_id: int | None = None, every_queued: bool = False) -> RequeueResult:
+    """Send again the renders waiting for the broker and those whose worker was lost.
+
+    `every_queued` also re-sends queued renders the broker had accepted (after Redis lost
+    its data); a duplicate task is harmless, the claim lets one through. Idempotent.
+    """
+    from reports.rendering import stalled_renders
+
+    waiting = ReportVersion.objects.filter(status=ReportVersion.Status.QUEUED)
+    if not every_queued:
+        waiting = waiting.filter(waiting_for_broker=True)
+    ids = set(waiting.values_list("pk", flat=True)) | set(
+        stalled_renders().values_list("pk", flat=True)
+    )
+    if report_id is not None:
+        ids &= set(ReportVersion.objects.filter(report_id=report_id).values_list("pk", flat=True))
+    result = RequeueResult()
+    for version in ReportVersion.objects.filter(pk__in=ids).order_by("pk"):
+        if report_requeue_version(version):
+            result.sent += 1
+        else:
+            result.failed += 1
+    return result
 
 
 def _units_of(member: Member) -> dict[str, str]:
@@ -120,12 +203,13 @@ def self_review_check(report: Report, member: Member) -> bool:
 
 
 def report_request_draft(*, report: Report, user: AbstractBaseUser) -> ReportVersion:
-    """Queue a watermarked draft; a draft already waiting is returned instead of a second one."""
+    """Queue a watermarked draft; a draft already waiting is returned instead of a second one
+    (and sent again when the broker had been unreachable or its worker was lost)."""
     member = _require_editor(user, report.organization)
-    pending = report.versions.filter(
-        is_draft=True, status__in=[ReportVersion.Status.QUEUED, ReportVersion.Status.RENDERING]
-    ).first()
+    pending = report.versions.filter(is_draft=True, status__in=UNFINISHED).first()
     if pending is not None:
+        if version_needs_sending(pending):
+            report_requeue_version(pending)
         return pending
     with transaction.atomic():
         version = ReportVersion(
@@ -169,10 +253,12 @@ def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "
     with transaction.atomic():
         Report.objects.select_for_update().filter(pk=report.pk).first()
         finals = report.versions.filter(is_draft=False)
-        if finals.filter(
-            status__in=[ReportVersion.Status.QUEUED, ReportVersion.Status.RENDERING]
-        ).exists():
-            raise ValidationError("A version of this report is being issued already.")
+        unfinished = finals.filter(status__in=UNFINISHED).first()
+        if unfinished is not None:
+            if not version_needs_sending(unfinished):
+                raise ValidationError("A version of this report is being issued already.")
+            transaction.on_commit(lambda: report_requeue_version(unfinished))
+            return unfinished
         if finals.filter(status=ReportVersion.Status.ISSUED).exists() and not change_note:
             raise ValidationError("Say what this corrected version changes (the change note).")
         # A final render that failed left no file: issue again under the same number.
@@ -182,6 +268,7 @@ def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "
         version.is_draft = False
         version.status = ReportVersion.Status.QUEUED
         version.stage, version.progress_pct, version.error = "", 0, ""
+        version.attempts, version.waiting_for_broker = 0, False
         version.change_note = change_note
         version.requested_by = version.issued_by = user
         version.independently_reviewed = independent
@@ -205,13 +292,25 @@ def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "
 
 
 def report_retry(*, version: ReportVersion, user: AbstractBaseUser) -> ReportVersion:
-    """Queue a failed draft again (a failed final version is retried by issuing again)."""
+    """Queue a failed draft again, or send again a version waiting for the broker or lost by
+    its worker (a failed final version is retried by issuing again)."""
     _require_editor(user, version.report.organization)
+    if version_needs_sending(version):
+        report_requeue_version(version)
+        return version
     if not version.is_draft or version.status != ReportVersion.Status.FAILED:
-        raise ValidationError("Only a failed draft can be tried again.")
+        raise ValidationError(
+            "Only a failed draft, or a version waiting for the render queue, can be tried again."
+        )
     with transaction.atomic():
         ReportVersion.objects.filter(pk=version.pk, status=ReportVersion.Status.FAILED).update(
-            status=ReportVersion.Status.QUEUED, stage="", progress_pct=0, error=""
+            status=ReportVersion.Status.QUEUED,
+            stage="",
+            progress_pct=0,
+            error="",
+            notes="",
+            attempts=0,
+            waiting_for_broker=False,
         )
         _enqueue_render(version)
     return version
@@ -438,7 +537,7 @@ def shared_findings(link: ShareLink):
 
 def share_link_active(token: str) -> ShareLink | None:
     """The live link for `token`, or None when unknown, expired, revoked or not issued."""
-    if not token or len(token) > 64:
+    if not token or len(token) > 64 or "\x00" in token:
         return None
     return (
         ShareLink.objects.select_related("version__report__survey__site__client")

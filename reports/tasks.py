@@ -25,7 +25,7 @@ def render_report(self, version_id: int) -> bool:
     """
     from reports.rendering import render_stalled_after, report_render, report_render_is_held
 
-    rendered = report_render(version_id)
+    rendered = report_render(version_id, keep_alive=not self.request.is_eager)
     if not rendered and report_render_is_held(version_id):
         raise self.retry(countdown=render_stalled_after().total_seconds() + 1)
     return rendered

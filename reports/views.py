@@ -29,10 +29,13 @@ from reports.forms import (
     ShareLinkForm,
 )
 from reports.models import ReportVersion
+from reports.rendering import version_is_stalled
 from reports.results import content_digest, survey_results
 from survey.access import get_member, get_survey_for_user
 from survey.files import serve_file
 from survey.forms.fields import add_service_error
+from survey.middleware import NO_STORE
+from survey.net import client_address
 from survey.services.acknowledgements import finding_acknowledge
 
 
@@ -45,7 +48,8 @@ def _survey_page(survey_id: int) -> str:
 
 
 def _client_ip(request: HttpRequest) -> str | None:
-    return request.META.get("REMOTE_ADDR") or None
+    address = client_address(request)
+    return None if address == "unknown" else address
 
 
 @login_required
@@ -76,12 +80,27 @@ def report_create(request: HttpRequest, survey_id: int) -> HttpResponse:
     return redirect(_survey_page(survey.pk))
 
 
+WAITING_MESSAGE = (
+    "The render queue cannot be reached just now. The request is kept and the PDF will be "
+    "made when the queue is back; nothing needs to be done again."
+)
+
+
+def _queued(request: HttpRequest, version: ReportVersion, message: str) -> None:
+    """Say that the version is queued, or that it waits for the broker (decided on commit)."""
+    version.refresh_from_db(fields=["waiting_for_broker"])
+    if version.waiting_for_broker:
+        messages.warning(request, WAITING_MESSAGE)
+    else:
+        messages.success(request, message)
+
+
 @login_required
 @require_POST
 def draft_request(request: HttpRequest, report_id: int) -> HttpResponse:
     report = get_report_for_user(request, report_id)
-    services.report_request_draft(report=report, user=request.user)
-    messages.success(request, "Draft requested; this page shows its progress.")
+    version = services.report_request_draft(report=report, user=request.user)
+    _queued(request, version, "Draft requested; this page shows its progress.")
     return redirect(_survey_page(report.survey_id))
 
 
@@ -93,6 +112,8 @@ def version_retry(request: HttpRequest, version_id: int) -> HttpResponse:
         services.report_retry(version=version, user=request.user)
     except ValidationError as error:
         _fail(request, error)
+    else:
+        _queued(request, version, "Queued again; this page shows its progress.")
     return redirect(_survey_page(version.report.survey_id))
 
 
@@ -125,7 +146,7 @@ def report_issue(request: HttpRequest, report_id: int) -> HttpResponse:
         except ValidationError as error:
             _fail(request, error)
         else:
-            messages.success(request, f"Version {version.version} is being issued.")
+            _queued(request, version, f"Version {version.version} is being issued.")
         return redirect(_survey_page(report.survey_id))
     if data is not None and "confirm" not in data:
         form = IssueConfirmForm(initial={"change_note": note})
@@ -147,11 +168,15 @@ def report_issue(request: HttpRequest, report_id: int) -> HttpResponse:
 def version_progress(request: HttpRequest, version_id: int) -> JsonResponse:
     version = get_report_version_for_user(request, version_id)
     done = version.status in {ReportVersion.Status.READY, ReportVersion.Status.ISSUED}
+    stage = version.stage
+    if version_is_stalled(version):
+        stage = "Stalled: its worker was lost; it is being queued again"
     return JsonResponse(
         {
             "status": version.status,
             "status_label": version.get_status_display(),
-            "stage": version.stage,
+            "stage": stage,
+            "waiting_for_broker": version.waiting_for_broker,
             "progress_pct": version.progress_pct,
             "done": done,
             "failed": version.status == ReportVersion.Status.FAILED,
@@ -259,7 +284,9 @@ def share_link_email(request: HttpRequest, link_id: int) -> HttpResponse:
 
 
 def _not_found() -> HttpResponse:
-    return HttpResponse(render_to_string("reports/share_missing.html"), status=404)
+    response = HttpResponse(render_to_string("reports/share_missing.html"), status=404)
+    response["Cache-Control"] = NO_STORE
+    return response
 
 
 def _share_response(request: HttpRequest, link, forms_by_finding=None) -> HttpResponse:
@@ -278,6 +305,8 @@ def _share_response(request: HttpRequest, link, forms_by_finding=None) -> HttpRe
     # Django's CSRF check refuses: "same-origin" keeps both.
     response["Referrer-Policy"] = "same-origin"
     response["X-Robots-Tag"] = "noindex, nofollow"
+    # A revoked link must stop working at once, also for a browser or proxy cache.
+    response["Cache-Control"] = NO_STORE
     return response
 
 
@@ -322,7 +351,9 @@ def share_download(request: HttpRequest, token: str) -> HttpResponse:
         ip_address=_client_ip(request),
         user_agent=request.META.get("HTTP_USER_AGENT", ""),
     )
-    return _pdf_response(link.version)
+    response = _pdf_response(link.version)
+    response["Cache-Control"] = NO_STORE
+    return response
 
 
 @login_required

@@ -2,6 +2,11 @@ from django import forms
 from django.contrib import admin
 
 from survey import models
+from survey.forms.signin import ThrottledAdminAuthenticationForm
+
+# The admin signs in through the same throttle as everyone (survey.backends); this form
+# says how long to wait instead of "wrong password" while it refuses.
+admin.site.login_form = ThrottledAdminAuthenticationForm
 
 
 class CriteriaTableAdminForm(forms.ModelForm):

@@ -571,6 +571,10 @@ class Thermogram(models.Model):
     # Set when a worker claims the job and while it works; a stale one means a stalled job.
     heartbeat_at = models.DateTimeField(null=True, blank=True)
     deleted_at = models.DateTimeField(null=True, blank=True)
+    # The job could not be handed to the broker; the re-queue job sends it when it is back.
+    waiting_for_broker = models.BooleanField(default=False)
+    # How many times a worker has taken the job; one lost too often is failed, not retried.
+    attempts = models.PositiveSmallIntegerField(default=0)
 
     objects = LiveManager()
     all_objects = AllRowsManager()
@@ -578,6 +582,10 @@ class Thermogram(models.Model):
     class Meta:
         ordering = ["survey", "sequence", "id"]
         constraints = [
+            # The same bytes once per survey, also when two uploads race each other.
+            models.UniqueConstraint(
+                fields=["survey", "original_sha256"], name="thermogram_content_once_per_survey"
+            ),
             models.CheckConstraint(
                 condition=Q(emissivity__gt=0, emissivity__lte=1), name="thermogram_emissivity_range"
             ),
@@ -659,6 +667,9 @@ class Mark(models.Model):
     )
     # Statistics of the apparent temperatures, cached when the mark is saved.
     stats = models.JSONField(default=dict, blank=True)
+    # Counts the changes; a change made to an older version is refused (two people marking
+    # the same thermogram never overwrite each other silently).
+    version = models.PositiveIntegerField(default=1)
     created_at = models.DateTimeField(auto_now_add=True)
     updated_at = models.DateTimeField(auto_now=True)
 
@@ -1088,3 +1099,33 @@ class MarkTemplate(models.Model):
 
     def __str__(self) -> str:
         return self.name
+
+
+class SignInThrottle(models.Model):
+    """Failed sign-ins counted per client address and per username, in one indexed table.
+
+    An address has a token bucket (each failure takes a token, tokens come back with time;
+    an empty bucket refuses that address). A username counts its failures from any address
+    and asks for a short, growing wait between attempts instead of locking the account.
+    Rows idle for long are pruned (survey.jobs.prune_signin_throttle).
+    """
+
+    class Scope(models.TextChoices):
+        ADDRESS = "address", "Client address"
+        USERNAME = "username", "Username"
+
+    scope = models.CharField(max_length=10, choices=Scope.choices)
+    key = models.CharField(max_length=150)
+    tokens = models.FloatField(default=0.0)
+    failures = models.PositiveIntegerField(default=0)
+    last_failure_at = models.DateTimeField(null=True, blank=True)
+    updated_at = models.DateTimeField()
+
+    class Meta:
+        constraints = [
+            models.UniqueConstraint(fields=["scope", "key"], name="signin_throttle_key"),
+        ]
+        indexes = [models.Index(fields=["updated_at"], name="signin_throttle_updated")]
+
+    def __str__(self) -> str:
+        return f"{self.scope} {self.key}"

@@ -51,6 +51,13 @@ if not SECRET_KEY:
     raise ImproperlyConfigured("SECRET_KEY must be set when DEBUG=0")
 ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", "127.0.0.1,localhost,testserver" if DEBUG else "")
 CSRF_TRUSTED_ORIGINS = env_list("CSRF_TRUSTED_ORIGINS", "")
+# Behind a reverse proxy: the header it writes the client's address into (for example
+# X-Forwarded-For) and how many proxies of yours stand in front of the app. Unset, the
+# connection's own address is used and such headers are ignored (survey/net.py).
+TRUSTED_PROXY_HEADER = env_str("TRUSTED_PROXY_HEADER", "")
+TRUSTED_PROXY_COUNT = env_int("TRUSTED_PROXY_COUNT", 1)
+if TRUSTED_PROXY_COUNT < 1:
+    raise ImproperlyConfigured("TRUSTED_PROXY_COUNT must be 1 or more")
 
 INSTALLED_APPS = [
     "django.contrib.admin",
@@ -68,14 +75,19 @@ MIDDLEWARE = [
     # Static files before anything that touches the session or the database.
     "whitenoise.middleware.WhiteNoiseMiddleware",
     "survey.logs.RequestLogMiddleware",
+    # Before anything reads the body: refuses oversized requests and NUL characters.
+    "survey.middleware.RequestLimitsMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
     "django.contrib.auth.middleware.AuthenticationMiddleware",
+    "survey.middleware.PrivateCacheMiddleware",
     "django.contrib.messages.middleware.MessageMiddleware",
     "django.middleware.clickjacking.XFrameOptionsMiddleware",
     "survey.middleware.ContentSecurityPolicyMiddleware",
 ]
+# The JSON API answers a refused CSRF check with its JSON error (survey/views/errors.py).
+CSRF_FAILURE_VIEW = "survey.views.errors.csrf_failure"
 
 ROOT_URLCONF = "survey.urls"
 WSGI_APPLICATION = "survey.wsgi.application"
@@ -117,6 +129,9 @@ elif DATABASES["default"]["ENGINE"] == "django.db.backends.postgresql":
         "DB_CONNECT_TIMEOUT", 5
     )
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
+
+# Sign-in is throttled for every form that authenticates, the admin's included.
+AUTHENTICATION_BACKENDS = ["survey.backends.ThrottledModelBackend"]
 
 AUTH_PASSWORD_VALIDATORS = [
     {"NAME": "django.contrib.auth.password_validation.UserAttributeSimilarityValidator"},
@@ -208,9 +223,19 @@ DATA_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
 FILE_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
 DATA_UPLOAD_MAX_NUMBER_FILES = 500
 THERMOGRAM_MAX_UPLOAD_BYTES = env_int("THERMOGRAM_MAX_UPLOAD_BYTES", 200 * 1024 * 1024)
+# Text tables (CSV, TSV) cost about 13 times their size in memory to decode: the one limit
+# for them, checked at upload and at decode (a 1280 × 1024 table is about 10 MB).
+THERMOGRAM_MAX_TEXT_BYTES = env_int("THERMOGRAM_MAX_TEXT_BYTES", 50 * 1024 * 1024)
+# The most the files of one survey archive may hold together, uncompressed (import_survey).
+ARCHIVE_MAX_BYTES = env_int("ARCHIVE_MAX_BYTES", 4 * 1024 * 1024 * 1024)
+# The most one request may send (a batch of files); larger batches are sent in parts.
+UPLOAD_MAX_REQUEST_BYTES = env_int("UPLOAD_MAX_REQUEST_BYTES", 1024 * 1024 * 1024)
 THERMOGRAM_MAX_PIXELS = env_int("THERMOGRAM_MAX_PIXELS", 20_000_000)
-# A thermogram job whose worker has been silent this long may be claimed by another worker.
-THERMOGRAM_STALLED_AFTER_SECONDS = env_int("THERMOGRAM_STALLED_AFTER_SECONDS", 900)
+# A running job refreshes its heartbeat this often, from a thread, while its process lives
+# (survey/services/heartbeat.py). One silent for the stall time has lost its worker: another
+# worker may take it, and the re-queue job sends it again (CELERY_BEAT_SCHEDULE below).
+TASK_HEARTBEAT_SECONDS = env_int("TASK_HEARTBEAT_SECONDS", 15)
+THERMOGRAM_STALLED_AFTER_SECONDS = env_int("THERMOGRAM_STALLED_AFTER_SECONDS", 120)
 
 # Celery: with no REDIS_URL every task runs eagerly in the process (the embedded default).
 REDIS_URL = env_str("REDIS_URL", "")
@@ -223,22 +248,51 @@ CELERY_TASK_REJECT_ON_WORKER_LOST = True
 CELERY_WORKER_PREFETCH_MULTIPLIER = 1
 CELERY_WORKER_MAX_TASKS_PER_CHILD = env_int("CELERY_WORKER_MAX_TASKS_PER_CHILD", 50)
 CELERY_BROKER_CONNECTION_RETRY_ON_STARTUP = True
-# Publishing gives up quickly when Redis is down: the upload is kept as queued and
-# `manage.py requeue_thermograms` sends it later (no request hangs on a dead broker).
-# A task taken by a worker that died (killed, power lost) is handed out again after
-# visibility_timeout seconds; keep it above CELERY_TASK_TIME_LIMIT.
+CELERY_TASK_TIME_LIMIT = env_int("CELERY_TASK_TIME_LIMIT", 900)
+# Publishing gives up quickly when Redis is down: the upload or report is kept as waiting
+# for the broker and the re-queue jobs send it later (no request hangs on a dead broker).
+# A task taken by a worker that died (killed, power lost) is handed out again by Redis after
+# visibility_timeout seconds: the longest task (the time limit) with five minutes' margin,
+# so a running task is never handed out twice. A lost job is found sooner from its
+# heartbeat by the re-queue jobs (about two minutes).
 CELERY_BROKER_TRANSPORT_OPTIONS = {
-    "visibility_timeout": env_int("CELERY_VISIBILITY_TIMEOUT", 3600),
+    "visibility_timeout": env_int("CELERY_VISIBILITY_TIMEOUT", CELERY_TASK_TIME_LIMIT + 300),
     "unacked_restore_interval": env_int("CELERY_UNACKED_RESTORE_INTERVAL", 10),
     "socket_connect_timeout": 2,
     "max_retries": 1,
     "interval_start": 0,
     "interval_step": 0.2,
 }
-CELERY_TASK_TIME_LIMIT = env_int("CELERY_TASK_TIME_LIMIT", 900)
-# A report render whose worker has been silent this long may be claimed by another worker;
-# by then the time limit has ended the first one (default: the time limit plus 60 s).
-REPORT_STALLED_AFTER_SECONDS = env_int("REPORT_STALLED_AFTER_SECONDS", CELERY_TASK_TIME_LIMIT + 60)
+# A report render whose worker has been silent this long may be claimed by another worker.
+REPORT_STALLED_AFTER_SECONDS = env_int("REPORT_STALLED_AFTER_SECONDS", 120)
+# A job whose worker was lost this many times (killed, out of memory) is failed with a
+# message instead of being tried again: one file must not take the workers down for ever.
+TASK_MAX_ATTEMPTS = env_int("TASK_MAX_ATTEMPTS", 3)
+
+# Periodic jobs, run by `celery -A survey.celery beat` (one beat process per installation);
+# workers find them through CELERY_IMPORTS (tasks.py modules are found on their own).
+CELERY_IMPORTS = ["survey.jobs", "reports.jobs"]
+# Each job is idempotent; `expires` drops runs that waited longer than their interval, so a
+# broker outage does not leave a backlog of identical runs behind it.
+CELERY_BEAT_SCHEDULE = {
+    # Thermograms and report renders waiting for the broker or whose worker was lost.
+    "requeue-thermograms": {
+        "task": "survey.jobs.requeue_thermograms",
+        "schedule": 60.0,
+        "options": {"expires": 55},
+    },
+    "requeue-reports": {
+        "task": "reports.jobs.requeue_reports",
+        "schedule": 60.0,
+        "options": {"expires": 55},
+    },
+    # Sign-in counters that no longer hold anyone back (survey/services/signin.py).
+    "prune-signin-throttle": {
+        "task": "survey.jobs.prune_signin_throttle",
+        "schedule": 3600.0,
+        "options": {"expires": 3000},
+    },
+}
 
 # E-mail (share links sent to clients) goes through Django's mail framework: SMTP when
 # EMAIL_HOST is set, else printed on the console (the embedded default).

@@ -1,4 +1,7 @@
-"""Celery tasks: they take ids and hand the work to a service (imported inside the task)."""
+"""Celery tasks: they take ids and hand the work to a service (imported inside the task).
+
+The periodic jobs are in survey/jobs.py (they call services that publish these tasks).
+"""
 
 from celery import shared_task
 
@@ -15,12 +18,12 @@ def process_thermogram(self, thermogram_id: int) -> str | None:
     delivery would lose the job.
     """
     from survey.models import Thermogram
-    from survey.services.processing import STALLED_AFTER, thermogram_process
+    from survey.services.processing import stalled_after, thermogram_process
 
-    status = thermogram_process(thermogram_id)
+    status = thermogram_process(thermogram_id, keep_alive=not self.request.is_eager)
     held = Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.PROCESSING)
     if status is None and held.exists():
-        raise self.retry(countdown=STALLED_AFTER.total_seconds() + 1)
+        raise self.retry(countdown=stalled_after().total_seconds() + 1)
     if status == Thermogram.Status.READY:
         from survey.services.proposals import thermogram_propose_after_processing
 

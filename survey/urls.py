@@ -20,7 +20,7 @@ from survey.views import (
     recovery,
     register,
 )
-from survey.views.signin import ThrottledLoginView
+from survey.views.signin import ThrottledLoginView, admin_login
 
 # --- pages: home, clients, sites, surveys, upload (survey/views/pages.py) ---
 page_patterns = [
@@ -184,6 +184,7 @@ survey_patterns = (
 
 urlpatterns = [
     path("healthz", health.healthz, name="healthz"),
+    path("admin/login/", admin_login),  # the admin's page, answering 429 when throttled
     path("admin/", admin.site.urls),
     path("accounts/login/", ThrottledLoginView.as_view(), name="login"),
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),

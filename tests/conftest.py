@@ -66,6 +66,37 @@ def redis_url() -> str:
 
 
 @pytest.fixture
+def private_redis(tmp_path):
+    """A Redis server of this test alone (started on a free port), which it may stop."""
+    from tests.brokers import PrivateRedis
+
+    server = PrivateRedis(tmp_path)
+    if server.binary is None:
+        reason = "redis-server is not installed"
+        if os.environ.get("REQUIRE_SERVICES") == "1":
+            pytest.fail(f"{reason}, and REQUIRE_SERVICES=1")
+        pytest.skip(reason)
+    server.start()
+    try:
+        yield server
+    finally:
+        server.stop()
+
+
+@pytest.fixture
+def publisher(settings):
+    """The test process publishes tasks to a broker instead of running them in-process."""
+    from survey.celery import app
+
+    settings.CELERY_TASK_ALWAYS_EAGER = False
+    app.conf.task_always_eager = False
+    try:
+        yield app
+    finally:
+        app.conf.task_always_eager = True
+
+
+@pytest.fixture
 def postgres_url() -> str:
     url = os.environ.get("DATABASE_URL", "")
     if not url.startswith("postgres"):

@@ -6,6 +6,7 @@ from django import forms
 from django.core.exceptions import ValidationError
 
 from survey import severity
+from survey.inputs import holds_nul
 from survey.models import Asset, Finding, Mark, Survey, Thermogram
 
 LEVEL_CHOICES = [("", "Use the suggested level")] + [
@@ -398,4 +399,6 @@ class CriteriaRowsForm(forms.Form):
             raise ValidationError(f"Not valid JSON (line {error.lineno}): {error.msg}.") from None
         if not isinstance(rows, list):
             raise ValidationError("The rows must be a JSON list, [ … ].")
+        if holds_nul(rows):
+            raise ValidationError("The rows hold a NUL character (\\u0000); remove it.")
         return rows

@@ -1,19 +1,25 @@
-"""The sign-in form: Django's, refusing while a username is throttled. It only validates;
-the view records each attempt (survey/views/signin.py)."""
+"""The sign-in forms: Django's, saying how long to wait when the throttle refused the
+attempt (survey.backends.ThrottledModelBackend decides and records). They only validate."""
 
+from django.contrib.admin.forms import AdminAuthenticationForm
 from django.contrib.auth.forms import AuthenticationForm
 from django.core.exceptions import ValidationError
 
-from survey.services.signin import client_address, login_wait, wait_message
 
-
-class ThrottledAuthenticationForm(AuthenticationForm):
+class ThrottledFormMixin:
     throttled = False
 
-    def clean(self):
-        username = self.cleaned_data.get("username") or ""
-        wait = login_wait(username, client_address(self.request))
+    def get_invalid_login_error(self):
+        wait = getattr(self.request, "signin_wait", None)
         if wait is not None:
             self.throttled = True
-            raise ValidationError(wait_message(wait), code="throttled")
-        return super().clean()
+            return ValidationError(wait.message, code="throttled")
+        return super().get_invalid_login_error()
+
+
+class ThrottledAuthenticationForm(ThrottledFormMixin, AuthenticationForm):
+    pass
+
+
+class ThrottledAdminAuthenticationForm(ThrottledFormMixin, AdminAuthenticationForm):
+    pass

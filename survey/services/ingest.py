@@ -6,9 +6,12 @@ status `queued` and enqueues `process_thermogram` once the transaction commits; 
 then runs survey/services/processing.py.
 """
 
+import contextlib
 import datetime
 import hashlib
+import io
 import logging
+import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -19,8 +22,10 @@ from django.core.exceptions import ValidationError
 from django.core.files.base import ContentFile
 from django.core.files.storage import default_storage
 from django.core.files.uploadedfile import UploadedFile
-from django.db import transaction
-from django.db.models import Max
+from django.db import IntegrityError, transaction
+from django.db.models import Max, Q
+from django.utils import timezone
+from PIL import Image, ImageFile, ImageOps
 
 from survey import thermal
 from survey.models import Asset, Survey, Thermogram
@@ -30,9 +35,25 @@ from survey.services.loggers import local_to_aware
 from survey.services.surveys import check_same_org
 from survey.tasks import process_thermogram
 from survey.thermal import units
-from survey.thermal.decode import detect_format
+from survey.thermal.decode import declared_size, detect_format, size_comparison
 
 logger = logging.getLogger(__name__)
+
+# Photos are stored at most this many pixels on their long side: a full A4 page at about
+# 250 dpi, room to zoom when aligning it with the thermogram, and 12 MB of RGB at most to
+# draw (a 12000-pixel camera picture would cost 430 MB).
+PHOTO_MAX_SIDE_PX = 2048
+
+
+@contextlib.contextmanager
+def _strict_pictures():
+    """Refuse truncated pictures even if another library relaxed Pillow (WeasyPrint does)."""
+    previous = ImageFile.LOAD_TRUNCATED_IMAGES
+    ImageFile.LOAD_TRUNCATED_IMAGES = False
+    try:
+        yield
+    finally:
+        ImageFile.LOAD_TRUNCATED_IMAGES = previous
 
 
 def sniff_format(head: bytes, name: str) -> str:
@@ -124,7 +145,7 @@ def _check_text(data: bytes, name: str, decode: dict) -> None:
             offset=decode.get("offset"),
             max_pixels=settings.THERMOGRAM_MAX_PIXELS,
             max_bytes=settings.THERMOGRAM_MAX_UPLOAD_BYTES,
-            max_text_bytes=settings.THERMOGRAM_MAX_UPLOAD_BYTES,
+            max_text_bytes=settings.THERMOGRAM_MAX_TEXT_BYTES,
         )
     except thermal.ThermogramFormatError as error:
         raise ValidationError(str(error)) from None
@@ -142,14 +163,10 @@ def thermogram_check_upload(
 
     `decode` holds the unit, scale and offset the file will be read with.
     """
-    limit = settings.THERMOGRAM_MAX_UPLOAD_BYTES
-    if len(data) == 0:
-        raise ValidationError("The file is empty.")
-    if len(data) > limit:
-        raise ValidationError(
-            f"The file is {len(data) / 1e6:.1f} MB; the limit is {limit / 1e6:.0f} MB."
-        )
+    _check_size(name, data)
     kind = sniff_format(data[:4096], name)
+    if kind == "text":
+        _check_size(name, data, settings.THERMOGRAM_MAX_TEXT_BYTES, "a text table")
     false_colour = kind == "jpeg" or (kind == "png" and _png_is_false_colour(data[:64]))
     if false_colour and not palette_source:
         raise ValidationError(
@@ -162,18 +179,62 @@ def thermogram_check_upload(
             "False-colour options were given, but this file holds temperature data: "
             "upload it without them."
         )
+    try:
+        declared_size(data, name, max_pixels=settings.THERMOGRAM_MAX_PIXELS)
+    except thermal.ThermogramFormatError as error:
+        raise ValidationError(str(error)) from None
     if kind == "text" and len(data) <= TEXT_CHECK_BYTES:
         _check_text(data, name, decode or {})
     return "false-colour" if false_colour else kind
 
 
+def _check_size(name: str, data: bytes, limit: int | None = None, what: str = "") -> None:
+    limit = settings.THERMOGRAM_MAX_UPLOAD_BYTES if limit is None else limit
+    if len(data) == 0:
+        raise ValidationError(f"{name} is empty.")
+    if len(data) > limit:
+        size, most = size_comparison(len(data), limit)
+        if what:
+            raise ValidationError(f"{name} is {size}; {what} may be at most {most}.")
+        raise ValidationError(f"{name} is {size}; the limit is {most}.")
+
+
 def _check_photo(photo: UploadedFile) -> bytes:
+    """The photo as it will be stored: checked with the thermogram limits (bytes, pixels,
+    shape), decoded whole once, and shrunk to print size when larger."""
+    name = _file_name(photo)
     data = _read_upload(photo)
-    if len(data) > settings.THERMOGRAM_MAX_UPLOAD_BYTES:
-        raise ValidationError("The photo is larger than the upload limit.")
+    _check_size(name, data)
     if not data.startswith((b"\xff\xd8\xff", b"\x89PNG\r\n\x1a\n")):
-        raise ValidationError(f"The photo {_file_name(photo)} is not a JPEG or PNG picture.")
-    return data
+        raise ValidationError(f"The photo {name} is not a JPEG or PNG picture.")
+    try:
+        if declared_size(data, name, max_pixels=settings.THERMOGRAM_MAX_PIXELS) is None:
+            raise thermal.ThermogramFormatError(f"{name} could not be read as a picture.")
+        return photo_at_print_size(data, name)
+    except thermal.ThermogramFormatError as error:
+        raise ValidationError(str(error)) from None
+
+
+def photo_at_print_size(data: bytes, name: str) -> bytes:
+    """`data` unchanged when its long side is at most PHOTO_MAX_SIDE_PX, else the picture
+    turned upright (EXIF orientation) and shrunk to that size, as JPEG quality 90."""
+    with warnings.catch_warnings(), _strict_pictures():
+        warnings.simplefilter("ignore", Image.DecompressionBombWarning)
+        try:
+            with Image.open(io.BytesIO(data)) as image:
+                if max(image.size) <= PHOTO_MAX_SIDE_PX:
+                    image.load()  # a whole picture, not a truncated one
+                    return data
+                image.draft("RGB", (PHOTO_MAX_SIDE_PX, PHOTO_MAX_SIDE_PX))
+                picture = ImageOps.exif_transpose(image).convert("RGB")
+        except Exception:  # noqa: BLE001 - Pillow raises many kinds for damaged files
+            raise thermal.ThermogramFormatError(
+                f"{name} could not be read as a picture (damaged or cut short)."
+            ) from None
+    picture.thumbnail((PHOTO_MAX_SIDE_PX, PHOTO_MAX_SIDE_PX), Image.Resampling.LANCZOS)
+    buffer = io.BytesIO()
+    picture.save(buffer, "JPEG", quality=90)
+    return buffer.getvalue()
 
 
 def thermogram_ingest(
@@ -213,11 +274,7 @@ def thermogram_ingest(
         decode={"unit": unit, "scale": scale, "offset": offset},
     )
     digest = hashlib.sha256(data).hexdigest()
-    duplicate = survey.thermograms.filter(original_sha256=digest).first()
-    if duplicate is not None:
-        raise ValidationError(
-            f"Already in this survey as {duplicate.original_name} (identical content)."
-        )
+    _refuse_duplicate(survey, digest)
     photo_data = _check_photo(photo) if photo is not None else None
     if asset is not None:
         check_same_org(survey.organization, asset=asset)
@@ -252,16 +309,21 @@ def thermogram_ingest(
             setattr(thermogram, attribute, value)
     saved_paths: list[str] = []
     try:
+        # Files first, outside the lock below: storing 200 MB must not hold up the survey.
+        thermogram.original.save(name, ContentFile(data), save=False)
+        saved_paths.append(thermogram.original.name)
+        if photo_data is not None:
+            thermogram.photo.save(_file_name(photo), ContentFile(photo_data), save=False)
+            saved_paths.append(thermogram.photo.name)
+            thermogram.photo_sha256 = hashlib.sha256(photo_data).hexdigest()
         with transaction.atomic():
+            # One upload of this survey at a time from here: its duplicate check and its
+            # number cannot interleave with another's (a unique constraint backs the first).
+            Survey.objects.select_for_update().filter(pk=survey.pk).values_list("pk").first()
+            _refuse_duplicate(survey, digest)
             # Deleted thermograms keep their numbers: one restored never shares a number.
             numbered = Thermogram.all_objects.filter(survey=survey)
             thermogram.sequence = (numbered.aggregate(last=Max("sequence"))["last"] or 0) + 1
-            thermogram.original.save(name, ContentFile(data), save=False)
-            saved_paths.append(thermogram.original.name)
-            if photo_data is not None:
-                thermogram.photo.save(_file_name(photo), ContentFile(photo_data), save=False)
-                saved_paths.append(thermogram.photo.name)
-                thermogram.photo_sha256 = hashlib.sha256(photo_data).hexdigest()
             thermogram.full_clean()
             thermogram.save()
             audit_record(
@@ -272,6 +334,11 @@ def thermogram_ingest(
                 detail={"name": name, "sha256": digest, "size": len(data)},
             )
             thermogram_enqueue(thermogram.pk)
+    except IntegrityError:
+        for path in saved_paths:
+            default_storage.delete(path)
+        _refuse_duplicate(survey, digest)  # a copy that slipped past the lock
+        raise
     except Exception:
         for path in saved_paths:
             default_storage.delete(path)
@@ -279,10 +346,26 @@ def thermogram_ingest(
     return thermogram
 
 
+def _refuse_duplicate(survey: Survey, digest: str) -> None:
+    duplicate = Thermogram.all_objects.filter(survey=survey, original_sha256=digest).first()
+    if duplicate is None:
+        return
+    if duplicate.deleted_at is not None:
+        raise ValidationError(
+            f"Already in this survey as {duplicate.original_name} (identical content), which "
+            "was deleted: restore it from Deleted items instead of uploading it again."
+        )
+    raise ValidationError(
+        f"Already in this survey as {duplicate.original_name} (identical content)."
+    )
+
+
 @dataclass
 class BatchResult:
     created: list[Thermogram] = field(default_factory=list)
     rejected: list[tuple[str, str]] = field(default_factory=list)
+    # Stored, but the broker could not be reached to start their processing.
+    waiting_for_broker: int = 0
 
 
 def _messages(error: ValidationError) -> str:
@@ -319,6 +402,10 @@ def thermograms_ingest_batch(
             )
         except ValidationError as error:
             result.rejected.append((_file_name(uploaded), _messages(error)))
+    created = [thermogram.pk for thermogram in result.created]
+    result.waiting_for_broker = Thermogram.objects.filter(
+        pk__in=created, waiting_for_broker=True
+    ).count()
     return result
 
 
@@ -328,18 +415,61 @@ def thermogram_enqueue(thermogram_id: int) -> None:
 
 
 def thermogram_publish(thermogram_id: int) -> bool:
-    """Publish the task; when the broker is down the row stays `queued` for requeue_thermograms."""
+    """Publish the task; when the broker is down the row is marked as waiting for it.
+
+    The re-queue job (survey.jobs.requeue_thermograms, every minute) or
+    `manage.py requeue_thermograms` sends it again once the broker answers.
+    """
+    rows = Thermogram.objects.filter(pk=thermogram_id)
     try:
         process_thermogram.apply_async(args=[thermogram_id], retry=False)
     except Exception as error:  # kombu/redis raise several connection error types
         logger.warning(
-            "Could not queue thermogram %s (%s); it stays queued until "
-            "`manage.py requeue_thermograms` runs.",
-            thermogram_id,
-            error,
+            "Could not queue thermogram %s (%s); it waits for the broker.", thermogram_id, error
         )
+        rows.filter(status=Thermogram.Status.QUEUED).update(waiting_for_broker=True)
         return False
+    rows.filter(waiting_for_broker=True).update(waiting_for_broker=False)
     return True
+
+
+@dataclass
+class RequeueResult:
+    sent: int = 0
+    failed: int = 0
+
+
+def thermograms_requeue(
+    *, survey_id: int | None = None, every_queued: bool = False
+) -> RequeueResult:
+    """Send again the jobs waiting for the broker and those whose worker was lost.
+
+    A stalled job (processing, heartbeat older than the stall time) goes back to `queued`
+    first so that the task's claim takes it. `every_queued` also re-sends queued jobs the
+    broker has already accepted (after Redis lost its data); a duplicate task is harmless,
+    as the claim lets only one through. Idempotent: run it as often as you like.
+    """
+    from survey.services.processing import stalled_after
+
+    stalled = Q(status=Thermogram.Status.PROCESSING) & (
+        Q(heartbeat_at__lt=timezone.now() - stalled_after()) | Q(heartbeat_at__isnull=True)
+    )
+    waiting = Q(status=Thermogram.Status.QUEUED)
+    if not every_queued:
+        waiting &= Q(waiting_for_broker=True)
+    rows = Thermogram.objects.filter(stalled | waiting)
+    if survey_id is not None:
+        rows = rows.filter(survey_id=survey_id)
+    result = RequeueResult()
+    for thermogram_id in rows.order_by("pk").values_list("pk", flat=True):
+        Thermogram.objects.filter(pk=thermogram_id).filter(stalled).update(
+            status=Thermogram.Status.QUEUED, heartbeat_at=None
+        )
+        if thermogram_publish(thermogram_id):
+            result.sent += 1
+        else:
+            result.failed += 1
+    return result
 
 
 @transaction.atomic
@@ -371,6 +501,8 @@ def thermogram_reprocess(
     thermogram.status = Thermogram.Status.QUEUED
     thermogram.error = ""
     thermogram.heartbeat_at = None
+    thermogram.attempts = 0
+    thermogram.waiting_for_broker = False
     thermogram.full_clean()
     thermogram.save()
     audit_record(

@@ -5,6 +5,7 @@ saved, caches the apparent statistics on the mark (`Mark.stats`) and leaves an a
 """
 
 import math
+from types import SimpleNamespace
 from typing import Any
 
 import numpy as np
@@ -85,6 +86,12 @@ def _clean_points(thermogram: Thermogram, kind: str, points: Any) -> list[list[f
     if kind != Mark.Kind.POINT and len({tuple(p) for p in cleaned}) < least:
         raise ValidationError({"points": f"The points of a {kind} must not coincide."})
     return cleaned
+
+
+def mark_points_check(*, kind: Any, points: Any, width: int, height: int) -> list[list[float]]:
+    """The cleaned points of a mark of `kind` on a width × height image (ValidationError
+    saying why not); for marks that arrive before their thermogram is decoded."""
+    return _clean_points(SimpleNamespace(width=width, height=height), _clean_kind(kind), points)
 
 
 def _ready_temperatures(thermogram: Thermogram) -> np.ndarray:
@@ -193,14 +200,38 @@ def mark_add(
     return mark
 
 
+class MarkChanged(Exception):
+    """The mark was changed by someone else since the version the change was made to."""
+
+
+def _locked_mark(mark: Mark) -> tuple[Thermogram, Mark]:
+    """The thermogram locked and the mark read again under the lock; Mark.DoesNotExist
+    when it was deleted meanwhile."""
+    thermogram = _lock(mark.thermogram)
+    current = Mark.objects.select_related("thermogram").filter(pk=mark.pk).first()
+    if current is None:
+        raise Mark.DoesNotExist(f"Mark {mark.label} was deleted meanwhile.")
+    return thermogram, current
+
+
 @transaction.atomic
-def mark_update(*, mark: Mark, user: AbstractBaseUser | None, **changes: Any) -> Mark:
-    """Change a mark's points, emissivity, reflected temperature, note or reference."""
+def mark_update(
+    *, mark: Mark, user: AbstractBaseUser | None, version: int | None = None, **changes: Any
+) -> Mark:
+    """Change a mark's points, emissivity, reflected temperature, note or reference.
+
+    With `version` (the one the change was made to) a mark changed since is refused with
+    MarkChanged; each change counts one version up.
+    """
     unknown = set(changes) - EDITABLE_FIELDS
     if unknown:
         raise ValidationError({name: "This field cannot be changed." for name in sorted(unknown)})
-    thermogram = _lock(mark.thermogram)
-    mark = Mark.objects.select_related("thermogram").get(pk=mark.pk)
+    thermogram, mark = _locked_mark(mark)
+    if version is not None and version != mark.version:
+        raise MarkChanged(
+            f"Mark {mark.label} was changed by someone else since you read it (version "
+            f"{version}, now {mark.version}); reload to see their change, then make yours."
+        )
     for name, value in changes.items():
         setattr(mark, name, value)
     if "note" in changes and mark.note is None:
@@ -214,6 +245,7 @@ def mark_update(*, mark: Mark, user: AbstractBaseUser | None, **changes: Any) ->
     if {"points", "single_pixel"} & set(changes) or not mark.stats:
         temperatures = _ready_temperatures(thermogram)
         mark.stats = mark_stats(temperatures, mark.kind, mark.points, mark.single_pixel)
+    mark.version += 1
     mark.save()
     audit_record(
         organization=thermogram.organization,
@@ -254,7 +286,7 @@ def mark_delete(*, mark: Mark, user: AbstractBaseUser | None) -> None:
 
     Raises MarkInUse (a ValidationError naming the findings) for a mark a finding uses.
     """
-    thermogram = _lock(mark.thermogram)
+    thermogram, mark = _locked_mark(mark)
     used = mark_findings(mark)
     if used:
         raise MarkInUse(mark, used)

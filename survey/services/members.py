@@ -12,7 +12,7 @@ from django.contrib.auth import get_user_model
 from django.contrib.auth.models import AbstractBaseUser
 from django.contrib.auth.password_validation import validate_password
 from django.core.exceptions import ValidationError
-from django.db import transaction
+from django.db import IntegrityError, transaction
 
 from survey.models import Member, Organization
 from survey.services.audit import audit_record
@@ -21,6 +21,7 @@ from survey.services.audit import audit_record
 PASSWORD_ALPHABET = "abcdefghijkmnpqrstuvwxyzABCDEFGHJKLMNPQRSTUVWXYZ23456789"
 PASSWORD_GROUPS = 3
 PASSWORD_GROUP_LENGTH = 5
+CANNOT_ADD = "This user name cannot be added. Choose another one."
 
 
 def temporary_password() -> str:
@@ -72,16 +73,24 @@ def member_add(
     """
     generated = None if password else temporary_password()
     first_name, last_name = _split_name(full_name)
-    user = get_user_model()(
-        username=username.strip(), first_name=first_name, last_name=last_name, email=email
-    )
-    user.full_clean(exclude=["password"])
+    username = username.strip()
+    User = get_user_model()
+    # Usernames are unique across every organization: say only that this one cannot be
+    # used, never whether someone (perhaps of another firm) already has it.
+    if User.objects.filter(username__iexact=username).exists():
+        raise ValidationError({"username": CANNOT_ADD})
+    user = User(username=username, first_name=first_name, last_name=last_name, email=email)
+    user.full_clean(exclude=["password"], validate_unique=False)
     try:
         validate_password(password or generated, user=user)
     except ValidationError as error:
         raise ValidationError({"password": error.messages}) from None
     user.set_password(password or generated)
-    user.save()
+    try:
+        with transaction.atomic():
+            user.save()
+    except IntegrityError:  # the same name added a moment ago by another request
+        raise ValidationError({"username": CANNOT_ADD}) from None
     member = Member(user=user, organization=organization, role=role, qualification=qualification)
     member.full_clean()
     member.save()

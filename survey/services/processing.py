@@ -14,11 +14,13 @@ from typing import Any
 
 import numpy as np
 from django.conf import settings
+from django.db.models import F
 from django.utils import timezone
 from PIL import Image
 
 from survey import thermal
 from survey.models import Mark, SpanRule, Thermogram
+from survey.services import heartbeat
 from survey.services.arrays import thermogram_temperatures
 from survey.services.audit import audit_record
 from survey.services.loggers import capture_time_from_file
@@ -28,8 +30,18 @@ from survey.thermal.drawing import encode_png
 
 logger = logging.getLogger(__name__)
 
-# A job whose heartbeat is older than this is shown as stalled and may be claimed again.
-STALLED_AFTER = datetime.timedelta(seconds=settings.THERMOGRAM_STALLED_AFTER_SECONDS)
+
+def stalled_after() -> datetime.timedelta:
+    """A job whose heartbeat is older than this has lost its worker: it is shown as stalled
+    and may be claimed again (THERMOGRAM_STALLED_AFTER_SECONDS)."""
+    return datetime.timedelta(seconds=settings.THERMOGRAM_STALLED_AFTER_SECONDS)
+
+
+LOST_TOO_OFTEN = (
+    "Processing was interrupted several times (its worker stopped, for example when it ran "
+    "out of memory); the original is kept. Try again from its settings page, or tell your "
+    "administrator."
+)
 
 
 THUMBNAIL_SIZE = 320
@@ -43,17 +55,22 @@ PNG_COMPRESS_LEVEL = 1
 def _claim(thermogram_id: int) -> bool:
     """Take the job: queued -> processing, or a processing job whose worker went silent."""
     now = timezone.now()
+    taken = {
+        "heartbeat_at": now,
+        "attempts": F("attempts") + 1,
+        "waiting_for_broker": False,
+    }
     claimed = Thermogram.objects.filter(pk=thermogram_id, status=Thermogram.Status.QUEUED).update(
-        status=Thermogram.Status.PROCESSING, heartbeat_at=now, error=""
+        status=Thermogram.Status.PROCESSING, error="", **taken
     )
     if claimed:
         return True
     stale = Thermogram.objects.filter(
         pk=thermogram_id,
         status=Thermogram.Status.PROCESSING,
-        heartbeat_at__lt=now - STALLED_AFTER,
+        heartbeat_at__lt=now - stalled_after(),
     )
-    return bool(stale.update(heartbeat_at=now))
+    return bool(stale.update(**taken))
 
 
 # A job claimed before its thermogram was deleted still finishes cleanly (all_objects), so a
@@ -94,7 +111,7 @@ def decode_original(data: bytes, name: str, decode_settings: dict) -> np.ndarray
         scale_bar_box=tuple(box) if (box := false_colour.get("scale_bar_box")) else None,
         max_pixels=settings.THERMOGRAM_MAX_PIXELS,
         max_bytes=settings.THERMOGRAM_MAX_UPLOAD_BYTES,
-        max_text_bytes=settings.THERMOGRAM_MAX_UPLOAD_BYTES,
+        max_text_bytes=settings.THERMOGRAM_MAX_TEXT_BYTES,
     )
 
 
@@ -160,9 +177,12 @@ def thermogram_render_previews(thermogram_id: int) -> bool:
     return True
 
 
-def thermogram_process(thermogram_id: int) -> str | None:
+def thermogram_process(thermogram_id: int, *, keep_alive: bool = False) -> str | None:
     """Decode, store the °C array and render images; returns the final status, or None when
-    another worker holds the job or it is already done (safe to call again)."""
+    another worker holds the job or it is already done (safe to call again).
+
+    With `keep_alive` (a real worker) a thread refreshes the heartbeat while this runs.
+    """
     if not _claim(thermogram_id):
         return None
     thermogram = Thermogram.all_objects.select_related("organization").get(pk=thermogram_id)
@@ -171,6 +191,17 @@ def thermogram_process(thermogram_id: int) -> str | None:
         thermogram_id,
         extra={"organization_id": thermogram.organization_id, "thermogram_id": thermogram_id},
     )
+    if thermogram.attempts > settings.TASK_MAX_ATTEMPTS:
+        _finish(thermogram_id, Thermogram.Status.FAILED, error=LOST_TOO_OFTEN)
+        return Thermogram.Status.FAILED
+    with heartbeat.keep_alive(
+        Thermogram, thermogram_id, Thermogram.Status.PROCESSING, enabled=keep_alive
+    ):
+        return _process(thermogram)
+
+
+def _process(thermogram: Thermogram) -> str:
+    thermogram_id = thermogram.pk
     _remove_partial_files(thermogram)
     try:
         # One read serves the check and the decoding (one GET when media are in a bucket).
@@ -249,8 +280,20 @@ def thermogram_is_stalled(thermogram: Thermogram) -> bool:
     return (
         thermogram.status == Thermogram.Status.PROCESSING
         and thermogram.heartbeat_at is not None
-        and thermogram.heartbeat_at < timezone.now() - STALLED_AFTER
+        and thermogram.heartbeat_at < timezone.now() - stalled_after()
     )
+
+
+def thermogram_status_text(thermogram: Thermogram) -> str:
+    """The status as the survey page shows it, saying when and why a job waits."""
+    if thermogram_is_stalled(thermogram):
+        return "Stalled; it will be queued again"
+    if thermogram.status == Thermogram.Status.QUEUED:
+        if thermogram.waiting_for_broker:
+            return "Stored; waiting for the processing queue"
+        if thermogram.attempts:
+            return "Stalled, re-queued"
+    return thermogram.get_status_display()
 
 
 def thermogram_verify_original(*, thermogram: Thermogram) -> bool:

@@ -1,78 +1,162 @@
-"""Sign-in throttling: after repeated failures for one username from one address, wait.
+"""Sign-in throttling: per client address and per username, in a small indexed table.
 
-Failures are stored as audit events in the database (no shared cache is configured), so
-every web process behind the load balancer sees the same count, and admins see the
-failed attempts of their members in the audit log. A successful sign-in starts the count
-again. The address is REMOTE_ADDR: behind a proxy, the proxy must pass the client's own.
+Every form that authenticates goes through survey.backends.ThrottledModelBackend, which
+asks `signin_wait` first and records each failure and success.
+
+- A client address has a bucket of ADDRESS_BURST tokens; each failed sign-in takes one and
+  one comes back every ADDRESS_REFILL. An empty bucket refuses that address only. The
+  address comes from survey/net.py: behind a proxy, from the header the operator trusts.
+- A username may fail USERNAME_FREE_FAILURES times in a row from anywhere; after that each
+  attempt waits a delay that doubles up to USERNAME_MAX_DELAY (a minute), instead of a
+  lock: whoever floods a colleague's username slows it, but cannot lock them out.
+- Failures of a member's username are written to the audit log of their organization;
+  unknown usernames only count here, so a flood of invented names leaves no audit rows.
+
+Counters live in SignInThrottle (unique on scope and key, indexed by age), not in the audit
+log: a check is two indexed reads, whatever the size of the log.
 """
 
 import datetime
 import math
+from dataclasses import dataclass
 
 from django.contrib.auth import get_user_model
-from django.http import HttpRequest
+from django.db import IntegrityError, transaction
+from django.db.models import Q
 from django.utils import timezone
 
-from survey.models import AuditEvent
+from survey.models import SignInThrottle
 from survey.services.audit import audit_record
 
-MAX_FAILURES = 5
-
-
-WINDOW = datetime.timedelta(minutes=15)
-
+ADDRESS_BURST = 20
+ADDRESS_REFILL = datetime.timedelta(seconds=45)  # 20 tokens back in 15 minutes
+USERNAME_FREE_FAILURES = 5
+USERNAME_MAX_DELAY = datetime.timedelta(minutes=1)
+# Failures older than this no longer count; idle rows older than PRUNE_AFTER are deleted.
+FORGET_AFTER = datetime.timedelta(minutes=15)
+PRUNE_AFTER = datetime.timedelta(hours=1)
 
 FAILED, SUCCEEDED = "login.failed", "login"
+ADDRESS, USERNAME = SignInThrottle.Scope.ADDRESS, SignInThrottle.Scope.USERNAME
 
 
-def client_address(request: HttpRequest | None) -> str:
-    return (request.META.get("REMOTE_ADDR") or "unknown") if request is not None else "unknown"
+@dataclass(frozen=True)
+class Wait:
+    """Why and how long a sign-in must wait."""
+
+    seconds: float
+    scope: str
+
+    @property
+    def message(self) -> str:
+        if self.scope == ADDRESS:
+            minutes = max(1, math.ceil(self.seconds / 60))
+            return (
+                "Too many failed sign-ins from your network. Wait "
+                f"{minutes} minute{'s' if minutes != 1 else ''} and try again."
+            )
+        seconds = max(1, math.ceil(self.seconds))
+        return (
+            "Several wrong passwords were tried for this username just now. For your "
+            f"account's safety, wait {seconds} second{'s' if seconds != 1 else ''} and try "
+            "again, or ask your administrator to reset the password."
+        )
 
 
-def _normalise(username: str) -> str:
+def normalise(username: str) -> str:
     return (username or "").strip().lower()[:150]
 
 
-def _events(username: str, address: str):
-    return AuditEvent.objects.filter(
-        object_type="signin",
-        detail__username=_normalise(username),
-        detail__address=address,
-        at__gte=timezone.now() - WINDOW,
+def _tokens_now(row: SignInThrottle, now: datetime.datetime) -> float:
+    refilled = (now - row.updated_at) / ADDRESS_REFILL
+    return min(float(ADDRESS_BURST), row.tokens + refilled)
+
+
+def _username_delay(failures: int) -> datetime.timedelta:
+    extra = failures - USERNAME_FREE_FAILURES
+    if extra < 0:
+        return datetime.timedelta(0)
+    return min(datetime.timedelta(seconds=2**extra), USERNAME_MAX_DELAY)
+
+
+def signin_wait(username: str, address: str) -> Wait | None:
+    """How long a sign-in for `username` from `address` must wait, or None: go ahead."""
+    now = timezone.now()
+    found = SignInThrottle.objects.filter(
+        Q(scope=ADDRESS, key=address) | Q(scope=USERNAME, key=normalise(username))
     )
+    rows = {row.scope: row for row in found}
+    bucket = rows.get(ADDRESS)
+    if bucket is not None and _tokens_now(bucket, now) < 1:
+        return Wait(((1 - _tokens_now(bucket, now)) * ADDRESS_REFILL).total_seconds(), ADDRESS)
+    counter = rows.get(USERNAME)
+    if (
+        counter is not None
+        and counter.last_failure_at
+        and now - counter.last_failure_at < FORGET_AFTER
+    ):
+        remaining = counter.last_failure_at + _username_delay(counter.failures) - now
+        if remaining.total_seconds() > 0:
+            return Wait(remaining.total_seconds(), USERNAME)
+    return None
 
 
-def login_wait(username: str, address: str) -> datetime.timedelta | None:
-    """How long this username must wait from this address, or None when it may try now."""
-    events = _events(username, address)
-    last_success = events.filter(action=SUCCEEDED).order_by("-at").values_list("at", flat=True)
-    failures = events.filter(action=FAILED)
-    if last_success:
-        failures = failures.filter(at__gt=last_success[0])
-    times = list(failures.order_by("-at").values_list("at", flat=True)[:MAX_FAILURES])
-    if len(times) < MAX_FAILURES:
-        return None
-    # Locked until the oldest of the last MAX_FAILURES failures leaves the window.
-    return max(times[-1] + WINDOW - timezone.now(), datetime.timedelta(seconds=1))
+def _row(scope: str, key: str) -> SignInThrottle:
+    """The counter row, locked for this transaction; created on first use."""
+    now = timezone.now()
+    try:
+        with transaction.atomic():
+            row, _ = SignInThrottle.objects.get_or_create(
+                scope=scope, key=key, defaults={"tokens": float(ADDRESS_BURST), "updated_at": now}
+            )
+    except IntegrityError:  # created by a concurrent request a moment ago
+        pass
+    return SignInThrottle.objects.select_for_update().get(scope=scope, key=key)
 
 
-def login_record(*, username: str, address: str, succeeded: bool) -> None:
-    """Write the attempt to the audit log, under the organization of that user if any."""
+@transaction.atomic
+def signin_failed(*, username: str, address: str) -> None:
+    """Count a failed sign-in against the address and the username."""
+    now = timezone.now()
+    bucket = _row(ADDRESS, address)
+    bucket.tokens = max(0.0, _tokens_now(bucket, now) - 1)
+    bucket.updated_at = now
+    bucket.save(update_fields=["tokens", "updated_at"])
+    counter = _row(USERNAME, normalise(username))
+    recent = counter.last_failure_at and now - counter.last_failure_at < FORGET_AFTER
+    counter.failures = (counter.failures if recent else 0) + 1
+    counter.last_failure_at = counter.updated_at = now
+    counter.save(update_fields=["failures", "last_failure_at", "updated_at"])
     user = get_user_model().objects.filter(username=username).select_related("membership").first()
     member = getattr(user, "membership", None) if user is not None else None
+    if member is not None:
+        audit_record(
+            organization=member.organization,
+            actor=None,
+            action=FAILED,
+            object_type="signin",
+            detail={"username": normalise(username), "address": address},
+        )
+
+
+@transaction.atomic
+def signin_succeeded(*, user, address: str) -> None:
+    """A successful sign-in clears the username's failures (not the address's bucket)."""
+    SignInThrottle.objects.filter(scope=USERNAME, key=normalise(user.get_username())).update(
+        failures=0, updated_at=timezone.now()
+    )
+    member = getattr(user, "membership", None)
     audit_record(
         organization=member.organization if member is not None else None,
-        actor=user if succeeded else None,
-        action=SUCCEEDED if succeeded else FAILED,
+        actor=user,
+        action=SUCCEEDED,
         object_type="signin",
-        detail={"username": _normalise(username), "address": address},
+        detail={"username": normalise(user.get_username()), "address": address},
     )
 
 
-def wait_message(wait: datetime.timedelta) -> str:
-    minutes = max(1, math.ceil(wait.total_seconds() / 60))
-    unit = "minute" if minutes == 1 else "minutes"
-    return (
-        f"Too many failed sign-in attempts for this username. For your account's safety, "
-        f"wait {minutes} {unit} and try again, or ask your administrator to reset the password."
-    )
+def throttle_prune(*, now: datetime.datetime | None = None) -> int:
+    """Delete counters idle for PRUNE_AFTER: by then a bucket is full and failures forgotten."""
+    now = now or timezone.now()
+    deleted, _ = SignInThrottle.objects.filter(updated_at__lt=now - PRUNE_AFTER).delete()
+    return deleted

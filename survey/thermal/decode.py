@@ -39,6 +39,11 @@ import numpy as np
 MAX_PIXELS = 20_000_000
 """Default pixel limit: 20 megapixels, far above any thermal camera sensor."""
 
+MAX_ASPECT_RATIO = 20.0
+"""Longest side over shortest side of an accepted image. Camera frames are 4:3 to 16:9 and
+a panorama stitched from a dozen frames stays well inside 20:1; a 2 × 2000 table is an
+export gone wrong, not a picture, and would make every drawing of it degenerate."""
+
 MAX_FILE_BYTES = 200 * 1024 * 1024
 """Default size limit of a binary file (TIFF, PNG, JPEG, .npy), in bytes."""
 
@@ -219,7 +224,11 @@ def read_temperatures(
                 f"{name} is a {_FORMAT_NAMES[kind]}, not a false-colour picture; palette "
                 "decoding needs a JPEG or PNG."
             )
-        return _read_palette_picture(data, name, palette, low_c, high_c, scale_bar_box, max_pixels)
+        values = _read_palette_picture(
+            data, name, palette, low_c, high_c, scale_bar_box, max_pixels
+        )
+        _check_pixels(name, values.shape[1], values.shape[0], max_pixels)
+        return values
     if kind == "tiff":
         values = _read_tiff(data, name, max_pixels)
     elif kind == "npy":
@@ -233,6 +242,7 @@ def read_temperatures(
             )
     else:
         values = _read_picture(data, name, kind, max_pixels)
+    _check_pixels(name, values.shape[1], values.shape[0], max_pixels)
     return _to_celsius(values, name, unit, scale, offset)
 
 
@@ -255,15 +265,53 @@ def _check_unit(unit: str) -> str:
     return normalised
 
 
-def _megabytes(size: int) -> str:
-    return f"{size / (1024 * 1024):.0f} MB" if size >= 1024 * 1024 else f"{size} bytes"
+MEGABYTE = 1024 * 1024
+"""Sizes are shown in MB of 1 048 576 bytes, the unit the limits are set in (200 MB)."""
+
+
+def size_text(size: int, decimals: int = 1) -> str:
+    """A size in bytes as MB.
+
+    Examples
+    --------
+    >>> size_text(209_715_200)
+    '200.0 MB'
+    """
+    return f"{size / MEGABYTE:.{decimals}f} MB"
+
+
+def size_comparison(size: int, limit: int) -> tuple[str, str]:
+    """`size` and `limit` in the same unit and rounding, with as many digits as it takes for
+    a size above the limit not to print as large as it (then in bytes).
+
+    Examples
+    --------
+    >>> size_comparison(220_000_000, 209_715_200)
+    ('209.8 MB', '200.0 MB')
+    """
+    for decimals in (1, 3):
+        shown = size_text(size, decimals), size_text(limit, decimals)
+        if shown[0] != shown[1] or size == limit:
+            return shown
+    return f"{size:,} bytes", f"{limit:,} bytes"
+
+
+_INTERNALS = re.compile(r"<[^<>]*\bat 0x[0-9a-fA-F]+>|<ast\.[^<>]*>")
+
+
+def _reason(error: BaseException) -> str:
+    """A library's own words about a damaged file, as ": words", without Python object
+    names (Pillow names its BytesIO, numpy its parse tree) and at most 150 characters."""
+    text = " ".join(_INTERNALS.sub("", str(error)).split()).strip(" :;,.")
+    if not text or "0x" in text:
+        return ""
+    return ": " + (text if len(text) <= 150 else text[:147] + "…")
 
 
 def _size_error(name: str, size: int, kind: str | None, limit: int) -> ThermogramFormatError:
     what = f"a {_FORMAT_NAMES[kind]}" if kind else "a file"
-    return ThermogramFormatError(
-        f"{name} is {_megabytes(size)}; {what} may be at most {_megabytes(limit)}."
-    )
+    shown, most = size_comparison(size, limit)
+    return ThermogramFormatError(f"{name} is {shown}; {what} may be at most {most}.")
 
 
 def _read_bytes(source, name: str, max_bytes: int, max_text_bytes: int) -> tuple[str, bytes]:
@@ -317,7 +365,7 @@ def _read_stream(handle, name: str, size: int | None, limit_for) -> tuple[str, b
     data = head + handle.read(limit + 1 - len(head))
     if len(data) > limit:
         raise ThermogramFormatError(
-            f"{name} is larger than {_megabytes(limit)}, the most a {_FORMAT_NAMES[kind]} may be."
+            f"{name} is larger than {size_text(limit)}, the most a {_FORMAT_NAMES[kind]} may be."
         )
     return kind, data
 
@@ -330,6 +378,127 @@ def _check_pixels(name: str, width: int, height: int, max_pixels: int) -> None:
             f"{name} is {width}×{height} pixels; images may have at most "
             f"{max_pixels / 1e6:g} megapixels."
         )
+    _check_aspect(name, width, height)
+
+
+def check_image_size(name: str, width: int, height: int, max_pixels: int = MAX_PIXELS) -> None:
+    """Raise `ThermogramFormatError` for a size the decoder refuses: over `max_pixels`, or
+    beyond `MAX_ASPECT_RATIO`.
+
+    Examples
+    --------
+    >>> check_image_size("wall.csv", 640, 480)
+    """
+    _check_pixels(name, width, height, max_pixels)
+
+
+def _check_aspect(name: str, width: int, height: int) -> None:
+    long, short = max(width, height), min(width, height)
+    if long > MAX_ASPECT_RATIO * short:
+        wide = width >= height
+        raise ThermogramFormatError(
+            f"{name} is {width}×{height} pixels, {long / short:.0f} times as "
+            f"{'wide as it is tall' if wide else 'tall as it is wide'}; an image may be at most "
+            f"{MAX_ASPECT_RATIO:g} times as wide as it is tall, or as tall as it is wide. "
+            "Check the export: rows and columns may have been cut or joined."
+        )
+
+
+def declared_size(data: bytes, name: str = "", *, max_pixels: int = MAX_PIXELS):
+    """(width, height) of an image from its header, or of a text table from its first row
+    and its number of rows, without decoding the values; None when the content is not one
+    we can size (the decoder then says why).
+
+    Raises `ThermogramFormatError` when the size is over `max_pixels` or the shape beyond
+    `MAX_ASPECT_RATIO`: what the decoder would refuse, known before anything is stored.
+
+    Examples
+    --------
+    >>> declared_size(b"20;21;22\\n23;24;25\\n", "wall.csv")
+    (3, 2)
+    """
+    name = name or "the file"
+    try:
+        kind = detect_format(data)
+    except ThermogramFormatError:
+        return None
+    try:
+        size = _SIZE_READERS[kind](bytes(data))
+    except ThermogramFormatError:
+        if kind == "jpeg":  # a bomb: its size is not even read
+            raise ThermogramFormatError(
+                f"{name} declares too many pixels; images may have at most "
+                f"{max_pixels / 1e6:g} megapixels."
+            ) from None
+        return None
+    except Exception:  # noqa: BLE001 - a damaged header is the decoder's to explain
+        return None
+    if size is not None:
+        _check_pixels(name, size[0], size[1], max_pixels)
+    return size
+
+
+def _png_size(data: bytes):
+    if data[12:16] != b"IHDR":
+        return None
+    return int.from_bytes(data[16:20], "big"), int.from_bytes(data[20:24], "big")
+
+
+def _picture_size(data: bytes):
+    from PIL import Image
+
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", Image.DecompressionBombWarning)
+            with Image.open(io.BytesIO(data)) as image:  # reads the header only
+                return image.size
+    except Image.DecompressionBombError:
+        raise ThermogramFormatError("The picture declares far too many pixels.") from None
+
+
+def _tiff_size(data: bytes):
+    import tifffile
+
+    with tifffile.TiffFile(io.BytesIO(data)) as tiff:
+        page = tiff.pages.first
+        return int(page.imagewidth), int(page.imagelength)
+
+
+def _npy_size(data: bytes):
+    buffer = io.BytesIO(data)
+    version = np.lib.format.read_magic(buffer)
+    read = (
+        np.lib.format.read_array_header_1_0
+        if version == (1, 0)
+        else np.lib.format.read_array_header_2_0
+    )
+    shape = [int(n) for n in read(buffer)[0] if n != 1] or [1, 1]
+    return (shape[-1], int(np.prod(shape[:-1]))) if len(shape) > 1 else (shape[0], 1)
+
+
+def _text_size(data: bytes):
+    text = data.decode("utf-8-sig", errors="replace")
+    first_lines = _first_lines(text.replace("\r\n", "\n").replace("\r", "\n"), 2)
+    if not first_lines:
+        return None
+    delimiter = _delimiter_of(first_lines[-1][1])
+    rows = len(_NOT_BLANK_LINE.findall(text))
+    first = first_lines[0][1]
+    if not _row_is_numeric(_split_line(first, delimiter), delimiter):
+        rows -= 1
+        first = first_lines[-1][1] if len(first_lines) > 1 else ""
+    return len(_split_line(first, delimiter)), rows
+
+
+_NOT_BLANK_LINE = re.compile(r"^[^\S\n]*\S", re.MULTILINE)
+
+_SIZE_READERS = {
+    "png": _png_size,
+    "jpeg": _picture_size,
+    "tiff": _tiff_size,
+    "npy": _npy_size,
+    "text": _text_size,
+}
 
 
 def _plane(values: np.ndarray, name: str) -> np.ndarray:
@@ -370,7 +539,7 @@ def _read_tiff(data: bytes, name: str, max_pixels: int) -> np.ndarray:
         raise
     except Exception as error:  # tifffile raises many types for damaged files
         raise ThermogramFormatError(
-            f"{name} could not be read as a TIFF (damaged or truncated file: {error})."
+            f"{name} could not be read as a TIFF (damaged or truncated file{_reason(error)})."
         )
     return _plane(np.asarray(values), name)
 
@@ -391,8 +560,8 @@ def _read_npy(data: bytes, name: str, max_pixels: int) -> np.ndarray:
             shape, _, dtype = np.lib.format.read_array_header_1_0(buffer)
         else:
             shape, _, dtype = np.lib.format.read_array_header_2_0(buffer)
-    except Exception as error:
-        raise ThermogramFormatError(f"{name} has a damaged .npy header ({error}).")
+    except Exception:
+        raise ThermogramFormatError(f"{name} has a damaged .npy header.") from None
     if dtype.hasobject or dtype.kind not in "fiu":
         raise ThermogramFormatError(
             f"{name} holds values of type {dtype}; a .npy thermogram must hold numbers."
@@ -409,7 +578,7 @@ def _read_npy(data: bytes, name: str, max_pixels: int) -> np.ndarray:
     try:
         values = np.load(io.BytesIO(data), allow_pickle=False)
     except Exception as error:
-        raise ThermogramFormatError(f"{name} could not be read as .npy (damaged: {error}).")
+        raise ThermogramFormatError(f"{name} could not be read as .npy (damaged{_reason(error)}).")
     return _plane(values, name)
 
 
@@ -448,7 +617,9 @@ def _open_picture(data: bytes, name: str, kind: str, max_pixels: int):
             f"{max_pixels / 1e6:g} megapixels."
         )
     except Exception as error:
-        raise ThermogramFormatError(f"{name} could not be read as {kind.upper()} ({error}).")
+        raise ThermogramFormatError(
+            f"{name} could not be read as {kind.upper()} (not a picture{_reason(error)})."
+        )
     width, height = image.size
     _check_pixels(name, width, height, max_pixels)
     try:
@@ -456,8 +627,9 @@ def _open_picture(data: bytes, name: str, kind: str, max_pixels: int):
             warnings.simplefilter("ignore", Image.DecompressionBombWarning)
             image.load()
     except Exception as error:
+        reason = _reason(error)
         raise ThermogramFormatError(
-            f"{name} could not be read as {kind.upper()} (damaged or truncated file: {error})."
+            f"{name} could not be read as {kind.upper()} (damaged or truncated file{reason})."
         )
     return image
 
@@ -549,15 +721,7 @@ def _read_text(data: bytes, name: str, max_pixels: int) -> tuple[np.ndarray, str
     first_lines = _first_lines(text, 2)
     if not first_lines:
         raise ThermogramFormatError(f"{name} holds no numbers.")
-    sample = first_lines[-1][1]
-    if "\t" in sample:
-        delimiter = "\t"
-    elif ";" in sample:
-        delimiter = ";"
-    elif "," in sample:
-        delimiter = ","
-    else:
-        delimiter = None  # spaces
+    delimiter = _delimiter_of(first_lines[-1][1])
     header_unit = None
     first_number, first = first_lines[0]
     body, body_first_line = text, 1
@@ -592,6 +756,14 @@ def _read_text(data: bytes, name: str, max_pixels: int) -> tuple[np.ndarray, str
         rows.append(_parse_row(name, number, cells, decimal_comma))
     _check_pixels(name, len(rows[0]), len(rows), max_pixels)
     return np.array(rows, dtype=np.float64), header_unit
+
+
+def _delimiter_of(sample: str) -> str | None:
+    """The separator of a row: tab, semicolon, comma, or None for spaces."""
+    for delimiter in ("\t", ";", ","):
+        if delimiter in sample:
+            return delimiter
+    return None
 
 
 _NOT_BLANK = re.compile(r"\S")

@@ -30,6 +30,14 @@ recognises them as "not a temperature"."""
 
 _FONT_DIR = Path("/usr/share/fonts/truetype/dejavu")
 
+MAX_PICTURE_SIDE_PX = 4096
+"""Largest side of any drawn picture, in pixels: about 35 cm at 300 dpi, and at most 48 MB of
+RGB, whatever the thermogram's shape."""
+
+MIN_SCALE_BAR_PX = 120
+"""Least height of a drawn scale bar: a picture flatter than this is drawn at the top of a
+white box as tall as the bar, so the bar's ticks stay readable."""
+
 
 # --- overlays -----------------------------------------------------------------------------
 
@@ -277,6 +285,7 @@ def render_picture(
     scale_bar: bool = True,
     unit: str = "C",
     width_px: int | None = None,
+    max_height_px: int = MAX_PICTURE_SIDE_PX,
 ):
     """Draw a thermogram as a PIL RGB image with marks, overlays and a scale bar.
 
@@ -297,9 +306,15 @@ def render_picture(
     unit : {"C", "F"}
         Unit of the scale bar's ticks.
     width_px : int, optional
-        Total output width in pixels (thermogram plus scale bar); the height follows the
-        thermogram's aspect ratio. Default: 2 output pixels per thermogram pixel, at least
-        640 pixels wide.
+        Total output width in pixels (thermogram plus scale bar), at most
+        `MAX_PICTURE_SIDE_PX`; the height follows the thermogram's aspect ratio. Default:
+        2 output pixels per thermogram pixel, at least 640 and at most
+        `MAX_PICTURE_SIDE_PX` pixels wide.
+    max_height_px : int
+        Largest output height. A thermogram that would be drawn taller is drawn narrower
+        instead, in the middle of white space (it keeps its aspect ratio, the whole picture
+        its width and the scale bar its place), so the picture's size is bounded in both
+        directions whatever the thermogram's shape.
 
     Returns
     -------
@@ -331,20 +346,35 @@ def render_picture(
     height, width = t.shape
     if width_px is None:
         width_px = max(640, 2 * width + (round(0.16 * 2 * width) if scale_bar else 0))
+        width_px = min(width_px, MAX_PICTURE_SIDE_PX)
     width_px = int(width_px)
+    if width_px > MAX_PICTURE_SIDE_PX:
+        raise ValueError(f"width_px must be at most {MAX_PICTURE_SIDE_PX}, not {width_px}")
+    max_height_px = min(int(max_height_px), MAX_PICTURE_SIDE_PX)
+    if scale_bar and max_height_px < MIN_SCALE_BAR_PX:
+        raise ValueError(f"max_height_px must be at least {MIN_SCALE_BAR_PX} with a scale bar")
     strip_px = max(56, round(width_px * 0.14)) if scale_bar else 0
     picture_px = width_px - strip_px
     if picture_px < 16:
         raise ValueError(f"width_px {width_px} is too small for a picture with a scale bar")
+    area_px = picture_px
     picture_height = max(1, round(height * picture_px / width))
+    if picture_height > max_height_px:
+        # Too tall at this width (a narrow strip): drawn narrower, keeping its shape, in the
+        # middle of its usual area, so the whole picture keeps its width on the page.
+        picture_px = max(1, round(width * max_height_px / height))
+        picture_height = max_height_px
     resample = Image.Resampling.NEAREST if picture_px >= width else Image.Resampling.BOX
     picture = Image.fromarray(rgb).resize((picture_px, picture_height), resample)
     draw_marks(picture, marks, picture_px / width, picture_height / height)
-    if not scale_bar:
+    if not scale_bar and area_px == picture_px:
         return picture
-    canvas = Image.new("RGB", (width_px, picture_height), (255, 255, 255))
-    canvas.paste(picture, (0, 0))
-    canvas.paste(_scale_bar(ramp, low_c, high_c, unit, picture_height, strip_px), (picture_px, 0))
+    canvas_height = max(picture_height, MIN_SCALE_BAR_PX if scale_bar else 1)
+    canvas = Image.new("RGB", (width_px, canvas_height), (255, 255, 255))
+    canvas.paste(picture, ((area_px - picture_px) // 2, 0))
+    if scale_bar:
+        strip = _scale_bar(ramp, low_c, high_c, unit, canvas_height, strip_px)
+        canvas.paste(strip, (area_px, 0))
     return canvas
 
 

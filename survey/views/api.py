@@ -26,6 +26,7 @@ from survey.access import (
     thermograms_for,
 )
 from survey.dependents import thermogram_hold
+from survey.inputs import holds_nul
 from survey.models import Mark, Thermogram
 from survey.services import display
 from survey.services import marks as mark_services
@@ -93,6 +94,10 @@ def api(*methods: str):
                 return _validation_error(error)
             except ThermogramNotReady as error:
                 return _error(409, str(error))
+            except mark_services.MarkChanged as error:
+                return _error(409, str(error))
+            except Mark.DoesNotExist:  # deleted by someone else while this request ran
+                return _error(404, "Not found.")
 
         return wrapper
 
@@ -106,6 +111,8 @@ def _body(request: HttpRequest) -> dict:
         raise ValidationError("The request body is not valid JSON.") from None
     if not isinstance(data, dict):
         raise ValidationError("The request body must be a JSON object.")
+    if holds_nul(data):
+        raise ValidationError("The request body holds a NUL character (\\u0000); remove it.")
     return data
 
 
@@ -185,7 +192,7 @@ def _mark_options(data: dict, thermogram: Thermogram, mark: Mark | None = None) 
     allowed = {"emissivity", "reflected_c", "note", "reference", "single_pixel", "points"}
     allowed |= {"name", "rise_method"}
     allowed |= {"load_current_a"}
-    allowed |= {"kind"} if mark is None else set()
+    allowed |= {"kind"} if mark is None else {"version"}
     unknown = sorted(set(data) - allowed)
     if unknown:
         raise ValidationError({name: "Unknown or read-only field." for name in unknown})
@@ -197,15 +204,22 @@ def _mark_options(data: dict, thermogram: Thermogram, mark: Mark | None = None) 
             raise ValidationError({name: f"{name} must be text."})
     if data.get("rise_method") is None and "rise_method" in data:
         raise ValidationError({"rise_method": "Give hottest_to_hottest or hottest_to_mean."})
-    form = MarkForm({k: v for k, v in data.items() if k != "points"}, thermogram, mark)
+    version = data.get("version")
+    if "version" in data and (
+        isinstance(version, bool) or not isinstance(version, int) or version < 1
+    ):
+        raise ValidationError({"version": "version must be the whole number the mark showed."})
+    form = MarkForm(
+        {k: v for k, v in data.items() if k not in {"points", "version"}}, thermogram, mark
+    )
     if not form.is_valid():
         raise ValidationError({name: errors for name, errors in form.errors.items()})
     options = {}
     for name in data:
         if name == "reference":
             options |= form.cleaned_data["reference"]
-        elif name == "points":
-            options["points"] = data["points"]
+        elif name in {"points", "version"}:
+            options[name] = data[name]
         elif name == "name":
             options["name"] = form.cleaned_data["name"] or ""
         else:
@@ -237,6 +251,7 @@ def mark_json(mark: Mark, readings: dict) -> dict:
         "name": mark.name,
         "title": mark.title,
         "rise_method": mark.rise_method,
+        "version": mark.version,
         "kind": mark.kind,
         "points": mark.points,
         "single_pixel": mark.single_pixel,

@@ -294,7 +294,7 @@ def survey_detail(request: HttpRequest, pk: int) -> HttpResponse:
     thermograms = list(page.object_list)
     logger_rows = loggers.survey_log_summary(survey)
     for thermogram in thermograms:
-        thermogram.stalled = processing.thermogram_is_stalled(thermogram)
+        thermogram.status_text = processing.thermogram_status_text(thermogram)
         thermogram.survey = survey
         thermogram.logged = (
             loggers.thermogram_logged_conditions(thermogram) if logger_rows else None
@@ -357,7 +357,13 @@ def survey_upload(request: HttpRequest, pk: int) -> HttpResponse:
         user=request.user,
         **form.ingest_defaults(),
     )
-    if result.created:
+    if result.waiting_for_broker:
+        messages.warning(
+            request,
+            f"Stored {len(result.created)} file(s). The processing queue cannot be reached just "
+            "now: they will be processed automatically when it is back.",
+        )
+    elif result.created:
         messages.success(request, f"Stored {len(result.created)} file(s); processing has started.")
     for name, reason in result.rejected:
         messages.error(request, f"{name} was not stored: {reason}")
@@ -382,7 +388,7 @@ def survey_status(request: HttpRequest, pk: int) -> JsonResponse:
             {
                 "id": thermogram.pk,
                 "status": thermogram.status,
-                "status_display": thermogram.get_status_display(),
+                "status_display": processing.thermogram_status_text(thermogram),
                 "stalled": processing.thermogram_is_stalled(thermogram),
                 "error": thermogram.error,
                 "thumbnail": reverse("survey:thermogram_thumbnail", args=[thermogram.pk])
@@ -500,5 +506,13 @@ def thermogram_reprocess(request: HttpRequest, pk: int) -> HttpResponse:
     except ValidationError as error:
         messages.error(request, " ".join(error.messages))
         return redirect("survey:thermogram_settings", pk=thermogram.pk)
-    messages.success(request, f"{thermogram} queued for processing from its original.")
+    thermogram.refresh_from_db(fields=["waiting_for_broker"])
+    if thermogram.waiting_for_broker:
+        messages.warning(
+            request,
+            f"{thermogram} will be processed again when the processing queue, which cannot be "
+            "reached just now, is back.",
+        )
+    else:
+        messages.success(request, f"{thermogram} queued for processing from its original.")
     return redirect("survey:survey", pk=thermogram.survey_id)

@@ -175,3 +175,57 @@ def figure_report(
             note=f"{app['pages']} pages ({floor['pages']} in the floor)",
         ),
     ]
+
+
+SHAPES_MAX_RATIO = 1.10
+STRIP_LENGTH = 4000
+
+
+def add_strips(survey) -> None:
+    """A 2 × 4000 and a 4000 × 2 thermogram (stored as the processing would leave them: the
+    upload refuses such shapes), each with a mark, so both are drawn in the report."""
+    import numpy as np
+
+    from survey.services.marks import mark_add
+    from tests.factories import make_thermogram
+
+    ramp = np.linspace(10.0, 30.0, STRIP_LENGTH, dtype=np.float32)
+    wide = make_thermogram(survey, np.vstack([ramp, ramp]), title="Strip 4000 × 2")
+    tall = make_thermogram(survey, np.vstack([ramp, ramp]).T.copy(), title="Strip 2 × 4000")
+    user = survey.thermographer.user
+    mark_add(thermogram=wide, kind="line", points=[[0, 0], [STRIP_LENGTH - 1, 1]], user=user)
+    mark_add(thermogram=tall, kind="point", points=[[1, STRIP_LENGTH // 2]], user=user)
+
+
+def _draft(report) -> int:
+    from reports.models import ReportVersion
+
+    user = report.survey.thermographer.user
+    version = ReportVersion.objects.create(report=report, version=1, requested_by=user)
+    return version.pk
+
+
+def figure_extreme_shapes(environment: BenchEnvironment, repeat: int = 2) -> Row:
+    """Peak memory of the report of a 10-thermogram survey holding one 2 × 4000 and one
+    4000 × 2 thermogram, against the same report before they were added: a picture's size
+    is bounded in both directions, so one file's shape must not show in the peak."""
+    from reports.models import ReportVersion
+    from tests.bench.fixtures import survey_with_thermograms
+
+    survey = survey_with_thermograms("bench shapes", 10)
+    plain = ReportVersion.objects.get(pk=report_version(survey))
+    without = run_child(environment, ["app", str(plain.pk), str(repeat)])
+    add_strips(survey)
+    shaped = run_child(environment, ["app", str(_draft(plain.report)), str(repeat)])
+    return Row(
+        "report with a 2 × 4000 and a 4000 × 2 thermogram: peak RSS",
+        shaped["peak_rss_mb"],
+        "MB",
+        without["peak_rss_mb"],
+        max_ratio=SHAPES_MAX_RATIO,
+        note=(
+            f"floor: the same report without them ({without['pages']} pages, "
+            f"{shaped['pages']} with them)"
+        ),
+        details={"with": shaped, "without": without},
+    )

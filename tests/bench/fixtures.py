@@ -1,6 +1,7 @@
 """Rows the web figures need: one firm, one inspector, surveys full of real thermograms."""
 
 import datetime
+import hashlib
 
 import numpy as np
 
@@ -118,6 +119,11 @@ def _copy(template, sequence: int, *, share_arrays: bool = False):
     clone.pk = None
     clone.sequence = sequence
     clone.original_name = f"IR_{sequence:04d}.tif"
+    # A survey holds each original once: the copies stand for distinct files (their
+    # originals are never read again in the bench).
+    clone.original_sha256 = hashlib.sha256(
+        f"{template.original_sha256}-{sequence}".encode()
+    ).hexdigest()
     if share_arrays:
         return clone
     name = f"derived/{template.organization_id}/copy-{template.survey_id}-{sequence}/celsius.npy"

@@ -181,6 +181,12 @@ def report_figures(runner: Runner, environment, surveys: dict) -> None:
                 environment, inputs[c], r, warmup=smallest, profile=runner.profile
             ),
         )
+    runner.run(
+        "report",
+        "report with extreme shapes: peak RSS",
+        "MB",
+        lambda: report.figure_extreme_shapes(environment),
+    )
 
 
 def load_figures(runner: Runner, environment, surveys: dict) -> None:

@@ -5,8 +5,10 @@ Two ways a worker dies, each with a real Celery worker process, Redis and Postgr
 - the whole worker is killed (SIGKILL: power lost, container killed). Its task was taken
   but not acknowledged (acks_late), so Redis hands it out again once the visibility timeout
   passes; the test starts a second worker with CELERY_VISIBILITY_TIMEOUT=2 (production
-  default 3600) so it does not wait an hour. The second worker reclaims the row once the
-  first one's heartbeat is stale (THERMOGRAM_STALLED_AFTER_SECONDS=2, production 900).
+  default: the task time limit plus 300 s) so it does not wait. The second worker reclaims
+  the row once the first one's heartbeat is stale (THERMOGRAM_STALLED_AFTER_SECONDS=2,
+  production 120). In production the re-queue job finds it sooner still: see
+  test_stalled_jobs.py.
 - only the pool process doing the work is killed (the kernel's out-of-memory killer picks
   the biggest process). The worker sees it lost (reject_on_worker_lost) and puts the task
   back at once; the new delivery finds the row still `processing` and retries after the
@@ -18,8 +20,8 @@ audit log, and no half-written files left in its folder.
 The same two deaths in the middle of rendering a report's PDF (a draft when the whole worker
 dies, an issued version when only the pool process dies): the version ends ready (or
 issued) once, one ReportVersion row, one PDF file on disk whose sha256 is the stored one.
-Reports count as stalled after REPORT_STALLED_AFTER_SECONDS (production: the task time
-limit plus 60 s; here 2 s, or 8 s for the pool-process case).
+Reports count as stalled after REPORT_STALLED_AFTER_SECONDS (production 120 s; here 2 s, or
+8 s for the pool-process case).
 """
 
 import hashlib
@@ -124,16 +126,6 @@ def _kill_mid_processing(thermogram: Thermogram, victim, moment=None) -> None:
     thermogram.refresh_from_db()
     assert thermogram.status == Thermogram.Status.PROCESSING, "finished before the kill"
     assert not thermogram.preview
-
-
-@pytest.fixture
-def publisher(settings):
-    from survey.celery import app
-
-    settings.CELERY_TASK_ALWAYS_EAGER = False
-    app.conf.task_always_eager = False
-    yield app
-    app.conf.task_always_eager = True
 
 
 @pytest.mark.services

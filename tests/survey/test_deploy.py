@@ -1,5 +1,6 @@
 """Deployment files: docker-compose.yml, .env.example and Django's deployment checks."""
 
+import json
 import os
 import re
 import secrets
@@ -67,11 +68,22 @@ def test_it_lets_only_the_proxy_reach_gunicorn():
     on_frontend = {name for name, s in services.items() if "frontend" in s.get("networks", [])}
     assert on_frontend == {"proxy", "web"}
     environment = services["web"]["environment"]
-    assert environment["TRUSTED_PROXY_HEADER"] == "HTTP_X_FORWARDED_FOR"
+    assert environment["TRUSTED_PROXY_HEADER"] == "X-Forwarded-For"
     assert environment["TRUSTED_PROXY_COUNT"] == "1"
     caddyfile = (ROOT / ".docker" / "Caddyfile").read_text()
     assert "reverse_proxy web:8000" in caddyfile
     assert "./.docker/Caddyfile:/etc/caddy/Caddyfile:ro" in services["proxy"]["volumes"]
+
+
+def test_it_recycles_web_workers_with_jitter():
+    """The web command reads .docker/gunicorn.conf.py, which restarts each worker after
+    about 500 requests, spread by a jitter (tested with real gunicorn in test_gunicorn.py)."""
+    command = compose()["services"]["web"]["command"]
+    assert "gunicorn -c .docker/gunicorn.conf.py" in command
+    config: dict = {}
+    exec((ROOT / ".docker" / "gunicorn.conf.py").read_text(), config)
+    assert config["wsgi_app"] == "survey.wsgi:application"
+    assert config["max_requests"] == 500 and config["max_requests_jitter"] == 50
 
 
 def test_it_keeps_the_database_and_media_in_volumes():
@@ -148,3 +160,24 @@ def test_it_passes_the_deployment_checks():
     )
     assert result.returncode == 0, result.stdout + result.stderr
     assert "ERROR" not in result.stdout + result.stderr
+
+
+def test_it_registers_every_periodic_job_it_schedules(settings):
+    """Each task of CELERY_BEAT_SCHEDULE is one a worker loads (its tasks.py modules and
+    CELERY_IMPORTS), checked in a fresh interpreter that starts like a worker."""
+    script = (
+        "import django, json; django.setup()\n"
+        "from survey.celery import app\n"
+        "app.loader.import_default_modules()\n"
+        "print(json.dumps(sorted(app.tasks)))\n"
+    )
+    environment = {k: v for k, v in os.environ.items() if k not in {"DATABASE_URL", "REDIS_URL"}}
+    environment["DJANGO_SETTINGS_MODULE"] = "survey.settings"
+    result = subprocess.run(
+        [sys.executable, "-c", script], cwd=ROOT, env=environment, capture_output=True, text=True
+    )
+    assert result.returncode == 0, result.stderr
+    registered = set(json.loads(result.stdout.strip().splitlines()[-1]))
+    scheduled = {entry["task"] for entry in settings.CELERY_BEAT_SCHEDULE.values()}
+    assert {"survey.jobs.requeue_thermograms", "reports.jobs.requeue_reports"} <= scheduled
+    assert scheduled <= registered

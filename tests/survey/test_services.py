@@ -308,7 +308,7 @@ def test_it_reclaims_a_stalled_job_but_not_a_live_one(envelope_survey):
     )
     assert processing.thermogram_process(thermogram.pk) is None
     Thermogram.objects.filter(pk=thermogram.pk).update(
-        heartbeat_at=timezone.now() - processing.STALLED_AFTER - datetime.timedelta(minutes=1)
+        heartbeat_at=timezone.now() - processing.stalled_after() - datetime.timedelta(minutes=1)
     )
     assert processing.thermogram_process(thermogram.pk) == Thermogram.Status.READY
 
@@ -348,12 +348,15 @@ def test_it_keeps_the_upload_queued_when_the_broker_is_down(
     finally:
         app.conf.task_always_eager = True
         settings.CELERY_TASK_ALWAYS_EAGER = True
+    thermogram.refresh_from_db()
     assert thermogram.status == Thermogram.Status.QUEUED
+    assert thermogram.waiting_for_broker
     assert thermogram.original and thermogram.original_sha256
-    assert "requeue_thermograms" in caplog.text
+    assert "waits for the broker" in caplog.text
     call_command("requeue_thermograms")
     thermogram.refresh_from_db()
     assert thermogram.status == Thermogram.Status.READY
+    assert not thermogram.waiting_for_broker
 
 
 def test_it_caches_the_array_until_it_is_rewritten(
@@ -456,3 +459,55 @@ def test_it_refuses_to_delete_a_survey_with_an_issued_report(envelope_survey, ow
     assert Survey.objects.get(pk=envelope_survey.pk).status == Survey.Status.DELETED
     surveys.survey_restore(survey=envelope_survey, user=owner.user)
     assert Survey.objects.get(pk=envelope_survey.pk).status == Survey.Status.ACTIVE
+
+
+@pytest.mark.parametrize(
+    "name, data",
+    [
+        # 2 rows of 2000 values: a 12 kB table of the kind that took a report worker to 3 GB.
+        ("strip.csv", ("\n".join(";".join(["21.5"] * 2000) for _ in range(2)) + "\n").encode()),
+        ("strip.csv", ("\n".join("21.5;22.5" for _ in range(2000)) + "\n").encode()),
+    ],
+)
+def test_it_refuses_an_extreme_shape_at_upload(envelope_survey, settings, name, data):
+    """Nothing is stored; the message gives the shape and the limit."""
+    with pytest.raises(ValidationError) as caught:
+        ingest_services.thermogram_ingest(
+            survey=envelope_survey, uploaded_file=upload(name, data), user=None
+        )
+    assert "at most 20 times as wide as it is tall" in " ".join(caught.value.messages)
+    assert not envelope_survey.thermograms.exists()
+    assert media_files(settings) == []
+
+
+def test_it_states_an_oversized_upload_in_one_unit(envelope_survey, settings):
+    """One byte over the limit never reads "1.0 MB; the limit is 1 MB"."""
+    settings.THERMOGRAM_MAX_UPLOAD_BYTES = 1_048_576
+    with pytest.raises(ValidationError) as caught:
+        ingest_services.thermogram_ingest(
+            survey=envelope_survey, uploaded_file=upload("big.npy", bytes(1_048_577)), user=None
+        )
+    assert caught.value.messages == ["big.npy is 1,048,577 bytes; the limit is 1,048,576 bytes."]
+
+
+def test_it_keeps_one_limit_for_text_tables(
+    envelope_survey, settings, django_capture_on_commit_callbacks
+):
+    """THERMOGRAM_MAX_TEXT_BYTES refuses a larger table at upload; the worker decodes with the
+    same limit (it once allowed 200 MB of text there, 1.3 GB of memory for 100 MB)."""
+    settings.THERMOGRAM_MAX_TEXT_BYTES = 1000
+    table = ((";".join(["21.5"] * 10) + "\n") * 30).encode()  # 10 × 30 values, 1500 bytes
+    with pytest.raises(ValidationError, match="a text table may be at most 1,000 bytes"):
+        ingest_services.thermogram_ingest(
+            survey=envelope_survey, uploaded_file=upload("t.csv", table), user=None
+        )
+    settings.THERMOGRAM_MAX_TEXT_BYTES = 2000
+    thermogram = ingest(envelope_survey, "t.csv", table, capture=django_capture_on_commit_callbacks)
+    assert thermogram.status == Thermogram.Status.READY
+    # The worker reads the same setting: lowered, decoding the table again is refused.
+    settings.THERMOGRAM_MAX_TEXT_BYTES = 1000
+    with django_capture_on_commit_callbacks(execute=True):
+        ingest_services.thermogram_reprocess(thermogram=thermogram, user=None, unit="C")
+    thermogram.refresh_from_db()
+    assert thermogram.status == Thermogram.Status.FAILED
+    assert "may be at most 1,000 bytes" in thermogram.error

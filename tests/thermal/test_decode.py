@@ -12,10 +12,13 @@ from hypothesis import strategies as st
 from PIL import Image
 
 from survey.thermal.decode import (
+    MAX_ASPECT_RATIO,
     MAX_PIXELS,
     ThermogramFormatError,
+    declared_size,
     detect_format,
     read_temperatures,
+    size_comparison,
 )
 from survey.thermal.palettes import PALETTES, render
 from tests.hypothesis_profiles import examples
@@ -305,7 +308,7 @@ def test_read_temperatures_refuses_100_mb_csv_by_its_size(tmp_path):
     with path.open("wb") as handle:
         handle.write(b"20.5;21.5\n" * 1000)
         handle.truncate(100 * 1024 * 1024)
-    with pytest.raises(ThermogramFormatError, match="100 MB; a text matrix .* at most 50 MB"):
+    with pytest.raises(ThermogramFormatError, match="100.0 MB; a text matrix .* at most 50.0 MB"):
         read_temperatures(path, "huge.csv")
     with path.open("rb") as handle, pytest.raises(ThermogramFormatError, match="larger than"):
         read_temperatures(handle, "huge.csv")
@@ -313,7 +316,7 @@ def test_read_temperatures_refuses_100_mb_csv_by_its_size(tmp_path):
 
 def test_read_temperatures_refuses_big_text_by_the_text_limit():
     """Text over the text limit is refused before parsing."""
-    with pytest.raises(ThermogramFormatError, match="at most 1000 bytes"):
+    with pytest.raises(ThermogramFormatError, match="0.002 MB; .* at most 0.001 MB"):
         read_temperatures(b"20.5;21.5\n" * 200, "big.csv", max_text_bytes=1000)
 
 
@@ -567,3 +570,99 @@ def test_read_temperatures_says_unknown_bytes_named_tif_are_not_a_tiff():
     # Source: TIFF signatures (TIFF 6.0 §2, from memory); GIF89a is no TIFF.
     with pytest.raises(ThermogramFormatError, match="wall.tif is not a TIFF.*Accepted"):
         read_temperatures(b"GIF89a\x01\x00\x01\x00\x00\xff\x00" + bytes(50), "wall.tif")
+
+
+# --- shapes: a thermogram may be at most MAX_ASPECT_RATIO times as wide as tall ------------
+
+
+def _npy_of(array) -> bytes:
+    buffer = io.BytesIO()
+    np.save(buffer, np.asarray(array, dtype=np.float32))
+    return buffer.getvalue()
+
+
+def _csv_of(height: int, width: int) -> bytes:
+    return ("\n".join(";".join(["20.5"] * width) for _ in range(height)) + "\n").encode()
+
+
+@pytest.mark.parametrize(
+    "name, data, shape_text",
+    [
+        ("strip.csv", _csv_of(2, 2000), "2000×2"),
+        ("strip.csv", _csv_of(2000, 2), "2×2000"),
+        ("strip.npy", _npy_of(np.zeros((2, 4000))), "4000×2"),
+        ("strip.tif", tiff_bytes(np.zeros((4000, 2), np.float32)), "2×4000"),
+    ],
+)
+def test_read_temperatures_refuses_a_shape_beyond_the_aspect_limit(name, data, shape_text):
+    """A 12 kB CSV of 2 × 2000 values is refused by its shape, saying the limit."""
+    with pytest.raises(ThermogramFormatError) as caught:
+        read_temperatures(data, name)
+    message = str(caught.value)
+    assert shape_text in message and f"at most {MAX_ASPECT_RATIO:g} times" in message
+
+
+def test_read_temperatures_accepts_a_shape_at_the_aspect_limit():
+    """Exactly MAX_ASPECT_RATIO : 1 is accepted, both ways round."""
+    width = int(MAX_ASPECT_RATIO) * 3
+    assert read_temperatures(_npy_of(np.zeros((3, width))), "wide.npy").shape == (3, width)
+    assert read_temperatures(_csv_of(width, 3), "tall.csv").shape == (width, 3)
+
+
+@pytest.mark.parametrize(
+    "name, data, size",
+    [
+        ("a.csv", _csv_of(4, 7), (7, 4)),
+        ("a.csv", b"t in C\n" + _csv_of(4, 7), (7, 4)),
+        ("a.npy", _npy_of(np.zeros((5, 9))), (9, 5)),
+        ("a.tif", tiff_bytes(np.zeros((6, 11), np.float32)), (11, 6)),
+        ("a.png", png_bytes(np.zeros((8, 13), np.uint16)), (13, 8)),
+    ],
+)
+def test_declared_size_reads_the_size_without_decoding(name, data, size):
+    """Width and height from the header (or the rows and cells of a text)."""
+    assert declared_size(data, name) == size
+
+
+def test_declared_size_refuses_what_the_decoder_would_refuse():
+    """An oversized header or an extreme shape is refused before the file is stored."""
+    bomb = png_bytes(np.zeros((2, 2), np.uint16))
+    bomb = bomb[:16] + struct.pack(">II", 30000, 30000) + bomb[24:]
+    with pytest.raises(ThermogramFormatError, match="megapixels"):
+        declared_size(bomb, "bomb.png")
+    with pytest.raises(ThermogramFormatError, match="times as wide"):
+        declared_size(_csv_of(2, 2000), "strip.csv")
+    assert declared_size(b"\x00\x01", "x.bin") is None  # the decoder says why later
+
+
+def test_read_temperatures_says_a_damaged_npy_header_without_internals():
+    """A header holding a call, not a literal, once answered "<ast.Call object at 0x…>"."""
+    header = b"{'descr': '<f4', 'fortran_order': False, 'shape': (2, 2), 'x': f(), }"
+    header += b" " * (63 - len(header) % 64) + b"\n"
+    data = b"\x93NUMPY\x01\x00" + len(header).to_bytes(2, "little") + header + bytes(16)
+    with pytest.raises(ThermogramFormatError) as caught:
+        read_temperatures(data, "hostile.npy")
+    message = str(caught.value)
+    assert message == "hostile.npy has a damaged .npy header."
+    assert "0x" not in message and "ast" not in message
+
+
+def test_read_temperatures_says_an_unreadable_picture_without_internals():
+    """Pillow names its BytesIO object in its own message; ours does not."""
+    with pytest.raises(ThermogramFormatError) as caught:
+        read_temperatures(b"\x89PNG\r\n\x1a\n" + b"\x00" * 40, "broken.png")
+    assert " at 0x" not in str(caught.value) and "broken.png" in str(caught.value)
+
+
+@pytest.mark.parametrize(
+    "size, limit, expected",
+    [
+        (1_258_292, 1_048_576, ("1.2 MB", "1.0 MB")),
+        (1_048_577, 1_048_576, ("1,048,577 bytes", "1,048,576 bytes")),
+        (209_715_200 + 50_000, 209_715_200, ("200.048 MB", "200.000 MB")),
+    ],
+)
+def test_size_comparison_prints_both_in_the_same_unit(size, limit, expected):
+    """Never "209.7 MB; the limit is 210 MB": one unit (MB of 1 048 576 bytes), one rounding,
+    and more digits when one decimal would print a larger file as large as the limit."""
+    assert size_comparison(size, limit) == expected

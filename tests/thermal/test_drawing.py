@@ -9,6 +9,8 @@ from PIL import Image
 from survey.thermal.drawing import (
     ISOTHERM_COLOUR,
     MARK_COLOUR,
+    MAX_PICTURE_SIDE_PX,
+    MIN_SCALE_BAR_PX,
     apply_overlay,
     condensation_masks,
     encode_png,
@@ -131,3 +133,38 @@ def test_condensation_masks_leave_a_pixel_above_the_formula_range_out():
     mould, wet = condensation_masks(np.array([150.0, 20.0, 5.0]), 20.0, 50.0)
     assert mould.tolist() == [False, False, True]
     assert wet.tolist() == [False, False, True]
+
+
+# --- extreme shapes: every drawn picture is bounded in both directions ---------------------
+
+
+def test_render_picture_fits_a_tall_narrow_thermogram_under_its_height_limit():
+    """A 2-pixel-wide strip would be drawn a hundred thousand pixels tall at full width:
+    it is drawn narrower instead, in white space, within the size asked for."""
+    tall = np.linspace(10.0, 30.0, 400, dtype=np.float32)[:, None].repeat(2, axis=1)
+    marks = [{"kind": "line", "points": [[0, 0], [1, 399]], "label": "A"}]
+    image = render_picture(tall, marks=marks, width_px=680, max_height_px=880)
+    assert image.width == 680 and image.height <= 880
+    # The strip is drawn in the middle of the picture's area: its top row is its coldest,
+    # its bottom row its warmest, and both are drawn.
+    middle = (680 - 95) // 2  # 95 px: the scale bar's share, 14 % of 680
+    assert image.getpixel((middle, 0)) != image.getpixel((middle, image.height - 1))
+    assert image.getpixel((0, image.height // 2)) == (255, 255, 255)
+
+
+def test_render_picture_bounds_the_height_by_default():
+    """Without a height limit the picture still stays within MAX_PICTURE_SIDE_PX."""
+    tall = np.full((400, 2), 20.0, dtype=np.float32)
+    image = render_picture(tall, width_px=680)
+    assert image.width <= 680 and image.height <= MAX_PICTURE_SIDE_PX
+
+
+def test_render_picture_draws_a_scale_bar_beside_a_wide_flat_thermogram():
+    """A 4000 × 2 strip is two pixels tall at print width: the scale bar keeps a readable
+    height (the picture sits at the top of a white box as tall as the bar)."""
+    wide = np.linspace(10.0, 30.0, 4000, dtype=np.float32)[None, :].repeat(2, axis=0)
+    marks = [{"kind": "point", "points": [[2000, 1]], "label": "A"}]
+    image = render_picture(wide, marks=marks, width_px=680, max_height_px=880)
+    assert image.width == 680 and MIN_SCALE_BAR_PX <= image.height <= 880
+    with pytest.raises(ValueError, match="at most"):
+        render_picture(wide, width_px=MAX_PICTURE_SIDE_PX + 1)

@@ -32,7 +32,7 @@ class Command(BaseCommand):
         if not path.is_file():
             raise CommandError(f"No file {path}.")
         try:
-            survey = survey_import(data=path.read_bytes(), organization=target, user=importer)
+            survey = survey_import(data=path, organization=target, user=importer)
         except ValidationError as error:
             raise CommandError(f"Nothing was imported: {' '.join(error.messages)}") from None
         survey.refresh_from_db()

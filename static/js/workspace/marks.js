@@ -54,7 +54,10 @@ export function createMark(kind, points) {
 // screen before it is saved); without it they are read from the mark.
 export function updateMark(mark, changes, message, before) {
   var old = before || fieldsOf(mark, changes);
-  return api("PATCH", mark.url, changes).then(function (updated) {
+  // The version read with the mark: a change someone else made meanwhile answers 409.
+  var body = Object.assign({ version: mark.version }, changes);
+  return api("PATCH", mark.url, body).then(function (updated) {
+    mark.version = updated.version;
     record({ type: "change", markId: updated.id, label: updated.label, before: old, after: changes });
     status(message || ("Mark " + updated.label + " saved."));
     return refreshTable();

@@ -64,7 +64,7 @@ def test_it_makes_up_a_temporary_password_and_shows_it_once(owner_client):
     [
         ({"password": "password1"}, "password", "too common"),
         ({"password": "wren"}, "password", "too short"),
-        ({"username": "theo"}, "username", "already exists"),
+        ({"username": "theo"}, "username", "cannot be added"),
         ({"username": "no spaces please"}, "username", "valid username"),
         ({"email": "wren@"}, "email", "valid email"),
         ({"role": "superuser"}, "role", "valid choice"),
@@ -181,3 +181,15 @@ def test_it_answers_404_to_an_outsider_for_another_firms_member(outsider_client,
     thermographer.user.refresh_from_db()
     assert thermographer.role == "thermographer" and thermographer.user.is_active
     assert not AuditEvent.objects.filter(action__startswith="member.").exists()
+
+
+@pytest.mark.parametrize("username", ["otto", "OTTO", "theo"])
+def test_it_never_says_whether_a_user_name_exists_elsewhere(
+    owner_client, thermographer, outsider, username
+):
+    """A name taken in another firm (or in any case) gets the same answer as one taken here,
+    and the answer does not say it exists."""
+    response = add(owner_client, username=username)
+    errors = response.context["form"].errors["username"]
+    assert errors == ["This user name cannot be added. Choose another one."]
+    assert "exists" not in response.content.decode()
