@@ -92,7 +92,8 @@ def test_it_schedules_both_jobs_on_beat():
     assert {"survey.tasks.purge_deleted_surveys", "reports.tasks.expire_share_links"} <= tasks
     for entry in schedule.values():
         assert entry["task"] in app.tasks
-        assert entry["schedule"] == django_settings.PERIODIC_JOB_INTERVAL_SECONDS
+    for key in ("purge-deleted-surveys", "expire-share-links"):
+        assert schedule[key]["schedule"] == django_settings.PERIODIC_JOB_INTERVAL_SECONDS
 
 
 @pytest.mark.services

@@ -50,11 +50,15 @@ def test_it_keeps_a_draft_and_an_issue_waiting_while_the_broker_is_down(
         draft = client.post(reverse("reports:draft", args=[report.pk]), follow=True)
         assert draft.status_code == 200
         assert "cannot be reached just now" in _messages(draft)
-        issue = client.post(reverse("reports:issue", args=[report.pk]), follow=True)
+        issue = client.post(
+            reverse("reports:issue", args=[report.pk]), {"confirm": "on"}, follow=True
+        )
         assert issue.status_code == 200
         assert "cannot be reached just now" in _messages(issue)
         # Issuing again while the first one waits is not refused as "being issued already".
-        again = client.post(reverse("reports:issue", args=[report.pk]), follow=True)
+        again = client.post(
+            reverse("reports:issue", args=[report.pk]), {"confirm": "on"}, follow=True
+        )
         assert "being issued already" not in _messages(again)
         versions = list(report.versions.order_by("pk"))
         assert [(v.is_draft, v.status, v.waiting_for_broker) for v in versions] == [
