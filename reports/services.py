@@ -233,9 +233,9 @@ def report_issue_check(*, report: Report, user: AbstractBaseUser, change_note: s
     member = _require_reviewer(user, report.organization)
     independent = self_review_check(report, member)
     finals = report.versions.filter(is_draft=False)
-    if finals.filter(
-        status__in=[ReportVersion.Status.QUEUED, ReportVersion.Status.RENDERING]
-    ).exists():
+    unfinished = finals.filter(status__in=UNFINISHED).first()
+    # One waiting for the broker is sent again by issuing; only a live one refuses.
+    if unfinished is not None and not version_needs_sending(unfinished):
         raise ValidationError("A version of this report is being issued already.")
     if finals.filter(status=ReportVersion.Status.ISSUED).exists() and not change_note.strip():
         raise ValidationError("Say what this corrected version changes (the change note).")

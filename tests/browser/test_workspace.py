@@ -95,6 +95,9 @@ def open_workspace(browser, live_server, member, thermogram):
     browser.add_cookie(
         {"name": "sessionid", "value": client.cookies["sessionid"].value, "path": "/"}
     )
+    # A request the previous test's page sent as it unloaded (after its cookies were gone) is
+    # that page's business: start this page with an empty console log.
+    browser.get_log("browser")
     browser.get(live_server.url + reverse("survey:thermogram", args=[thermogram.pk]))
     wait_for(
         lambda: browser.execute_script(

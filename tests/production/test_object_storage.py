@@ -121,7 +121,8 @@ def test_it_keeps_every_file_in_the_bucket_from_upload_to_issued_report(
 
         assert browser.post(f"/reports/survey/{envelope_survey.pk}/create/").status_code == 302
         report = Report.objects.get(survey=envelope_survey)
-        assert browser.post(f"/reports/{report.pk}/issue/", {"change_note": ""}).status_code == 302
+        issued = browser.post(f"/reports/{report.pk}/issue/", {"change_note": "", "confirm": "on"})
+        assert issued.status_code == 302, issued.text[:500]
         version = ReportVersion.objects.get(report=report, is_draft=False)
         wait_until(
             lambda: (

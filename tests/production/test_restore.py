@@ -28,18 +28,30 @@ from tests.workers import test_database_url
 READ_BACK = """
 import json, django
 django.setup()
-from reports.archive import archive_thermogram_check, read_manifest
+from reports.archive import _opened, _read_manifest
 from reports.models import ReportVersion
 from reports.results import survey_results
 from survey.models import Survey
 survey = Survey.objects.get()
-manifest = read_manifest(open(ARCHIVE, "rb").read())
+with _opened(ARCHIVE) as archive:
+    manifest = _read_manifest(archive)
+by_sequence = {t.sequence: t for t in survey.thermograms.all()}
+problems = []
+# Each thermogram's values rebuilt from its original must equal those the archive recorded.
+for entry in manifest.get("thermograms", []):
+    thermogram = by_sequence.get(entry.get("sequence"))
+    if thermogram is None:
+        problems.append(f"thermogram {entry.get('original_name')} is missing")
+        continue
+    for name, value in (entry.get("derived") or {}).items():
+        if getattr(thermogram, name) != value:
+            problems.append(f"{thermogram}: {name} {getattr(thermogram, name)} != {value}")
 print(json.dumps({
     "thermograms": sorted(
         [t.original_name, t.status, t.width, t.height, t.min_c, t.max_c, t.original_sha256]
         for t in survey.thermograms.all()
     ),
-    "problems": archive_thermogram_check(survey, manifest),
+    "problems": problems,
     "pdfs": sorted(v.sha256 for v in ReportVersion.objects.filter(status="issued")),
     "results": survey_results(survey)["thermograms"],
 }, default=str))
