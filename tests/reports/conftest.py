@@ -206,22 +206,27 @@ def hand_built_render(django_db_setup, django_db_blocker, tmp_path_factory) -> R
     return render_hand_built(django_db_blocker, media, drafts=(False,))[False]
 
 
-@pytest.fixture
-def issued_version(report_survey, reviewer, hand_built_render):
-    """An issued version of this test's report survey whose file is the module's one render.
+def issue_with_render(survey: Survey, reviewer, rendered: Rendered):
+    """Issue a report of `survey` for real, with `rendered` as its file.
 
-    The issuing service runs for real; its render task, queued on commit, never runs (the
-    test's transaction is rolled back), and the render store of the task keeps the shared
-    bytes instead, with their sha256 and page count.
+    The issuing service runs; its render task, queued on commit, never runs (the test's
+    transaction is rolled back), and the task's own store step keeps the shared bytes,
+    with their sha256 and page count, as the issued file.
     """
     from reports import rendering
     from reports.models import ReportVersion
     from reports.services import report_create, report_issue
 
-    report = report_create(survey=report_survey, user=reviewer.user)
+    report = report_create(survey=survey, user=reviewer.user)
     version = report_issue(report=report, user=reviewer.user)
     ReportVersion.objects.filter(pk=version.pk).update(status=ReportVersion.Status.RENDERING)
     version.refresh_from_db()
-    assert rendering._store_pdf(version, hand_built_render)
+    assert rendering._store_pdf(version, rendered)
     version.refresh_from_db()
     return version
+
+
+@pytest.fixture
+def issued_version(report_survey, reviewer, hand_built_render):
+    """An issued version of this test's report survey whose file is the module's one render."""
+    return issue_with_render(report_survey, reviewer, hand_built_render)
