@@ -277,9 +277,7 @@ def test_it_lets_only_admins_copy_and_edit_tables(setup, thermographer_client, c
     )
     assert response.status_code == 302
     table.refresh_from_db()
-    assert table.rows == [
-        {"label": "", "lower": 1.0, "upper": 3.1, "level": 4, "action": "Watch."}
-    ]
+    assert table.rows == [{"label": "", "lower": 1.0, "upper": 3.1, "level": 4, "action": "Watch."}]
 
 
 def test_it_suggests_at_once_when_marks_come_ticked(setup, thermographer_client):
