@@ -15,7 +15,7 @@ import math
 from dataclasses import dataclass
 
 from survey.thermal import classify_rise
-from survey.thermal.bands import band_index, check_bands
+from survey.thermal.bands import NO_LOWER_LIMIT, band_index, check_bands
 
 FINDING_CATEGORIES: dict[str, list[tuple[str, str]]] = {
     "envelope": [
@@ -189,9 +189,15 @@ def row_text(row: dict | None, unit: str = "") -> str:
 
 
 def no_finding_below(rows: list[dict]) -> float | None:
-    """The lower bound of the lowest band: below it a table gives no level."""
+    """The lower bound of the lowest band: below it a table gives no level.
+
+    None when the table has no band or its lowest band takes every value
+    (``lower`` at or below survey.thermal.bands.NO_LOWER_LIMIT).
+    """
     bounds = [row["lower"] for row in rows if _is_number(row.get("lower"))]
-    return min(bounds) if bounds else None
+    if not bounds or min(bounds) <= NO_LOWER_LIMIT:
+        return None
+    return min(bounds)
 
 
 def _is_number(value) -> bool:

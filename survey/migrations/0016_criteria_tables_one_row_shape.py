@@ -20,7 +20,8 @@ from django.db import migrations
 RISE_KEYS = ("electrical-similar", "electrical-ambient")
 
 #: The first row of an old rise table took every smaller rise, negative ones included: as
-#: a band it starts below any rise a reading can give.
+#: a band it starts below any rise a reading can give (survey.thermal.bands.NO_LOWER_LIMIT,
+#: frozen here).
 FLOOR = -1000.0
 
 # The shipped texts as of this migration (frozen here: later edits to the code's defaults

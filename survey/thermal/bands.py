@@ -18,6 +18,10 @@ import math
 ROW_KEYS = ("label", "lower", "upper", "level", "action")
 LEVELS = (1, 2, 3, 4)
 
+#: A band whose ``lower`` is at or below this takes every value a reading can give (JSON
+#: has no −∞); tables converted from rows read in order start their first band here.
+NO_LOWER_LIMIT = -1000.0
+
 
 def band_index(value, rows) -> int | None:
     """Position of the row whose band ``lower <= value < upper`` holds `value`.

@@ -16,6 +16,7 @@ from django.apps import apps
 from survey import severity
 from survey.models import CriteriaTable
 from survey.services.criteria_tables import default_tables
+from survey.thermal.bands import NO_LOWER_LIMIT
 from survey.thermal.electrical import DEFAULT_CRITERIA, classify_rise
 
 migration = importlib.import_module("survey.migrations.0016_criteria_tables_one_row_shape")
@@ -108,13 +109,17 @@ def test_converted_old_rows_classify_as_before_and_convert_back(rows):
 
 
 def test_converted_odd_rows_keep_the_limit_between_tenths():
-    """ "Up to 8.05" takes 8.0 but not 8.1: the band ends below 8.1."""
+    """A limit "up to 8.05" takes 8.0 but not 8.1: the band ends below 8.1."""
     bands = migration.bands_from_rise_rows(ODD_OLD_ROWS)
     assert [(b["lower"], b["upper"], b["level"]) for b in bands] == [
         (migration.FLOOR, 2.1, 4),
         (5.0, 8.1, 3),
         (8.1, 12.1, 1),
     ]
+    # Its first band takes every rise: no "no finding below" line on the trend chart.
+    assert migration.FLOOR == NO_LOWER_LIMIT
+    assert severity.no_finding_below(bands) is None
+    assert severity.no_finding_below(DEFAULT_CRITERIA["similar"]["rows"]) == 1.0
 
 
 @pytest.mark.parametrize("table", [severity.ENVELOPE_TABLE, severity.ROOF_TABLE])
