@@ -179,3 +179,19 @@ def test_it_has_no_import_cycles():
         if name not in state:
             visit(name, [name])
     assert cycles == []
+
+
+@pytest.mark.parametrize("name", ["survey.judgement", "survey.severity"])
+def test_it_keeps_the_judgement_rules_pure(name):
+    """The rules and tables read no database: they import only each other, the physics
+    (where the one criteria-table lookup lives, survey.thermal.bands) and the standard
+    library."""
+    crossings = [
+        f"{name} imports {imported}"
+        for imported in _imports(name)
+        if not _in(imported, "survey.thermal")
+        and imported not in ("survey.judgement", "survey.severity")
+        and imported.split(".")[0] not in sys.stdlib_module_names
+        and imported != "__future__"
+    ]
+    assert name in MODULES and crossings == []

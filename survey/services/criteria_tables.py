@@ -24,12 +24,9 @@ def default_tables() -> dict[str, dict]:
 def validate_table_rows(*, key: str, rows) -> list:
     """Check the rows of the table `key`; ValidationError with a readable message.
 
-    Rise tables use the shape of survey.thermal.electrical.DEFAULT_CRITERIA; the building
-    tables the bands of survey.severity.
+    Every table has the one row shape of survey.thermal.bands (half-open bands).
     """
     try:
-        if key in severity.RISE_TABLE_KEYS:
-            return severity.validate_rise_rows(rows, severity.RISE_TABLE_KEYS[key])
         return severity.validate_rows(rows)
     except ValueError as error:
         raise ValidationError({"rows": str(error)}) from None

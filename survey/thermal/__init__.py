@@ -5,6 +5,7 @@ Units are in the parameter names (_c °C, _pct percent, _m metres, _mrad, _w_m2)
 """
 
 from survey.thermal.alignment import affine_from_pairs
+from survey.thermal.bands import band_index, check_bands, stepped_interval
 from survey.thermal.decision import (
     decide,
     decide_interval,
@@ -72,6 +73,8 @@ __all__ = [
     "affine_from_pairs",
     "apparent_temperature",
     "auto_span",
+    "band_index",
+    "check_bands",
     "widen_span",
     "classify_rise",
     "condensation_margin_k",
@@ -88,6 +91,7 @@ __all__ = [
     "held_difference",
     "invert_palette",
     "like_component_rise_c",
+    "stepped_interval",
     "load_corrected_rise",
     "load_is_too_low",
     "mark_statistics",

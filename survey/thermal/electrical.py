@@ -9,6 +9,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from survey.thermal import _checks
+from survey.thermal.bands import band_index, check_bands, stepped_interval
 
 #: Below this load a rise does not rank reliably: inspect at 40 % of normal load or more
 #: [NFPA70B].
@@ -32,27 +33,42 @@ RISE_METHODS = {
 }
 
 #: The default severity tables, one per basis, as plain data an organization can copy and
-#: edit (the shape of ``CriteriaTable.rows``). The temperature bands follow the
-#: thermographic survey table of the NETA Maintenance Testing Specifications [NETA-MTS]
-#: as RECALLED FROM MEMORY (``"confidence": "memory"``; check them against a copy of the
-#: specification before relying on them). The action texts are our own words, not the
-#: specification's. ``name`` and ``source`` are shown to clients and carry no internal
-#: notes.
+#: edit: the one row shape of every criteria table (:mod:`survey.thermal.bands`). The
+#: temperature bands follow Table 100.18 (thermographic survey) of the ANSI/NETA
+#: Maintenance Testing Specifications [NETA-MTS] as RECALLED FROM MEMORY (``"confidence":
+#: "memory"``; check them against a copy of the specification before relying on them).
+#: The action texts are ours: what to do and by when, in plain words. ``name``, ``source``,
+#: labels and actions are shown to clients and carry no internal notes.
 #:
-#: Reading the rows: they are taken in order; a row with ``below_c`` matches a rise below
-#: that value; a row with ``up_to_c`` matches a rise up to and including that value (and
-#: above the previous row's limit); the last row, with neither, matches everything above.
-#: Rises are rounded to 0.1 K first (:func:`round_rise_c`), so the integer bands of the
-#: specification become [1.0, 3.0], [3.1, 15.0], ≥ 15.1 K for ``similar`` and
-#: [1.0, 10.0], [10.1, 20.0], [20.1, 40.0], ≥ 40.1 K for ``ambient``.
-_WATCH = "A fault may be starting: look into it at the next planned visit."
-_PLAN = "A fault is likely: plan the repair for the next convenient outage."
-_SOON = "Keep it under watch and correct it at the first outage that allows."
-_NOW = "Serious fault: arrange the repair at once."
-_SOURCE = (
-    "Temperature bands of the thermographic survey table of the ANSI/NETA Maintenance "
-    "Testing Specifications; suggested actions in our own words."
+#: Rises are rounded to 0.1 K first (:func:`round_rise_c`), so the specification's integer
+#: bands "1 to 3", "over 3 to 15", "over 15" are written [1.0, 3.1), [3.1, 15.1),
+#: [15.1, ∞) for ``similar``, and [1.0, 10.1), [10.1, 20.1), [20.1, 40.1), [40.1, ∞) for
+#: ``ambient``. Below 1 K no band applies: no finding.
+_WATCH = (
+    "Note it and measure it again at the next routine inspection; no work is needed "
+    "before then unless it gets warmer."
 )
+_PLAN = (
+    "Book the repair for the next planned shutdown, and measure it again at each "
+    "inspection until it is done."
+)
+_SOON = (
+    "Arrange the repair within weeks, not months; lighten the load if you can and keep "
+    "checking it until the work is done."
+)
+_NOW = (
+    "Make it safe today: take the load off or isolate it, and have it repaired before it "
+    "goes back into normal service."
+)
+_SOURCE = (
+    "Temperature bands of Table 100.18 (thermographic survey) of the ANSI/NETA "
+    "Maintenance Testing Specifications (NETA MTS)."
+)
+
+
+def _band(label: str, lower: float, upper: float | None, level: int, action: str) -> dict:
+    return {"label": label, "lower": lower, "upper": upper, "level": level, "action": action}
+
 
 DEFAULT_CRITERIA = {
     "similar": {
@@ -61,10 +77,9 @@ DEFAULT_CRITERIA = {
         "source": _SOURCE,
         "confidence": "memory",
         "rows": [
-            {"label": "below 1 °C", "below_c": 1.0, "level": None, "action": "No finding."},
-            {"label": "1 to 3 °C", "up_to_c": 3.0, "level": 4, "action": _WATCH},
-            {"label": "over 3 to 15 °C", "up_to_c": 15.0, "level": 3, "action": _PLAN},
-            {"label": "over 15 °C", "level": 1, "action": _NOW},
+            _band("1 to 3 °C", 1.0, 3.1, 4, _WATCH),
+            _band("over 3 to 15 °C", 3.1, 15.1, 3, _PLAN),
+            _band("over 15 °C", 15.1, None, 1, _NOW),
         ],
     },
     "ambient": {
@@ -73,11 +88,10 @@ DEFAULT_CRITERIA = {
         "source": _SOURCE,
         "confidence": "memory",
         "rows": [
-            {"label": "below 1 °C", "below_c": 1.0, "level": None, "action": "No finding."},
-            {"label": "1 to 10 °C", "up_to_c": 10.0, "level": 4, "action": _WATCH},
-            {"label": "over 10 to 20 °C", "up_to_c": 20.0, "level": 3, "action": _PLAN},
-            {"label": "over 20 to 40 °C", "up_to_c": 40.0, "level": 2, "action": _SOON},
-            {"label": "over 40 °C", "level": 1, "action": _NOW},
+            _band("1 to 10 °C", 1.0, 10.1, 4, _WATCH),
+            _band("over 10 to 20 °C", 10.1, 20.1, 3, _PLAN),
+            _band("over 20 to 40 °C", 20.1, 40.1, 2, _SOON),
+            _band("over 40 °C", 40.1, None, 1, _NOW),
         ],
     },
 }
@@ -94,7 +108,8 @@ class RiseClassification:
     action : str
         The row's action text.
     row : str
-        The row's label, e.g. ``"over 3 to 15 °C"``.
+        The row's label, e.g. ``"over 3 to 15 °C"``; ``"no finding"`` when no band holds
+        the rise.
     basis : str
         ``"similar"`` or ``"ambient"``.
     table : str
@@ -103,9 +118,10 @@ class RiseClassification:
         The rise as classified and as it must be printed: rounded to 0.1 K by
         :func:`round_rise_c`.
     row_index : int
-        Position of the matched row in the table's ``rows`` (0-based).
+        Position of the matched row in the table's ``rows`` (0-based); −1 for no finding.
     interval : str
-        The matched row's limits in numbers, e.g. ``"over 3 to 15 K"``.
+        The matched band's limits in numbers, e.g. ``"over 3 to 15 K"``, or the stretch
+        of no finding it fell in, e.g. ``"below 1 K"``.
     """
 
     level: int | None
@@ -324,8 +340,9 @@ def classify_rise(rise_c, basis, *, table=None):
     -----
     The rise is classified at the resolution it is shown, so the printed number and the
     band always agree: 4.4 − 1.4 is 3.0 K (in the band up to 3), 1.4 − 0.4 is 1.0 K (from
-    1 up). Rows are read in order as documented at :data:`DEFAULT_CRITERIA`; the default
-    bands are recalled from memory of the NETA thermographic survey table [NETA-MTS].
+    1 up). The bands are read by :func:`survey.thermal.bands.band_index`, the lookup of
+    every criteria table; the default bands are recalled from memory of the NETA
+    thermographic survey table [NETA-MTS].
 
     Examples
     --------
@@ -341,46 +358,35 @@ def classify_rise(rise_c, basis, *, table=None):
     shown = round_rise_c(float(rise))
     basis = _checks.choice(basis, "basis", BASES)
     chosen = _basis_table(DEFAULT_CRITERIA if table is None else table, basis)
-    previous = None
-    for index, row in enumerate(chosen["rows"]):
-        if "below_c" in row:
-            matches = shown < row["below_c"]
-        elif "up_to_c" in row:
-            matches = shown <= row["up_to_c"]
-        else:
-            matches = True
-        if matches:
-            return RiseClassification(
-                level=row["level"],
-                action=row["action"],
-                row=row["label"],
-                basis=basis,
-                table=chosen["name"],
-                rise_c=shown,
-                row_index=index,
-                interval=_interval(row, previous),
-            )
-        previous = row
-    raise ValueError("table must end with a row without a limit (it matched no row).")
+    rows = chosen["rows"]
+    index = band_index(shown, rows)
+    common = {"basis": basis, "table": chosen["name"], "rise_c": shown}
+    if index is None:
+        lower, upper = _gap_around(shown, rows)
+        return RiseClassification(
+            level=None,
+            action="No finding.",
+            row="no finding",
+            row_index=-1,
+            interval=stepped_interval(lower, upper, RISE_RESOLUTION_K, "K"),
+            **common,
+        )
+    row = rows[index]
+    return RiseClassification(
+        level=row["level"],
+        action=row["action"],
+        row=row["label"],
+        row_index=index,
+        interval=stepped_interval(row["lower"], row["upper"], RISE_RESOLUTION_K, "K"),
+        **common,
+    )
 
 
-def _interval(row: dict, previous: dict | None) -> str:
-    """A row's limits in numbers, read as documented at DEFAULT_CRITERIA."""
-    if "below_c" in row and previous is None:
-        return f"below {row['below_c']:g} K"
-    if previous is None:
-        start = ""
-    elif "below_c" in previous:
-        start = f"{previous['below_c']:g}"
-    else:
-        start = f"over {previous['up_to_c']:g}"
-    if "below_c" in row:
-        return f"{start} to below {row['below_c']:g} K".strip()
-    if "up_to_c" in row:
-        return f"{start} to {row['up_to_c']:g} K" if start else f"up to {row['up_to_c']:g} K"
-    if start.startswith("over"):
-        return f"{start} K"
-    return f"{start} K and above" if start else "any rise"
+def _gap_around(value: float, rows: list[dict]) -> tuple[float | None, float | None]:
+    """The limits of the stretch without a band that holds `value`."""
+    ends = [row["upper"] for row in rows if row["upper"] is not None and row["upper"] <= value]
+    starts = [row["lower"] for row in rows if row["lower"] > value]
+    return max(ends, default=None), min(starts, default=None)
 
 
 def _basis_table(table, basis: str) -> dict:
@@ -389,18 +395,13 @@ def _basis_table(table, basis: str) -> dict:
     chosen = table if "rows" in table else table.get(basis)
     if not isinstance(chosen, dict) or not isinstance(chosen.get("rows"), list):
         raise ValueError(f"table has no rows for basis {basis!r}.")
-    previous = -np.inf
-    for number, row in enumerate(chosen["rows"], start=1):
-        if not isinstance(row, dict) or not {"label", "level", "action"} <= row.keys():
-            raise ValueError(f"table row {number} needs 'label', 'level' and 'action'.")
-        if row["level"] not in (None, 1, 2, 3, 4):
-            raise ValueError(f"table row {number}: level must be 1, 2, 3, 4 or None.")
-        limit = row.get("below_c", row.get("up_to_c"))
-        if limit is not None:
-            if not isinstance(limit, int | float) or not limit > previous:
-                raise ValueError(f"table row {number}: limits must be numbers that rise.")
-            previous = limit
-    return {"name": str(chosen.get("name", "custom table")), "rows": chosen["rows"]}
+    try:
+        check_bands(chosen["rows"])
+    except ValueError as error:
+        raise ValueError(f"table: {error}") from None
+    # The caller's order is kept, so that row_index points into the rows it holds.
+    rows = [{"label": "", "upper": None} | row for row in chosen["rows"]]
+    return {"name": str(chosen.get("name", "custom table")), "rows": rows}
 
 
 def default_criteria() -> dict:

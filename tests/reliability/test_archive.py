@@ -23,7 +23,6 @@ from PIL import Image
 from reports.archive import survey_export, survey_import
 from reports.models import Report, ReportVersion
 from reports.results import survey_results
-from reports.services import report_create, report_issue
 from survey.models import (
     AuditEvent,
     Finding,
@@ -37,6 +36,7 @@ from survey.services.findings import finding_changes, finding_create, finding_su
 from survey.services.ingest import thermogram_ingest
 from survey.services.marks import mark_add
 from tests.factories import make_thermogram, synthetic_field
+from tests.reports.conftest import issue_with_render, render_hand_built
 from tests.survey.findings_data import equipment_survey, hot_and_reference
 
 
@@ -46,9 +46,19 @@ def _png() -> bytes:
     return buffer.getvalue()
 
 
+@pytest.fixture(scope="module")
+def report_file(django_db_setup, django_db_blocker, tmp_path_factory):
+    """A real issued report, rendered once for the module (the archive carries its bytes)."""
+    media = str(tmp_path_factory.mktemp("media"))
+    return render_hand_built(django_db_blocker, media, drafts=(False,))[False]
+
+
 @pytest.fixture
-def full_survey(envelope_survey, reviewer, thermographer, django_capture_on_commit_callbacks):
-    """A survey with two thermograms (one a °F CSV), marks, a finding, an estimate, a report."""
+def full_survey(
+    envelope_survey, reviewer, thermographer, report_file, django_capture_on_commit_callbacks
+):
+    """A survey with two thermograms (one a °F CSV), marks, a finding, an estimate, and an
+    issued report whose file is the module's one real render."""
     survey = envelope_survey
     survey.title = "Harbour Lane block C, winter visit"
     survey.instrument = "Invented LW-320, serial 0001"
@@ -106,10 +116,7 @@ def full_survey(envelope_survey, reviewer, thermographer, django_capture_on_comm
         inputs={"area_m2": 0.4, "t_surface_c": 31.0, "t_air_c": 20.0},
         results={"total_w_m2": 75.0, "watts": 30.0},
     )
-    report = report_create(survey=survey, user=reviewer.user)
-    with django_capture_on_commit_callbacks(execute=True):
-        version = report_issue(report=report, user=reviewer.user)
-    version.refresh_from_db()
+    version = issue_with_render(survey, reviewer, report_file)
     assert version.status == ReportVersion.Status.ISSUED, version.error
     return survey
 

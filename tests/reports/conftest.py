@@ -2,14 +2,26 @@
 
 The envelope thermogram is a flat 18.0 °C field (apparent) with a 6 × 6 pixel patch at
 12.0 °C; mark A is a point in the patch, B a rectangle on the sound wall and A's reference.
+
+WeasyPrint takes most of a report test's time, so each module renders the hand-built
+survey once (:func:`hand_built_render`, real WeasyPrint) and shares the bytes, the text and
+the pypdf reader: :func:`issued_version` stores that one render as the issued file of each
+test's own report. Tests of the render itself (claiming, freezing, failures) use
+:func:`freshly_issued_version`, which renders for the test.
 """
 
+import dataclasses
 import datetime
+import functools
+import io
+from types import SimpleNamespace
 
 import numpy as np
 import pytest
+from django.db import transaction
+from django.test import override_settings
 
-from survey.models import Asset, Finding, HeatLossEstimate, Survey
+from survey.models import Asset, Finding, HeatLossEstimate, Member, Survey
 from tests.factories import make_thermogram
 
 SOUND_C, COLD_C = 18.0, 12.0
@@ -121,7 +133,8 @@ def draft_version(report_survey, thermographer, django_capture_on_commit_callbac
 
 
 @pytest.fixture
-def issued_version(report_survey, reviewer, django_capture_on_commit_callbacks):
+def freshly_issued_version(report_survey, reviewer, django_capture_on_commit_callbacks):
+    """An issued version rendered for this test by the render task (eager on commit)."""
     from reports.services import report_create, report_issue
 
     report = report_create(survey=report_survey, user=reviewer.user)
@@ -129,3 +142,91 @@ def issued_version(report_survey, reviewer, django_capture_on_commit_callbacks):
         version = report_issue(report=report, user=reviewer.user)
     version.refresh_from_db()
     return version
+
+
+class Rendered(SimpleNamespace):
+    """A render shared by a module: the PDF bytes, its text and its pypdf reader, each
+    read once."""
+
+    @functools.cached_property
+    def text(self) -> str:
+        from tests.reports.helpers import pdf_text
+
+        return pdf_text(self.pdf)
+
+    @functools.cached_property
+    def cells(self) -> str:
+        from tests.reports.helpers import flat, pdf_text
+
+        return flat(pdf_text(self.pdf, layout=False))
+
+    @functools.cached_property
+    def reader(self):
+        from pypdf import PdfReader
+
+        return PdfReader(io.BytesIO(self.pdf))
+
+
+def render_hand_built(django_db_blocker, media: str, *, drafts: tuple[bool, ...]) -> dict:
+    """The hand-built survey rendered once per entry of `drafts` (True: a draft), in a
+    transaction rolled back afterwards, with the digest of its results."""
+    from reports.document import render_pdf
+    from reports.models import Report, ReportVersion
+    from reports.results import content_digest, survey_results
+    from tests.conftest import make_envelope_survey, make_organization, make_person, make_site
+
+    hasher = ["django.contrib.auth.hashers.MD5PasswordHasher"]
+    renders = {}
+    with (
+        django_db_blocker.unblock(),
+        override_settings(MEDIA_ROOT=media, PASSWORD_HASHERS=hasher),
+        transaction.atomic(),
+    ):
+        org = make_organization()
+        thermographer = make_person(org, "theo", Member.Role.THERMOGRAPHER, "Theo Thermographer")
+        reviewer = make_person(org, "rita", Member.Role.REVIEWER, "Rita Reviewer")
+        survey = make_envelope_survey(org, make_site(org), thermographer)
+        build_report_survey(survey, thermographer, reviewer)
+        for draft in drafts:
+            Report.objects.all().delete()
+            report = Report.objects.create(organization=org, survey=survey, number="R-T1")
+            version = ReportVersion.objects.create(
+                report=report, version=1, is_draft=draft, issued_by=None if draft else reviewer.user
+            )
+            renders[draft] = Rendered(**dataclasses.asdict(render_pdf(version)))
+        renders["digest"] = content_digest(survey_results(survey))
+        transaction.set_rollback(True)
+    return renders
+
+
+@pytest.fixture(scope="module")
+def hand_built_render(django_db_setup, django_db_blocker, tmp_path_factory) -> Rendered:
+    """The hand-built survey's issued version, rendered once for the whole module."""
+    media = str(tmp_path_factory.mktemp("media"))
+    return render_hand_built(django_db_blocker, media, drafts=(False,))[False]
+
+
+def issue_with_render(survey: Survey, reviewer, rendered: Rendered):
+    """Issue a report of `survey` for real, with `rendered` as its file.
+
+    The issuing service runs; its render task, queued on commit, never runs (the test's
+    transaction is rolled back), and the task's own store step keeps the shared bytes,
+    with their sha256 and page count, as the issued file.
+    """
+    from reports import rendering
+    from reports.models import ReportVersion
+    from reports.services import report_create, report_issue
+
+    report = report_create(survey=survey, user=reviewer.user)
+    version = report_issue(report=report, user=reviewer.user)
+    ReportVersion.objects.filter(pk=version.pk).update(status=ReportVersion.Status.RENDERING)
+    version.refresh_from_db()
+    assert rendering._store_pdf(version, rendered)
+    version.refresh_from_db()
+    return version
+
+
+@pytest.fixture
+def issued_version(report_survey, reviewer, hand_built_render):
+    """An issued version of this test's report survey whose file is the module's one render."""
+    return issue_with_render(report_survey, reviewer, hand_built_render)

@@ -1,30 +1,24 @@
 """The PDF read back: sections, numbers, cautions, page numbers, pictures and digests."""
 
-import io
 import re
 from types import SimpleNamespace
 
 import numpy as np
 import pytest
-from django.db import transaction
-from django.test import override_settings
-from pypdf import PdfReader
 
 from reports.document import render_pdf
 from reports.models import Report, ReportVersion
-from reports.results import content_digest, survey_results
-from survey.models import Conditions, Finding, Member, Survey
+from survey.models import Conditions, Finding, Survey
 from survey.services.findings import finding_create, finding_suggest
 from survey.services.marks import mark_add, mark_update
-from tests.conftest import make_envelope_survey, make_organization, make_person, make_site
 from tests.factories import make_thermogram
 from tests.reports.conftest import (
     COLD_C,
     EMISSIVITY,
     REFLECTED_C,
     SOUND_C,
-    build_report_survey,
     kind_survey,
+    render_hand_built,
 )
 from tests.reports.helpers import dew_point_c, flat, object_c, pdf_text, surface_rh_pct
 
@@ -42,23 +36,8 @@ def hand_built(django_db_setup, django_db_blocker, tmp_path_factory):
     """The hand-built survey rendered once for the whole module, as a draft and as an issued
     version, with the digest of its results; its rows are rolled back afterwards."""
     media = str(tmp_path_factory.mktemp("media"))
-    hasher = ["django.contrib.auth.hashers.MD5PasswordHasher"]
-    with (
-        django_db_blocker.unblock(),
-        override_settings(MEDIA_ROOT=media, PASSWORD_HASHERS=hasher),
-        transaction.atomic(),
-    ):
-        org = make_organization()
-        thermographer = make_person(org, "theo", Member.Role.THERMOGRAPHER, "Theo Thermographer")
-        reviewer = make_person(org, "rita", Member.Role.REVIEWER, "Rita Reviewer")
-        survey = make_envelope_survey(org, make_site(org), thermographer)
-        build_report_survey(survey, thermographer, reviewer)
-        draft = render(survey, draft=True)
-        Report.objects.all().delete()
-        final = render(survey, draft=False)
-        digest = content_digest(survey_results(survey))
-        transaction.set_rollback(True)
-    return SimpleNamespace(draft=draft, final=final, digest=digest)
+    renders = render_hand_built(django_db_blocker, media, drafts=(True, False))
+    return SimpleNamespace(draft=renders[True], final=renders[False], digest=renders["digest"])
 
 
 @pytest.fixture
@@ -68,7 +47,7 @@ def rendered(hand_built):
 
 def test_it_lays_out_cover_contents_header_and_page_numbers(rendered):
     """Cover facts; contents with the page each section starts on; header; "page n of N"."""
-    text = pdf_text(rendered.pdf)
+    text = rendered.text
     pages = text.split("\f")[: rendered.page_count]
     cover = flat(pages[0])
     for fact in [
@@ -97,7 +76,7 @@ def test_it_lays_out_cover_contents_header_and_page_numbers(rendered):
         assert match, f"{title} missing from the contents"
         page = int(match.group(1))
         assert title in pages[page - 1], f"{title} is not on page {page}"
-    reader = PdfReader(io.BytesIO(rendered.pdf))
+    reader = rendered.reader
     total = len(reader.pages)
     assert total == rendered.page_count
     for number, page in enumerate(reader.pages[1:], start=2):
@@ -113,7 +92,7 @@ def test_it_prints_the_corrected_numbers_of_a_hand_built_survey(rendered):
     corrected_sound = object_c(SOUND_C, EMISSIVITY, REFLECTED_C)
     dew = dew_point_c(20.0, 50.0)  # psychrolib, indoor air of the envelope_survey fixture
     rh = surface_rh_pct(20.0, 50.0, corrected_cold)
-    text = pdf_text(rendered.pdf)
+    text = rendered.text
     row = re.search(
         rf"^\s*B point\s+0\.93 /\s+12\.0 ·\s+{NUMBER}\s+{NUMBER}\s+{NUMBER}"
         rf"\s+{NUMBER}\s+(\d+) %\s+(\d\.\d\d) \((\d\.\d\d)\)\s*$",
@@ -132,7 +111,7 @@ def test_it_prints_the_corrected_numbers_of_a_hand_built_survey(rendered):
     assert float(factor) == pytest.approx((corrected_cold + 5.0) / 25.0, abs=0.006)
     assert float(needed) == pytest.approx(0.705, abs=0.006)
     flat_text = flat(text)
-    cells = flat(pdf_text(rendered.pdf, layout=False))
+    cells = rendered.cells
     assert "rise over mark A, hottest to hottest" in cells
     # 87 % with ±2.5 K: the interval reaches both 80 % and 100 % (ILAC-G8 guarded acceptance).
     assert "condensation cannot tell within the camera's accuracy" in cells
@@ -178,8 +157,8 @@ def test_it_prints_the_load_correction_of_an_electrical_survey(electrical_report
 
 def test_it_marks_drafts_and_issued_versions_differently(hand_built):
     """A draft says it is not issued; an issued version says its file is never changed."""
-    draft = flat(pdf_text(hand_built.draft.pdf))
-    final = flat(pdf_text(hand_built.final.pdf))
+    draft = flat(hand_built.draft.text)
+    final = flat(hand_built.final.text)
     assert "Draft, not issued" in draft and "Issued version" not in draft
     assert "Issued version" in final and "Draft, not issued" not in final
 
@@ -187,7 +166,7 @@ def test_it_marks_drafts_and_issued_versions_differently(hand_built):
 def test_it_embeds_print_size_jpegs_and_the_digest_of_the_survey_data(hand_built):
     """Pictures go in as JPEG of about 170 dpi of their printed width; the data digest too."""
     rendered = hand_built.draft
-    reader = PdfReader(io.BytesIO(rendered.pdf))
+    reader = rendered.reader
     widths = []
     for page in reader.pages:
         for image in page.images:
@@ -198,7 +177,7 @@ def test_it_embeds_print_size_jpegs_and_the_digest_of_the_survey_data(hand_built
     assert max(widths) <= 700
     expected = hand_built.digest
     assert rendered.content_sha256 == expected
-    assert expected in pdf_text(rendered.pdf).replace("\n", "")
+    assert expected in rendered.text.replace("\n", "")
 
 
 def test_it_reports_a_survey_without_conditions_or_thermograms(org, site, thermographer):

@@ -34,8 +34,9 @@ def test_it_refuses_a_second_report_for_one_survey(report_survey, thermographer)
         services.report_create(survey=report_survey, user=thermographer.user)
 
 
-def test_it_renders_a_requested_draft_with_its_file_digest(draft_version):
-    """The draft is rendered (eager Celery on commit), stored with sha256 and page count."""
+def test_it_renders_a_requested_draft_once_with_its_file_digest(draft_version):
+    """The draft is rendered (eager Celery on commit), stored with sha256 and page count; a
+    second delivery of the render task finds nothing to claim and changes nothing."""
     draft_version.refresh_from_db()
     assert draft_version.status == ReportVersion.Status.READY
     assert (draft_version.progress_pct, draft_version.stage) == (100, "Done")
@@ -43,11 +44,6 @@ def test_it_renders_a_requested_draft_with_its_file_digest(draft_version):
     assert data.startswith(b"%PDF")
     assert draft_version.sha256 == hashlib.sha256(data).hexdigest()
     assert draft_version.page_count >= 7
-
-
-def test_it_renders_a_version_only_once(draft_version):
-    """A second delivery of the render task finds nothing to claim and changes nothing."""
-    draft_version.refresh_from_db()
     before = (draft_version.pdf.name, draft_version.sha256)
     assert rendering.report_render(draft_version.pk) is False
     draft_version.refresh_from_db()
@@ -63,9 +59,10 @@ def test_it_lets_only_reviewers_issue(report_survey, thermographer):
 
 
 def test_it_freezes_an_issued_version(
-    issued_version, report_survey, reviewer, django_capture_on_commit_callbacks
+    freshly_issued_version, report_survey, reviewer, django_capture_on_commit_callbacks
 ):
     """Later edits, drafts and repeated renders never change the issued bytes or sha256."""
+    issued_version = freshly_issued_version
     assert issued_version.status == ReportVersion.Status.ISSUED
     assert (issued_version.version, issued_version.is_draft) == (1, False)
     data = issued_version.pdf.read()

@@ -99,7 +99,7 @@ def test_classify_value_uses_half_open_bands():
     assert severity.classify_value(100.0, rows)["level"] == 2
 
 
-def test_no_finding_below_reads_both_table_shapes():
+def test_no_finding_below_is_the_start_of_the_lowest_band():
     """The start of the first band: 1 K for the rise tables [memory, NETA MTS], 80 % RH."""
     from survey.thermal.electrical import DEFAULT_CRITERIA
 

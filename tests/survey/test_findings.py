@@ -134,7 +134,7 @@ def test_it_records_the_suggested_level_table_and_row(full_load_survey):
     assert finding.criteria_row == "over 3 to 15 °C"
     assert finding.corrected_rise_c == pytest.approx(10.0, abs=1e-3)
     assert list(finding.marks.all()) == [hot]
-    assert finding.recommendation == DEFAULT_CRITERIA["similar"]["rows"][2]["action"]
+    assert finding.recommendation == DEFAULT_CRITERIA["similar"]["rows"][1]["action"]
 
 
 def test_it_requires_a_reason_to_override_and_keeps_it(full_load_survey):
@@ -224,9 +224,8 @@ def test_it_judges_by_the_organizations_own_table_once_copied(full_load_survey, 
         organization=full_load_survey.organization, key="electrical-similar"
     )
     stricter = [
-        {"label": "below 1 °C", "below_c": 1.0, "level": None, "action": "No finding."},
-        {"label": "1 to 5 °C", "up_to_c": 5.0, "level": 3, "action": "Plan repair."},
-        {"label": "over 5 °C", "level": 1, "action": "Repair now."},
+        {"label": "1 to 5 °C", "lower": 1.0, "upper": 5.1, "level": 3, "action": "Plan repair."},
+        {"label": "over 5 °C", "lower": 5.1, "upper": None, "level": 1, "action": "Repair now."},
     ]
     criteria_table_update(table=table, user=owner.user, rows=stricter)
     _, hot, _ = hot_and_reference(full_load_survey, 20.0, 30.0)
@@ -236,14 +235,20 @@ def test_it_judges_by_the_organizations_own_table_once_copied(full_load_survey, 
 
 
 def test_it_refuses_malformed_table_rows(full_load_survey, owner):
-    """Rows whose last band has a limit are refused with a readable message."""
+    """Rows of another shape or with overlapping bands are refused with a readable message."""
     (table, *_) = criteria_table_copy_defaults(organization=full_load_survey.organization)
-    with pytest.raises(ValidationError, match="last row"):
+    with pytest.raises(ValidationError, match="unknown keys: up_to_c"):
         criteria_table_update(
             table=table,
             user=owner.user,
             rows=[{"label": "x", "up_to_c": 3.0, "level": 4, "action": "Watch."}],
         )
+    overlapping = [
+        {"lower": 1.0, "upper": 5.0, "level": 4, "action": "Watch."},
+        {"lower": 4.0, "upper": None, "level": 1, "action": "Repair now."},
+    ]
+    with pytest.raises(ValidationError, match="overlap"):
+        criteria_table_update(table=table, user=owner.user, rows=overlapping)
 
 
 # --- building envelope ---

@@ -207,7 +207,7 @@ def test_classify_rise_returns_action_row_basis_table_and_the_row_used():
     """The result names the action, the matched row, its limits, the basis and the table."""
     # Source: the (3, 15] row of the NETA similar-component table (bands from memory).
     result = classify_rise(7.46, "similar")
-    row = DEFAULT_CRITERIA["similar"]["rows"][2]
+    row = DEFAULT_CRITERIA["similar"]["rows"][1]
     assert result == RiseClassification(
         level=3,
         action=row["action"],
@@ -215,10 +215,10 @@ def test_classify_rise_returns_action_row_basis_table_and_the_row_used():
         basis="similar",
         table=DEFAULT_CRITERIA["similar"]["name"],
         rise_c=7.5,
-        row_index=2,
+        row_index=1,
         interval="over 3 to 15 K",
     )
-    assert result.as_dict()["row_index"] == 2
+    assert result.as_dict()["row_index"] == 1
     assert json.loads(json.dumps(result.as_dict()))["rise_c"] == 7.5
 
 
@@ -320,7 +320,8 @@ def test_classify_rise_reads_an_organization_table_of_the_same_shape():
     # Source: an invented organization table (stricter bands), no outside source needed.
     edited = default_criteria()
     edited["similar"]["name"] = "Northwind stricter table"
-    edited["similar"]["rows"][2]["up_to_c"] = 8.0
+    edited["similar"]["rows"][1]["upper"] = 8.1
+    edited["similar"]["rows"][2]["lower"] = 8.1
     assert classify_rise(10.0, "similar", table=edited).level == 1
     assert classify_rise(10.0, "similar", table=edited["similar"]).table == (
         "Northwind stricter table"
@@ -333,8 +334,8 @@ def test_default_criteria_is_plain_json_data_and_copies_are_independent():
     # Source: requirement that the table is data an organization can copy and edit.
     assert json.loads(json.dumps(DEFAULT_CRITERIA)) == DEFAULT_CRITERIA
     copy = default_criteria()
-    copy["ambient"]["rows"][1]["level"] = 1
-    assert DEFAULT_CRITERIA["ambient"]["rows"][1]["level"] == 4
+    copy["ambient"]["rows"][0]["level"] = 1
+    assert DEFAULT_CRITERIA["ambient"]["rows"][0]["level"] == 4
 
 
 @settings(max_examples=examples(100), deadline=None)

@@ -271,7 +271,13 @@ def test_it_lets_only_admins_copy_and_edit_tables(setup, thermographer_client, c
     response = client.post(
         edit, {"rows": '[{"label": "x", "up_to_c": 3, "level": 4, "action": "w"}]'}
     )
-    assert response.status_code == 200 and b"last row" in response.content
+    assert response.status_code == 200 and b"unknown keys: up_to_c" in response.content
+    response = client.post(
+        edit, {"rows": '[{"lower": 1, "upper": 3.1, "level": 4, "action": "Watch."}]'}
+    )
+    assert response.status_code == 302
+    table.refresh_from_db()
+    assert table.rows == [{"label": "", "lower": 1.0, "upper": 3.1, "level": 4, "action": "Watch."}]
 
 
 def test_it_suggests_at_once_when_marks_come_ticked(setup, thermographer_client):
