@@ -1,12 +1,14 @@
 """Pages of the judgement layer: findings, assets, criteria tables, heat-loss estimates."""
 
 import json
+from urllib.parse import urlencode
 
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.core.exceptions import ValidationError
 from django.http import HttpRequest, HttpResponse
 from django.shortcuts import redirect, render
+from django.urls import reverse
 from django.utils import timezone
 from django.views.decorators.http import require_POST
 
@@ -96,7 +98,21 @@ def finding_create(request: HttpRequest, pk: int) -> HttpResponse:
         except ValidationError as error:
             add_service_error(form, error)
     context = {"form": form, "thermogram": thermogram, "survey": thermogram.survey}
+    context |= _marks_picture(thermogram, form)
     return render(request, "survey/findings/form.html", context | {"suggestion": suggestion})
+
+
+def _marks_picture(thermogram, form: FindingForm) -> dict:
+    """The picture of the thermogram with the marks chosen (ticked, or sent from the
+    workspace), for the form's side."""
+    cleaned = getattr(form, "cleaned_data", None)
+    marks = list(cleaned.get("marks") or []) if cleaned is not None else form.initial["marks"]
+    if not marks or not thermogram.is_ready:
+        return {}
+    marks = sorted(marks, key=lambda m: (len(m.label), m.label))
+    query = urlencode([("marks", m.pk) for m in marks])
+    url = reverse("survey:thermogram_marks_picture", args=[thermogram.pk])
+    return {"marks_picture_url": f"{url}?{query}", "marks_picture_labels": [m.title for m in marks]}
 
 
 @login_required

@@ -280,3 +280,64 @@ def test_it_suggests_at_once_when_marks_come_ticked(setup, thermographer_client)
     response = thermographer_client.get(f"{url}?marks={setup['hot'].pk}&marks=junk")
     assert response.status_code == 200
     assert response.context["suggestion"]["level"] == 3  # 10 K, like component [memory]
+
+
+# --- a finding from marks chosen in the workspace: the picture of those marks ------------------
+
+
+def _marks_png(client, thermogram, *ids):
+    url = reverse("survey:thermogram_marks_picture", args=[thermogram.pk])
+    return client.get(url, {"marks": [str(i) for i in ids]})
+
+
+def test_it_draws_only_the_chosen_marks_of_this_thermogram(setup, thermographer_client, org):
+    """Marks of another thermogram and ids that are not numbers are left out, not refused."""
+    import io
+
+    from PIL import Image
+
+    other = make_thermogram(setup["survey"], block_field(20.0, 25.0))
+    foreign = mark_add(thermogram=other, kind="point", points=[[5, 5]], user=None)
+    only_hot = _marks_png(thermographer_client, setup["thermogram"], setup["hot"].pk)
+    assert only_hot.status_code == 200 and only_hot["Content-Type"] == "image/png"
+    assert Image.open(io.BytesIO(only_hot.content)).size[0] == 480
+    mixed = _marks_png(
+        thermographer_client, setup["thermogram"], setup["hot"].pk, foreign.pk, "B; drop"
+    )
+    assert mixed.content == only_hot.content
+    assert _marks_png(thermographer_client, setup["thermogram"]).content != only_hot.content
+
+
+def test_it_hides_the_marks_picture_from_an_outsider(setup, outsider_client):
+    response = _marks_png(outsider_client, setup["thermogram"], setup["hot"].pk)
+    assert response.status_code == 404
+
+
+def test_it_shows_the_chosen_marks_beside_the_new_finding(setup, thermographer_client):
+    """From the workspace (?marks=…) and after Suggest, the picture shows the marks ticked."""
+    hot, reference = setup["hot"], setup["reference"]
+    url = reverse("survey:finding_create", args=[setup["thermogram"].pk])
+    page = thermographer_client.get(url, {"marks": [hot.pk]}).content.decode()
+    assert f"marks.png?marks={hot.pk}" in page and "with mark B" in page
+    assert "Suggested:" in page  # judged at once, by the survey kind's first basis
+    posted = thermographer_client.post(
+        url,
+        {"marks": [hot.pk, reference.pk], "basis": "similar", "category": "component"}
+        | {"suggest": "1"},
+    ).content.decode()
+    assert f"marks.png?marks={reference.pk}&amp;marks={hot.pk}" in posted
+    assert "with marks A, B" in posted
+
+
+def test_it_offers_a_new_finding_to_editors_only(setup, thermographer_client, org):
+    from django.test import Client
+
+    from survey.models import Member
+    from tests.conftest import login, make_person
+
+    url = reverse("survey:api-thermogram", args=[setup["thermogram"].pk])
+    urls = thermographer_client.get(url).json()["urls"]
+    assert urls["new_finding"] == reverse("survey:finding_create", args=[setup["thermogram"].pk])
+    viewer_client = Client()
+    login(viewer_client, make_person(org, "vic", Member.Role.VIEWER, "Vic Viewer"))
+    assert viewer_client.get(url).json()["urls"]["new_finding"] is None
