@@ -30,7 +30,7 @@ from survey.captions import mark_caption
 from survey.cautions import cautions_for, cautions_for_kinds
 from survey.charts import trend_svg
 from survey.conditions import conditions_check
-from survey.forms.fields import add_service_error
+from survey.forms.fields import add_service_error, member_units
 from survey.forms.findings import (
     CriteriaRowsForm,
     FindingEditForm,
@@ -308,13 +308,16 @@ def asset_trend_svg(request: HttpRequest, pk: int) -> HttpResponse:
 @login_required
 def heat_loss_create(request: HttpRequest, pk: int) -> HttpResponse:
     survey = get_survey_for_user(request, pk)
-    require_editor(get_member(request))
+    member = get_member(request)
+    require_editor(member)
     refusal = finding_services.heat_loss_refusal(survey)
     if refusal:
         context = {"survey": survey, "refusal": refusal}
         return render(request, "survey/findings/heat_loss_form.html", context)
     initial = {k: request.GET[k] for k in ("mark", "finding") if request.GET.get(k, "").isdigit()}
-    form = HeatLossForm(request.POST or None, survey=survey, initial=initial)
+    form = HeatLossForm(
+        request.POST or None, survey=survey, initial=initial, **member_units(member)
+    )
     if request.method == "POST" and form.is_valid():
         try:
             finding_services.heat_loss_estimate_create(

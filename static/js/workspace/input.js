@@ -319,7 +319,7 @@ export function setupOverlays(meta) {
   $("ws-cond-note").textContent = cond.available
     ? "Indoor air " + fmtTU(cond.indoor_air_c) + ", " + cond.indoor_rh_pct + " % RH: mould risk at surfaces below " +
       fmtTU(cond.surface_c.rh80) + ", condensation at or below " + fmtTU(cond.surface_c.rh100) + " (the " + (cond.rh100_name || "dew point") +
-      "; saturation over ice below 0 °C), at the thermogram's ε."
+      "; saturation over ice below " + fmtTU(0) + "), at the thermogram's ε."
     : cond.reason;
   $("ws-cond-legend").hidden = !cond.available;
   var mould = meta.colours.mould_risk, wet = meta.colours.condensation, iso = meta.colours.isotherm;

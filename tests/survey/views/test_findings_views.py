@@ -341,3 +341,61 @@ def test_it_offers_a_new_finding_to_editors_only(setup, thermographer_client, or
     viewer_client = Client()
     login(viewer_client, make_person(org, "vic", Member.Role.VIEWER, "Vic Viewer"))
     assert viewer_client.get(url).json()["urls"]["new_finding"] is None
+
+
+def test_it_takes_a_heat_loss_estimate_in_the_members_units(
+    envelope_survey, thermographer, thermographer_client
+):
+    """A member on °F, mph and ft sees and enters those; the estimate is stored in °C, m/s,
+    m and m² and shown back in °F, mph, ft and ft²."""
+    thermographer.temperature_unit = "F"
+    thermographer.speed_unit = "mph"
+    thermographer.length_unit = "ft"
+    thermographer.save()
+    url = reverse("survey:heat_loss_create", args=[envelope_survey.pk])
+    page = thermographer_client.get(url).content.decode()
+    for label in ("Wind (mph)", "Air temperature (°F)", "Size (ft)", "Area (ft²)"):
+        assert label in page, label
+    response = thermographer_client.post(
+        url,
+        {
+            "label": "Cold lintel",
+            "side": "outside",
+            "t_surface_c": "50",
+            "emissivity": "0.9",
+            "t_air_c": "32",
+            "geometry": "vertical",
+            "size_m": "10",
+            "area_m2": "100",
+            "wind_m_s": "10",
+            "hours_per_year": "5000",
+            "price_per_kwh": "0.2",
+            "efficiency_pct": "100",
+        },
+    )
+    assert response.status_code == 302
+    inputs = HeatLossEstimate.objects.get().inputs
+    # 1 mph = 0.44704 m/s and 1 ft = 0.3048 m exactly (international yard and pound, 1959);
+    # °C = (°F − 32) / 1.8.
+    assert inputs["wind_m_s"] == pytest.approx(4.4704, abs=1e-9)
+    assert inputs["size_m"] == pytest.approx(3.048, abs=1e-9)
+    assert inputs["area_m2"] == pytest.approx(9.290304, abs=1e-9)
+    assert inputs["t_air_c"] == pytest.approx(0.0, abs=1e-9)
+    assert inputs["t_surface_c"] == pytest.approx(10.0, abs=1e-9)
+    listed = thermographer_client.get(
+        reverse("survey:survey_findings", args=[envelope_survey.pk])
+    ).content.decode()
+    for shown in ("wind 10.0 mph", "air 32.0 °F", "vertical 10 ft", "100 ft²", "at 50.0 °F"):
+        assert shown in listed, shown
+
+
+def test_it_refuses_a_wind_above_the_limit_in_mph(
+    envelope_survey, thermographer, thermographer_client
+):
+    """40 m/s is 89.5 mph: 100 mph is refused with the limit in mph, nothing saved."""
+    thermographer.speed_unit = "mph"
+    thermographer.save()
+    url = reverse("survey:heat_loss_create", args=[envelope_survey.pk])
+    response = thermographer_client.post(url, {"wind_m_s": "100", "side": "outside"})
+    assert "Enter at most 89.5 mph." in response.content.decode()
+    assert not HeatLossEstimate.objects.exists()
