@@ -497,7 +497,8 @@ def test_it_writes_a_finding_from_the_marks_ticked_in_the_workspace(
     browser, live_server, thermographer, electrical_survey
 ):
     """Tick A and B, press the button: the finding form has both marks, their picture and the
-    suggested level; saving keeps them. The table names A by its load caption."""
+    suggested level; saving keeps them. The table names A by its load caption; B's load
+    current is entered in the mark editor."""
     from selenium.webdriver.common.by import By
     from selenium.webdriver.support.ui import Select
 
@@ -517,6 +518,21 @@ def test_it_writes_a_finding_from_the_marks_ticked_in_the_workspace(
     wait_for(lambda: len(table_rows(browser)) == 2, message="marks A and B listed")
     row_a = browser.find_element(By.CSS_SELECTOR, "#ws-table-body tr[data-label=A]")
     assert "L2 lug, 118 A of 160 A" in row_a.text  # survey/captions.py with the asset's rating
+
+    # B's load current entered in the mark editor: saved, and B's caption follows.
+    browser.find_element(By.CSS_SELECTOR, "#ws-table-body tr[data-label=B] button.ws-label").click()
+    load = browser.find_element(By.ID, "ws-ed-load")
+    load.send_keys("95")
+    browser.find_element(By.ID, "ws-ed-save").click()
+    wait_for(
+        lambda: (
+            "95 A of 160 A"
+            in browser.find_element(By.CSS_SELECTOR, "#ws-table-body tr[data-label=B]").text
+        ),
+        message="B's load caption",
+    )
+    background.refresh_from_db()
+    assert background.load_current_a == 95.0
 
     button = browser.find_element(By.ID, "ws-new-finding")
     assert button.is_displayed() and not button.is_enabled()  # nothing ticked yet
