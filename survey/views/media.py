@@ -61,6 +61,7 @@ def thermogram_marks_picture(request: HttpRequest, pk: int) -> HttpResponse:
     except (ThermogramNotReady, FileNotFoundError):
         raise Http404("This thermogram has no picture yet.") from None
     response = HttpResponse(png, content_type="image/png")
+    response["Content-Disposition"] = f'inline; filename="thermogram-{thermogram.pk}-marks.png"'
     response["X-Content-Type-Options"] = "nosniff"
     return response
 
