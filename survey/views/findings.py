@@ -98,21 +98,27 @@ def finding_create(request: HttpRequest, pk: int) -> HttpResponse:
         except ValidationError as error:
             add_service_error(form, error)
     context = {"form": form, "thermogram": thermogram, "survey": thermogram.survey}
-    context |= _marks_picture(thermogram, form)
+    context |= _marks_picture(thermogram, _chosen_marks(form))
     return render(request, "survey/findings/form.html", context | {"suggestion": suggestion})
 
 
-def _marks_picture(thermogram, form: FindingForm) -> dict:
-    """The picture of the thermogram with the marks chosen (ticked, or sent from the
-    workspace), for the form's side."""
+def _chosen_marks(form: FindingForm) -> list:
+    """The marks ticked on the form, or sent from the workspace."""
     cleaned = getattr(form, "cleaned_data", None)
-    marks = list(cleaned.get("marks") or []) if cleaned is not None else form.initial["marks"]
+    return list(cleaned.get("marks") or []) if cleaned is not None else form.initial["marks"]
+
+
+def _marks_picture(thermogram, marks: list) -> dict:
+    """The picture of the thermogram with `marks` drawn, for the side of a finding."""
+    marks = [m for m in marks if m.thermogram_id == getattr(thermogram, "pk", None)]
     if not marks or not thermogram.is_ready:
         return {}
     marks = sorted(marks, key=lambda m: (len(m.label), m.label))
     query = urlencode([("marks", m.pk) for m in marks])
     url = reverse("survey:thermogram_marks_picture", args=[thermogram.pk])
-    return {"marks_picture_url": f"{url}?{query}", "marks_picture_labels": [m.title for m in marks]}
+    titles = ", ".join(m.title for m in marks)
+    alt = f"Thermogram {thermogram} with mark{'s' if len(marks) > 1 else ''} {titles}"
+    return {"marks_picture_url": f"{url}?{query}", "marks_picture_alt": alt}
 
 
 @login_required
@@ -137,6 +143,7 @@ def finding_detail(request: HttpRequest, pk: int) -> HttpResponse:
         "estimates": finding.heat_loss_estimates.all(),
         "cautions": cautions_for(finding.survey.kind),
     }
+    context |= _marks_picture(finding.thermogram, marks)
     return render(request, "survey/findings/detail.html", context)
 
 

@@ -567,6 +567,8 @@ def test_it_writes_a_finding_from_the_marks_ticked_in_the_workspace(
     finding = wait_for(lambda: Finding.objects.first(), message="the finding saved")
     assert sorted(finding.marks.values_list("label", flat=True)) == ["A", "B"]
     assert finding.suggested_level == expected["level"] and finding.level == expected["level"]
+    wait_for(lambda: f"/findings/{finding.pk}/" in browser.current_url, message="its page")
+    assert browser.find_elements(By.CSS_SELECTOR, f"img[src*='marks={hot.pk}']")
     assert severe_console_errors(browser) == []
 
 

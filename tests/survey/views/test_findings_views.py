@@ -399,3 +399,12 @@ def test_it_refuses_a_wind_above_the_limit_in_mph(
     response = thermographer_client.post(url, {"wind_m_s": "100", "side": "outside"})
     assert "Enter at most 89.5 mph." in response.content.decode()
     assert not HeatLossEstimate.objects.exists()
+
+
+def test_it_shows_the_findings_marks_on_its_page(setup, thermographer_client):
+    """The finding's page draws its thermogram with the finding's marks."""
+    finding, hot = setup["finding"], setup["hot"]
+    finding.thermogram = setup["thermogram"]
+    finding.save()
+    page = thermographer_client.get(reverse("survey:finding", args=[finding.pk])).content.decode()
+    assert f"marks.png?marks={hot.pk}" in page and "with mark B" in page
