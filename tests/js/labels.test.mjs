@@ -17,9 +17,9 @@ function noOverlaps(placed) {
   }
 }
 
-test("a label goes inside its rectangle at the top-left, GAP px in", () => {
+test("a label goes inside its rectangle at the top-left, 5 px in", () => {
   const [label] = placeLabels([{ shape: rect(100, 50, 200, 120), w: W, h: H }], null);
-  assert.deepEqual([label.x, label.y, label.inside, label.leader], [103, 53, true, null]);
+  assert.deepEqual([label.x, label.y, label.inside, label.leader], [105, 55, true, null]);
 });
 
 test("labels of two marks sharing a top-left corner do not overlap, both inside", () => {
@@ -27,8 +27,8 @@ test("labels of two marks sharing a top-left corner do not overlap, both inside"
   const placed = placeLabels([{ shape, w: W, h: H }, { shape: rect(100, 50, 150, 90), w: W, h: H }], null);
   noOverlaps(placed);
   for (const p of placed) { assert.ok(p.inside && fitsInside(shape, p)); }
-  assert.equal(placed[1].y, 53); // same row, further right: (103 + 14 + 3) = 120 or later
-  assert.ok(placed[1].x >= 120);
+  assert.equal(placed[1].y, 55); // same row, further right: 105 + 14 + 3 = 122 or later
+  assert.ok(placed[1].x >= 122);
 });
 
 test("a crowded rectangle fills row by row and never overlaps", () => {
@@ -45,14 +45,14 @@ test("a concave polygon's label avoids the notch", () => {
   assert.ok(label.inside && fitsInside(L, label));
   // 50 px wide does not fit in the 40 px wide upper arm: it goes down to the lower part.
   assert.ok(label.y >= 40);
-  assert.ok(!fitsInside(L, { x: 3, y: 3, w: 50, h: H }));
+  assert.ok(!fitsInside(L, { x: 5, y: 5, w: 50, h: H }));
 });
 
 test("an ellipse's label keeps its corners inside the outline", () => {
   const shape = { kind: "ellipse", box: [0, 0, 100, 60] };
   const [label] = placeLabels([{ shape, w: W, h: H }], null);
   assert.ok(label.inside && fitsInside(shape, label));
-  assert.ok(label.x > 3); // the box's own top-left corner is outside the ellipse
+  assert.ok(label.x > 5); // the box's own top-left corner is outside the ellipse
 });
 
 test("a mark smaller than its label gets it outside with a leader line to the outline", () => {

@@ -10,7 +10,9 @@
    one filled with other labels) does the label go outside, next to the outline, with a
    leader line to it, so it still names its mark without covering another label. */
 
-var GAP = 3;          // px between a label and the outline or another label
+var GAP = 3;          // px between a label and another label, or a point's or line's anchor
+var INSET = 5;        // px between a label and the outline it sits in: clear of the corner
+                      // handles of a picked mark, which reach 4 px inside
 var MAX_STEPS = 40;   // candidate rows and columns per shape: bounds the work per frame
 var RINGS = 12;       // rings of outside candidates tried before giving up
 
@@ -51,7 +53,7 @@ export function boundsOf(shape) {
 
 /* Whether the label box `rect` lies wholly inside the shape's outline (with GAP to spare). */
 export function fitsInside(shape, rect) {
-  var r = { x: rect.x - GAP, y: rect.y - GAP, w: rect.w + 2 * GAP, h: rect.h + 2 * GAP };
+  var r = { x: rect.x - INSET, y: rect.y - INSET, w: rect.w + 2 * INSET, h: rect.h + 2 * INSET };
   if (shape.kind === "rectangle") {
     var b = shape.box;
     return r.x >= b[0] && r.y >= b[1] && r.x + r.w <= b[2] && r.y + r.h <= b[3];
@@ -94,11 +96,11 @@ function inView(rect, view) {
 /* Candidates inside an area shape, row by row from its top-left. */
 function insideCandidates(shape, w, h) {
   var b = boundsOf(shape), out = [];
-  var spanX = b[2] - b[0] - w - 2 * GAP, spanY = b[3] - b[1] - h - 2 * GAP;
+  var spanX = b[2] - b[0] - w - 2 * INSET, spanY = b[3] - b[1] - h - 2 * INSET;
   if (spanX < 0 || spanY < 0) { return out; }
   var stepX = Math.max(1, spanX / MAX_STEPS), stepY = Math.max(1, spanY / MAX_STEPS);
-  for (var y = b[1] + GAP; y <= b[3] - h - GAP + 1e-9; y += stepY) {
-    for (var x = b[0] + GAP; x <= b[2] - w - GAP + 1e-9; x += stepX) { out.push({ x: x, y: y, w: w, h: h }); }
+  for (var y = b[1] + INSET; y <= b[3] - h - INSET + 1e-9; y += stepY) {
+    for (var x = b[0] + INSET; x <= b[2] - w - INSET + 1e-9; x += stepX) { out.push({ x: x, y: y, w: w, h: h }); }
   }
   return out;
 }
