@@ -47,6 +47,11 @@ page_patterns = [
         media.thermogram_thumbnail,
         name="thermogram_thumbnail",
     ),
+    path(
+        "thermograms/<int:pk>/marks.png",
+        media.thermogram_marks_picture,
+        name="thermogram_marks_picture",
+    ),
     path("thermograms/<int:pk>/photo/", media.thermogram_photo, name="thermogram_photo"),
     path("thermograms/<int:pk>/celsius.npy", media.thermogram_array, name="thermogram_array"),
     path("audit/", audit.audit_log, name="audit_log"),

@@ -6,8 +6,10 @@ from django import forms
 from django.core.exceptions import ValidationError
 
 from survey import severity
+from survey.forms.fields import UnitFormMixin, number_field
 from survey.inputs import holds_nul
 from survey.models import Asset, Finding, Mark, Survey, Thermogram
+from survey.thermal import units
 
 LEVEL_CHOICES = [("", "Use the suggested level")] + [
     (value, label) for value, label in Finding.Level.choices
@@ -306,7 +308,24 @@ SIDE_CHOICES = [
 ]
 
 
-class HeatLossForm(forms.Form):
+class HeatLossForm(UnitFormMixin, forms.Form):
+    """Temperatures, wind, size and area in the member's units; cleaned_data in °C, m/s, m
+    and m², as the service takes them."""
+
+    temperatures = {
+        "t_surface_c": ("Surface temperature", -60, 600, False),
+        "t_reference_c": ("Sound surface nearby", -60, 600, False),
+        "t_air_c": ("Air temperature", -60, 100, True),
+        "t_surroundings_c": ("Surroundings", -60, 100, False),
+    }
+    speeds = {"wind_m_s": ("Wind", 0, 40, True)}
+    lengths = {"size_m": ("Size", 0.001, 100, True)}
+    help_texts = {
+        "t_surface_c": "Leave empty to take the mark's corrected mean.",
+        "t_reference_c": "Optional: estimate only the excess lost because of the defect.",
+        "t_surroundings_c": "Defaults to the air temperature.",
+    }
+
     label = forms.CharField(max_length=200, initial="Heat loss")
     side = forms.ChoiceField(
         choices=SIDE_CHOICES,
@@ -317,23 +336,6 @@ class HeatLossForm(forms.Form):
     )
     mark = SurveyMarkChoiceField(queryset=Mark.objects.none(), required=False)
     finding = FindingChoiceField(queryset=Finding.objects.none(), required=False)
-    t_surface_c = forms.FloatField(
-        label="Surface temperature (°C)",
-        min_value=-60,
-        max_value=600,
-        required=False,
-        help_text="Leave empty to take the mark's corrected mean.",
-    )
-    t_reference_c = _optional_float(
-        "Sound surface nearby (°C)",
-        -60,
-        600,
-        help_text="Optional: estimate only the excess lost because of the defect.",
-    )
-    t_air_c = forms.FloatField(label="Air temperature (°C)", min_value=-60, max_value=100)
-    t_surroundings_c = _optional_float(
-        "Surroundings (°C)", -60, 100, help_text="Defaults to the air temperature."
-    )
     emissivity = forms.FloatField(
         min_value=0.01,
         max_value=1.0,
@@ -341,9 +343,6 @@ class HeatLossForm(forms.Form):
         help_text="Leave empty to take the mark's emissivity.",
     )
     geometry = forms.ChoiceField(choices=GEOMETRY_CHOICES)
-    size_m = forms.FloatField(label="Size (m)", min_value=0.001, max_value=100)
-    area_m2 = forms.FloatField(label="Area (m²)", min_value=0.0001, max_value=100000)
-    wind_m_s = forms.FloatField(label="Wind (m/s)", min_value=0, max_value=40, initial=0.0)
     hours_per_year = forms.FloatField(
         label="Hours per year",
         min_value=0,
@@ -365,6 +364,25 @@ class HeatLossForm(forms.Form):
 
     def __init__(self, *args, survey: Survey, **kwargs):
         super().__init__(*args, **kwargs)
+        for name, text in self.help_texts.items():
+            self.fields[name].help_text = text
+        self.fields["wind_m_s"].initial = 0
+        # An area in the square of the member's length unit (m² or ft²).
+        symbol = units.length_symbol(self.length_unit)
+        self.fields["area_m2"] = number_field(
+            f"Area ({symbol}²)",
+            round(
+                units.length_from_m(
+                    units.length_from_m(0.0001, self.length_unit), self.length_unit
+                ),
+                4,
+            ),
+            round(
+                units.length_from_m(units.length_from_m(1e5, self.length_unit), self.length_unit)
+            ),
+            True,
+            f" {symbol}²",
+        )
         self.fields["mark"].queryset = Mark.objects.filter(
             thermogram__survey=survey, kind__in=["rectangle", "ellipse", "polygon", "point"]
         ).select_related("thermogram")
@@ -376,6 +394,13 @@ class HeatLossForm(forms.Form):
 
     def clean(self):
         data = super().clean()
+        for name in self.temperatures:
+            if data.get(name) is not None:
+                data[name] = self._temperature_c(name)
+        if data.get("area_m2") is not None:
+            data["area_m2"] = units.length_to_m(
+                units.length_to_m(data["area_m2"], self.length_unit), self.length_unit
+            )
         mark = data.get("mark")
         if mark is None:
             if data.get("t_surface_c") is None:

@@ -9,11 +9,17 @@ import logging
 import numpy as np
 from django.db import transaction
 
-from survey.models import Thermogram
+from survey.models import Mark, Thermogram
 from survey.services.arrays import thermogram_temperatures
-from survey.services.processing import automatic_span
+from survey.services.processing import automatic_span, display_span
 from survey.thermal import PALETTES
-from survey.thermal.drawing import CONDENSATION_COLOUR, ISOTHERM_COLOUR, MOULD_RISK_COLOUR
+from survey.thermal.drawing import (
+    CONDENSATION_COLOUR,
+    ISOTHERM_COLOUR,
+    MOULD_RISK_COLOUR,
+    encode_png,
+    render_picture,
+)
 from survey.thermal.palettes import NO_DATA_COLOUR
 
 logger = logging.getLogger(__name__)
@@ -44,6 +50,30 @@ def thermogram_auto_span(thermogram: Thermogram) -> list[float] | None:
         return None
     low, high = automatic_span(thermogram, thermogram_temperatures(thermogram))
     return [round(float(low), 2), round(float(high), 2)]
+
+
+MARKS_PICTURE_WIDTH_PX = 480
+
+
+def marks_picture_png(thermogram: Thermogram, marks: list[Mark], unit: str = "C") -> bytes:
+    """The thermogram in its saved view with only `marks` drawn, and its scale bar: the
+    picture beside a finding being written from those marks."""
+    temperatures = thermogram_temperatures(thermogram)
+    low, high = display_span(thermogram, temperatures)
+    drawn = [
+        {"kind": m.kind, "points": m.points, "label": m.label, "single_pixel": m.single_pixel}
+        for m in marks
+    ]
+    picture = render_picture(
+        temperatures,
+        thermogram.palette,
+        low,
+        high,
+        marks=drawn,
+        unit=unit,
+        width_px=MARKS_PICTURE_WIDTH_PX,
+    )
+    return encode_png(picture, compress_level=1)
 
 
 def previews_enqueue(thermogram_id: int) -> None:

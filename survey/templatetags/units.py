@@ -58,6 +58,25 @@ def length(value_m, member) -> str:
 
 
 @register.filter
+def size(value_m, member) -> str:
+    """A dimension to three significant digits in the member's unit, e.g. 0.0508 m."""
+    if value_m is None or value_m == "":
+        return "—"
+    unit = member if isinstance(member, str) else getattr(member, "length_unit", None) or "m"
+    return f"{units.length_from_m(float(value_m), unit):.3g} {units.length_symbol(unit)}"
+
+
+@register.filter
+def area(value_m2, member) -> str:
+    """An area to three significant digits in the square of the member's length unit."""
+    if value_m2 is None or value_m2 == "":
+        return "—"
+    unit = member if isinstance(member, str) else getattr(member, "length_unit", None) or "m"
+    shown = units.length_from_m(units.length_from_m(float(value_m2), unit), unit)
+    return f"{shown:.3g} {units.length_symbol(unit)}²"
+
+
+@register.filter
 def in_unit_text(text, member_or_unit="C") -> str:
     """A sentence written in °C and K (judgement reasons, criteria rows) in the member's unit."""
     if not text:

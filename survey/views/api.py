@@ -379,6 +379,8 @@ def thermogram_json(request: HttpRequest, thermogram: Thermogram) -> dict:
             "marks": reverse("survey:api-marks", args=[pk]),
             "alignment": reverse("survey:api-thermogram-alignment", args=[pk]),
             "proposals": reverse("survey:api-thermogram-proposals", args=[pk]),
+            # Findings may be written on a thermogram an issued report shows (they are new).
+            "new_finding": reverse("survey:finding_create", args=[pk]) if member.can_edit else None,
         },
         "marks": _marks_json(thermogram) if ready else [],
     }

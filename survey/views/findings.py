@@ -1,12 +1,14 @@
 """Pages of the judgement layer: findings, assets, criteria tables, heat-loss estimates."""
 
 import json
+from urllib.parse import urlencode
 
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.core.exceptions import ValidationError
 from django.http import HttpRequest, HttpResponse
 from django.shortcuts import redirect, render
+from django.urls import reverse
 from django.utils import timezone
 from django.views.decorators.http import require_POST
 
@@ -28,7 +30,7 @@ from survey.captions import mark_caption
 from survey.cautions import cautions_for, cautions_for_kinds
 from survey.charts import trend_svg
 from survey.conditions import conditions_check
-from survey.forms.fields import add_service_error
+from survey.forms.fields import add_service_error, member_units
 from survey.forms.findings import (
     CriteriaRowsForm,
     FindingEditForm,
@@ -96,7 +98,27 @@ def finding_create(request: HttpRequest, pk: int) -> HttpResponse:
         except ValidationError as error:
             add_service_error(form, error)
     context = {"form": form, "thermogram": thermogram, "survey": thermogram.survey}
+    context |= _marks_picture(thermogram, _chosen_marks(form))
     return render(request, "survey/findings/form.html", context | {"suggestion": suggestion})
+
+
+def _chosen_marks(form: FindingForm) -> list:
+    """The marks ticked on the form, or sent from the workspace."""
+    cleaned = getattr(form, "cleaned_data", None)
+    return list(cleaned.get("marks") or []) if cleaned is not None else form.initial["marks"]
+
+
+def _marks_picture(thermogram, marks: list) -> dict:
+    """The picture of the thermogram with `marks` drawn, for the side of a finding."""
+    marks = [m for m in marks if m.thermogram_id == getattr(thermogram, "pk", None)]
+    if not marks or not thermogram.is_ready:
+        return {}
+    marks = sorted(marks, key=lambda m: (len(m.label), m.label))
+    query = urlencode([("marks", m.pk) for m in marks])
+    url = reverse("survey:thermogram_marks_picture", args=[thermogram.pk])
+    titles = ", ".join(m.title for m in marks)
+    alt = f"Thermogram {thermogram} with mark{'s' if len(marks) > 1 else ''} {titles}"
+    return {"marks_picture_url": f"{url}?{query}", "marks_picture_alt": alt}
 
 
 @login_required
@@ -121,6 +143,7 @@ def finding_detail(request: HttpRequest, pk: int) -> HttpResponse:
         "estimates": finding.heat_loss_estimates.all(),
         "cautions": cautions_for(finding.survey.kind),
     }
+    context |= _marks_picture(finding.thermogram, marks)
     return render(request, "survey/findings/detail.html", context)
 
 
@@ -292,13 +315,16 @@ def asset_trend_svg(request: HttpRequest, pk: int) -> HttpResponse:
 @login_required
 def heat_loss_create(request: HttpRequest, pk: int) -> HttpResponse:
     survey = get_survey_for_user(request, pk)
-    require_editor(get_member(request))
+    member = get_member(request)
+    require_editor(member)
     refusal = finding_services.heat_loss_refusal(survey)
     if refusal:
         context = {"survey": survey, "refusal": refusal}
         return render(request, "survey/findings/heat_loss_form.html", context)
     initial = {k: request.GET[k] for k in ("mark", "finding") if request.GET.get(k, "").isdigit()}
-    form = HeatLossForm(request.POST or None, survey=survey, initial=initial)
+    form = HeatLossForm(
+        request.POST or None, survey=survey, initial=initial, **member_units(member)
+    )
     if request.method == "POST" and form.is_valid():
         try:
             finding_services.heat_loss_estimate_create(

@@ -473,6 +473,9 @@ def test_it_finds_no_wcag_violation_and_no_html_error_on_any_page(chromium, live
         reverse("survey:criteria_tables"),
         reverse("password_change"),
         reverse("survey:survey_delete", args=[demo_firm["survey"].pk]),
+        # A new finding from marks ticked in the workspace: with the picture of those marks.
+        reverse("survey:finding_create", args=[demo_firm["open_thermogram"].pk])
+        + f"?marks={demo_firm['open_thermogram'].marks.order_by('pk').first().pk}",
     ]
     queue = deque(["/", *extra])
     seen = set(queue)
@@ -496,6 +499,9 @@ def test_it_finds_no_wcag_violation_and_no_html_error_on_any_page(chromium, live
     browser.find_element(By.CSS_SELECTOR, "#ws-table-body button.ws-label").click()
     assert browser.find_element(By.ID, "ws-editor").is_displayed(), "the mark editor stayed shut"
     checker.as_shown("workspace with a mark picked")
+    browser.find_element(By.CSS_SELECTOR, "#ws-table-body input.ws-choose").click()
+    assert browser.find_element(By.ID, "ws-new-finding").is_enabled(), "ticking chose nothing"
+    checker.as_shown("workspace with a mark ticked for a new finding")
 
     for name, args, form, values, shows_error in FORM_ERRORS:
         path = reverse(name, args=[demo_firm[arg].pk for arg in args])

@@ -470,3 +470,296 @@ def test_it_accepts_a_proposal_with_the_keyboard(
     assert spare.status == Proposal.Status.REJECTED
     assert Mark.objects.filter(thermogram=thermogram).count() == 1
     assert severe_console_errors(browser) == []
+
+
+# --- issue 15: a finding from ticked marks, keys only on the picture, touch, a table that fits
+
+
+def _equipment_thermogram(survey, asset=None):
+    """A 20 °C panel with a 30 °C block: mark A on the block (L2 lug, 118 A), B beside it."""
+    from survey.services.marks import mark_add
+    from tests.survey.findings_data import BACKGROUND, HOT, block_field
+
+    thermogram = make_thermogram(survey, block_field(20.0, 30.0), emissivity=1.0, asset=asset)
+    hot = mark_add(
+        thermogram=thermogram,
+        kind="rectangle",
+        points=HOT,
+        user=None,
+        name="L2 lug",
+        load_current_a=118.0,
+    )
+    background = mark_add(thermogram=thermogram, kind="rectangle", points=BACKGROUND, user=None)
+    return thermogram, hot, background
+
+
+def test_it_writes_a_finding_from_the_marks_ticked_in_the_workspace(
+    browser, live_server, thermographer, electrical_survey
+):
+    """Tick A and B, press the button: the finding form has both marks, their picture and the
+    suggested level; saving keeps them. The table names A by its load caption; B's load
+    current is entered in the mark editor."""
+    from selenium.webdriver.common.by import By
+    from selenium.webdriver.support.ui import Select
+
+    from survey.models import Asset, Finding
+    from survey.services.findings import finding_suggest
+
+    asset = Asset.objects.create(
+        organization=electrical_survey.organization,
+        site=electrical_survey.site,
+        name="Panel DB-3",
+        kind="panel",
+        rating=160.0,
+        rating_unit="A",
+    )
+    thermogram, hot, background = _equipment_thermogram(electrical_survey, asset)
+    open_workspace(browser, live_server, thermographer, thermogram)
+    wait_for(lambda: len(table_rows(browser)) == 2, message="marks A and B listed")
+    row_a = browser.find_element(By.CSS_SELECTOR, "#ws-table-body tr[data-label=A]")
+    assert "L2 lug, 118 A of 160 A" in row_a.text  # survey/captions.py with the asset's rating
+
+    # B's load current entered in the mark editor: saved, and B's caption follows.
+    browser.find_element(By.CSS_SELECTOR, "#ws-table-body tr[data-label=B] button.ws-label").click()
+    load = browser.find_element(By.ID, "ws-ed-load")
+    load.send_keys("95")
+    browser.find_element(By.ID, "ws-ed-save").click()
+    wait_for(
+        lambda: (
+            "95 A of 160 A"
+            in browser.find_element(By.CSS_SELECTOR, "#ws-table-body tr[data-label=B]").text
+        ),
+        message="B's load caption",
+    )
+    background.refresh_from_db()
+    assert background.load_current_a == 95.0
+
+    button = browser.find_element(By.ID, "ws-new-finding")
+    assert button.is_displayed() and not button.is_enabled()  # nothing ticked yet
+    browser.find_element(By.CSS_SELECTOR, "#ws-table-body tr[data-label=A] input.ws-choose").click()
+    # The second one from the keyboard: Tab from the first box reaches the next row's box.
+    browser.find_element(
+        By.CSS_SELECTOR, "#ws-table-body tr[data-label=B] input.ws-choose"
+    ).send_keys(" ")
+    wait_for(lambda: button.is_enabled(), message="the button enabled")
+    button.click()
+    wait_for(lambda: "/findings/new/" in browser.current_url, message="the finding form")
+
+    ticked = browser.execute_script(
+        "return Array.from(document.querySelectorAll('input[name=marks]:checked'))"
+        ".map(e => Number(e.value));"
+    )
+    assert sorted(ticked) == sorted([hot.pk, background.pk])
+    expected = finding_suggest(survey=electrical_survey, basis="similar", marks=[hot, background])
+    assert expected["level"] is not None
+    heading = browser.find_element(By.ID, "suggestion-title").text
+    assert f"Suggested: {expected['level']}" in heading
+    picture = browser.find_element(By.ID, "finding-marks-picture")
+    assert f"marks={hot.pk}" in picture.get_attribute("src")
+    assert "marks A (L2 lug), B" in picture.get_attribute("alt")
+    wait_for(
+        lambda: browser.execute_script("return arguments[0].naturalWidth", picture) == 480,
+        message="the picture of the marks",
+    )
+
+    Select(browser.find_element(By.ID, "id_category")).select_by_index(1)
+    browser.find_element(By.CSS_SELECTOR, "button[name=save]").click()
+    finding = wait_for(lambda: Finding.objects.first(), message="the finding saved")
+    assert sorted(finding.marks.values_list("label", flat=True)) == ["A", "B"]
+    assert finding.suggested_level == expected["level"] and finding.level == expected["level"]
+    wait_for(lambda: f"/findings/{finding.pk}/" in browser.current_url, message="its page")
+    assert browser.find_elements(By.CSS_SELECTOR, f"img[src*='marks={hot.pk}']")
+    assert severe_console_errors(browser) == []
+
+
+def test_it_fits_a_building_surveys_readings_in_1400_px(
+    browser, live_server, thermographer, workspace_thermogram
+):
+    """Five marks with notes on an envelope survey: the readings table needs no sideways
+    scrolling in a 1400 px wide window (the humidity columns included)."""
+    from survey.services.marks import mark_add
+
+    for points, note in (
+        ([[100, 38], [124, 58]], "Warm spot over the radiator niche, checked from inside"),
+        ([[2, 82], [38, 118]], "Cold corner behind the wardrobe"),
+        ([[60, 10], [70, 20]], ""),
+        ([[140, 100], [150, 110]], "Window reveal"),
+        ([[80, 60]], ""),
+    ):
+        kind = "point" if len(points) == 1 else "rectangle"
+        mark_add(thermogram=workspace_thermogram, kind=kind, points=points, user=None, note=note)
+    browser.set_window_size(1400, 900)
+    try:
+        open_workspace(browser, live_server, thermographer, workspace_thermogram)
+        wait_for(lambda: len(table_rows(browser)) == 5, message="five marks listed")
+        heads = browser.execute_script(
+            "return Array.from(document.querySelectorAll('#ws-table-head th'))"
+            ".map(th => th.textContent);"
+        )
+        assert "Surface RH (95 % interval)" in heads and "To mould (80 %)" in heads
+        width = browser.execute_script(
+            "var w = document.querySelector('.ws-table-wrap');"
+            "return [w.scrollWidth, w.clientWidth, document.documentElement.clientWidth];"
+        )
+        assert width[2] >= 1380  # the window really is about 1400 px wide
+        browser.execute_script("document.querySelector('.ws-results').scrollIntoView()")
+        browser.save_screenshot("/tmp/workspace-1400.png")
+        assert width[0] <= width[1], width
+    finally:
+        browser.set_window_size(1280, 800)
+
+
+def test_it_takes_single_key_shortcuts_only_while_the_picture_has_focus(
+    browser, live_server, thermographer, workspace_thermogram
+):
+    """Keys 1–6 and + act on the focused picture only (WCAG 2.1.4), not on a focused button
+    or field; the picture says how to reach it from the keyboard."""
+    from selenium.webdriver.common.by import By
+
+    open_workspace(browser, live_server, thermographer, workspace_thermogram)
+    canvas = browser.find_element(By.ID, "ws-canvas")
+    help_text = browser.find_element(By.ID, "ws-canvas-help")
+    assert "ws-canvas-help" in canvas.get_attribute("aria-describedby").split()
+    assert help_text.is_displayed() and "Tab" in help_text.text
+
+    def pressed():
+        return browser.execute_script(
+            "return document.querySelector('.ws-tools [aria-pressed=true]').dataset.tool"
+        )
+
+    def zoom():
+        return browser.find_element(By.ID, "ws-zoom").text
+
+    before = zoom()
+    browser.find_element(By.ID, "ws-auto").send_keys("3+")  # a focused button
+    browser.find_element(By.ID, "ws-palette").send_keys("2")  # a focused list
+    time.sleep(0.3)
+    assert pressed() == "select" and zoom() == before
+
+    canvas.send_keys("3")
+    wait_for(lambda: pressed() == "rectangle", message="the rectangle tool from key 3")
+    canvas.send_keys("+")
+    wait_for(lambda: zoom() != before, message="zoomed in with +")
+    assert severe_console_errors(browser) == []
+
+
+def test_it_matches_photo_points_from_the_keyboard(
+    browser, live_server, thermographer, workspace_thermogram
+):
+    """Match points: cross-hair and Enter on the picture, x and y of the photo in fields; two
+    pairs of a photo at twice the scale are saved as that alignment."""
+    import io
+
+    from django.core.files.base import ContentFile
+    from PIL import Image
+    from selenium.webdriver.common.by import By
+    from selenium.webdriver.common.keys import Keys
+
+    buffer = io.BytesIO()
+    Image.new("RGB", (320, 240), (90, 90, 90)).save(buffer, "JPEG")
+    workspace_thermogram.photo.save("photo.jpg", ContentFile(buffer.getvalue()))
+    open_workspace(browser, live_server, thermographer, workspace_thermogram)
+    browser.find_element(By.ID, "ws-align").send_keys(Keys.ENTER)
+    canvas = browser.find_element(By.ID, "ws-canvas")
+
+    def add_pair(x, y):
+        wait_for(
+            lambda: browser.find_element(By.ID, "ws-align-keys").is_displayed(),
+            message="the photo point fields",
+        )
+        for name, value in (("ws-align-x", x), ("ws-align-y", y)):
+            field = browser.find_element(By.ID, name)
+            field.send_keys(Keys.CONTROL, "a")
+            field.send_keys(str(value))
+        browser.find_element(By.ID, "ws-align-add").send_keys(Keys.ENTER)
+
+    canvas.send_keys(Keys.ENTER, Keys.ENTER)  # the cross-hair at the centre (80, 60), placed
+    add_pair(160, 120)
+    # Shift + arrow moves 10 px (Keys.NULL lets go of Shift): to (110, 80).
+    canvas.send_keys(Keys.SHIFT, *[Keys.RIGHT] * 3, *[Keys.DOWN] * 2, Keys.NULL, Keys.ENTER)
+    add_pair(220, 160)
+    save = browser.find_element(By.ID, "ws-align-save")
+    wait_for(lambda: save.is_displayed(), message="Save alignment offered")
+    save.send_keys(Keys.ENTER)
+
+    def stored():
+        workspace_thermogram.refresh_from_db()
+        return workspace_thermogram.photo_alignment
+
+    alignment = wait_for(stored, message="the alignment saved")
+    assert alignment["pairs"] == [[[160, 120], [80, 60]], [[220, 160], [110, 80]]]
+    # Photo at twice the scale, shifted by 0: thermogram = photo × 0.5 (worked by hand).
+    np.testing.assert_allclose(alignment["matrix"], [[0.5, 0, 0], [0, 0.5, 0]], atol=1e-6)
+    assert severe_console_errors(browser) == []
+
+
+def _touch(browser, kind, points):
+    browser.execute_cdp_cmd(
+        "Input.dispatchTouchEvent",
+        {"type": kind, "touchPoints": [{"x": x, "y": y} for x, y in points]},
+    )
+
+
+def test_it_draws_point_and_rectangle_marks_by_touch_on_a_phone(
+    browser, live_server, thermographer, workspace_thermogram
+):
+    """At 390 px with touch: a tap with the Point tool and a drag with the Rectangle tool
+    save marks; the picture takes over touch only while a drawing tool is chosen."""
+    from selenium.webdriver.common.by import By
+
+    thermogram = workspace_thermogram
+    browser.execute_cdp_cmd(
+        "Emulation.setDeviceMetricsOverride",
+        {"width": 390, "height": 844, "deviceScaleFactor": 1, "mobile": True},
+    )
+    browser.execute_cdp_cmd(
+        "Emulation.setTouchEmulationEnabled", {"enabled": True, "maxTouchPoints": 5}
+    )
+    try:
+        open_workspace(browser, live_server, thermographer, thermogram)
+        canvas = browser.find_element(By.ID, "ws-canvas")
+
+        def touch_action():
+            return browser.execute_script(
+                "return getComputedStyle(arguments[0]).touchAction", canvas
+            )
+
+        assert touch_action() == "auto"  # Pick: a finger scrolls the page
+        browser.execute_script("arguments[0].scrollIntoView({block: 'center'})", canvas)
+
+        def at(x, y):
+            left, top = browser.execute_script(
+                "var r = arguments[0].getBoundingClientRect(); return [r.left + r.width / 2,"
+                " r.top + r.height / 2];",
+                canvas,
+            )
+            dx, dy = image_offset(browser, thermogram, x, y)
+            return (left + dx, top + dy)
+
+        browser.execute_script("document.querySelector('button[data-tool=point]').click()")
+        assert touch_action() == "none"
+        _touch(browser, "touchStart", [at(20, 20)])
+        _touch(browser, "touchEnd", [])
+        wait_for(lambda: len(table_rows(browser)) == 1, message="a point by touch")
+
+        browser.execute_script("document.querySelector('button[data-tool=rectangle]').click()")
+        _touch(browser, "touchStart", [at(100, 38)])
+        for step in range(1, 6):
+            _touch(browser, "touchMove", [at(100 + 5 * step, 38 + 4 * step)])
+        _touch(browser, "touchEnd", [])
+        wait_for(lambda: len(table_rows(browser)) == 2, message="a rectangle by touch")
+
+        marks = {m.label: m for m in Mark.objects.filter(thermogram=thermogram)}
+        assert marks["A"].kind == "point"
+        assert abs(marks["A"].points[0][0] - 20) <= 1 and abs(marks["A"].points[0][1] - 20) <= 1
+        assert marks["B"].kind == "rectangle"
+        (x0, y0), (x1, y1) = marks["B"].points
+        assert abs(x0 - 100) <= 1 and abs(y0 - 38) <= 1 and abs(x1 - 125) <= 1 and abs(y1 - 58) <= 1
+        overflow = browser.execute_script(
+            "return document.documentElement.scrollWidth - document.documentElement.clientWidth"
+        )
+        assert overflow <= 0
+        assert severe_console_errors(browser) == []
+    finally:
+        browser.execute_cdp_cmd("Emulation.setTouchEmulationEnabled", {"enabled": False})
+        browser.execute_cdp_cmd("Emulation.clearDeviceMetricsOverride", {})

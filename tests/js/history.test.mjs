@@ -11,13 +11,14 @@ import {
 const markA = {
   id: 7, label: "A", kind: "rectangle", points: [[1, 2], [10, 12]], single_pixel: false,
   name: "L1", emissivity: null, reflected_c: null, note: "", reference: null,
-  rise_method: "hottest_to_hottest", stats: { max_c: 40.5 }
+  rise_method: "hottest_to_hottest", load_current_a: 118, stats: { max_c: 40.5 }
 };
 
 test("a snapshot keeps what it takes to draw the mark again, and copies it", () => {
   const snap = snapshot(markA);
   assert.deepEqual(Object.keys(snap).sort(), [
-    "emissivity", "kind", "name", "note", "points", "reference", "reflected_c", "rise_method", "single_pixel"
+    "emissivity", "kind", "load_current_a", "name", "note", "points", "reference", "reflected_c", "rise_method",
+    "single_pixel"
   ]);
   snap.points[0][0] = 99;
   assert.equal(markA.points[0][0], 1);
@@ -35,7 +36,7 @@ test("undo of a drawn mark deletes it; redo draws it again", () => {
   assert.equal(operation.op, "create");
   assert.deepEqual(createBody(operation.snapshot), {
     kind: "rectangle", points: [[1, 2], [10, 12]], single_pixel: false, name: "L1", note: "",
-    rise_method: "hottest_to_hottest"
+    rise_method: "hottest_to_hottest", load_current_a: 118 // the measured load comes back too
   });
 });
 

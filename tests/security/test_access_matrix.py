@@ -301,6 +301,9 @@ MATRIX: dict[str, Entry] = {
     "survey:thermogram_preview": Entry("get", thermogram, everyone(200), media_type="image/png"),
     "survey:thermogram_thumbnail": Entry("get", thermogram, everyone(200), media_type="image/png"),
     "survey:thermogram_photo": Entry("get", thermogram, everyone(200), media_type="image/png"),
+    "survey:thermogram_marks_picture": Entry(
+        "get", thermogram, everyone(200), media_type="image/png"
+    ),
     "survey:thermogram_array": Entry(
         "get", thermogram, everyone(200), media_type="application/octet-stream"
     ),

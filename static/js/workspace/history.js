@@ -14,7 +14,8 @@
    A mark drawn again gets a new id (and maybe a new letter): remap() updates the stack. */
 
 export var SNAPSHOT_FIELDS = [
-  "kind", "points", "single_pixel", "name", "emissivity", "reflected_c", "note", "reference", "rise_method"
+  "kind", "points", "single_pixel", "name", "emissivity", "reflected_c", "note", "reference", "rise_method",
+  "load_current_a"
 ];
 
 function copy(value) { return value === undefined ? undefined : JSON.parse(JSON.stringify(value)); }
@@ -97,7 +98,7 @@ export function redoOperation(entry) {
 // The body that draws a snapshot again through POST …/marks/.
 export function createBody(snap) {
   var body = { kind: snap.kind, points: copy(snap.points) };
-  ["single_pixel", "name", "emissivity", "reflected_c", "note", "rise_method"].forEach(function (name) {
+  ["single_pixel", "name", "emissivity", "reflected_c", "note", "rise_method", "load_current_a"].forEach(function (name) {
     if (snap[name] !== undefined && snap[name] !== null) { body[name] = copy(snap[name]); }
   });
   if (snap.reference) { body.reference = snap.reference; }

@@ -135,6 +135,12 @@ canvas.addEventListener("wheel", function (event) {
 
 // --- keyboard ------------------------------------------------------------------------------
 
+/* A finger on the picture draws only while a drawing tool is chosen (or points are being
+   matched with the photo); with Pick it scrolls the page like anywhere else. */
+export function touchDrawing() {
+  canvas.classList.toggle("ws-drawing", state.tool !== "select" || !!state.aligning);
+}
+
 export function setTool(tool) {
   state.tool = tool;
   state.drawing = null;
@@ -142,6 +148,7 @@ export function setTool(tool) {
     button.setAttribute("aria-pressed", button.dataset.tool === tool ? "true" : "false");
   });
   canvas.classList.toggle("ws-picking", tool === "select");
+  touchDrawing();
   draw();
 }
 
@@ -178,8 +185,20 @@ function cycleMark(step) {
   status("Mark " + state.marks[index].label + " picked.");
 }
 
+// Single-key shortcuts (WCAG 2.1.4) act only here, while the picture has focus: typing in a
+// field or anywhere else on the page never chooses a tool or zooms.
+function toolOrViewKey(event) {
+  if (event.ctrlKey || event.metaKey || event.altKey) { return false; }
+  var index = "123456".indexOf(event.key);
+  if (index >= 0 && event.key.length === 1) { setTool(TOOLS[index]); return true; }
+  var views = { "+": function () { zoomAt(1.25); }, "-": function () { zoomAt(0.8); }, "0": fit, "=": oneToOne };
+  if (views[event.key]) { event.preventDefault(); views[event.key](); return true; }
+  return false;
+}
+
 canvas.addEventListener("keydown", function (event) {
   if (!state.temps) { return; }
+  if (toolOrViewKey(event)) { return; }
   var key = event.key, step = event.shiftKey ? 10 : 1, mark = selected();
   var arrows = { ArrowLeft: [-1, 0], ArrowRight: [1, 0], ArrowUp: [0, -1], ArrowDown: [0, 1] };
   if (arrows[key]) {
@@ -197,6 +216,7 @@ canvas.addEventListener("keydown", function (event) {
   } else if (key === "Enter") {
     event.preventDefault();
     if (!state.cursor) { state.cursor = clampPixel([state.w / 2, state.h / 2]); draw(); return; }
+    if (state.aligning) { alignClickThermogram(state.cursor); return; }
     keyboardPlace();
   } else if (key === "Delete" || key === "Backspace") {
     event.preventDefault();
@@ -209,13 +229,13 @@ canvas.addEventListener("keydown", function (event) {
   } else if (key === "]") { cycleMark(1); } else if (key === "[") { cycleMark(-1); }
 });
 
+// Page Up and Page Down are not character keys: they move between thermograms from anywhere
+// but a field (where they move the text cursor).
 document.addEventListener("keydown", function (event) {
   var target = event.target;
   if (event.ctrlKey || event.metaKey || event.altKey) { return; }
   if (target && (target.tagName === "INPUT" || target.tagName === "TEXTAREA" || target.tagName === "SELECT")) { return; }
-  var index = "123456".indexOf(event.key);
-  if (index >= 0 && event.key.length === 1) { setTool(TOOLS[index]); return; }
-  if (event.key === "+") { zoomAt(1.25); } else if (event.key === "-") { zoomAt(0.8); } else if (event.key === "0") { fit(); } else if (event.key === "=") { oneToOne(); } else if (event.key === "PageUp") { event.preventDefault(); call("goTo", "previous"); } else if (event.key === "PageDown") { event.preventDefault(); call("goTo", "next"); }
+  if (event.key === "PageUp") { event.preventDefault(); call("goTo", "previous"); } else if (event.key === "PageDown") { event.preventDefault(); call("goTo", "next"); }
 });
 
 document.querySelectorAll(".ws-tools button[data-tool]").forEach(function (button) {
@@ -299,7 +319,7 @@ export function setupOverlays(meta) {
   $("ws-cond-note").textContent = cond.available
     ? "Indoor air " + fmtTU(cond.indoor_air_c) + ", " + cond.indoor_rh_pct + " % RH: mould risk at surfaces below " +
       fmtTU(cond.surface_c.rh80) + ", condensation at or below " + fmtTU(cond.surface_c.rh100) + " (the " + (cond.rh100_name || "dew point") +
-      "; saturation over ice below 0 °C), at the thermogram's ε."
+      "; saturation over ice below " + fmtTU(0) + "), at the thermogram's ε."
     : cond.reason;
   $("ws-cond-legend").hidden = !cond.available;
   var mould = meta.colours.mould_risk, wet = meta.colours.condensation, iso = meta.colours.isotherm;

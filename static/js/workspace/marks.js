@@ -118,6 +118,9 @@ export function showEditor() {
   var name = $("ws-ed-name"), method = $("ws-ed-method");
   if (box.dataset.markId !== String(mark.id) || document.activeElement === canvas || !box.contains(document.activeElement)) {
     name.value = mark.name || "";
+    // A load current belongs to equipment: electrical and mechanical surveys.
+    $("ws-ed-load-box").hidden = state.meta.survey.is_building;
+    $("ws-ed-load").value = mark.load_current_a === null || mark.load_current_a === undefined ? "" : mark.load_current_a;
     method.value = mark.rise_method || "hottest_to_hottest";
     eps.value = mark.emissivity === null ? "" : mark.emissivity;
     eps.placeholder = state.meta.capture.emissivity;
@@ -149,6 +152,14 @@ $("ws-ed-form").addEventListener("submit", function (event) {
     name: $("ws-ed-name").value.trim(),
     rise_method: $("ws-ed-method").value
   };
+  if (!state.meta.survey.is_building) {
+    var loadText = $("ws-ed-load").value.trim();
+    changes.load_current_a = loadText === "" ? null : parseFloat(loadText);
+    if (changes.load_current_a !== null && !(isFinite(changes.load_current_a) && changes.load_current_a >= 0)) {
+      status("The load current must be a number of amperes, 0 or more.", true);
+      return;
+    }
+  }
   if (changes.emissivity !== null && !isFinite(changes.emissivity)) { status("Emissivity must be a number between 0.01 and 1.", true); return; }
   if (changes.reflected_c !== null && !isFinite(changes.reflected_c)) { status("Reflected temperature must be a number.", true); return; }
   $("ws-editor").dataset.markId = "";

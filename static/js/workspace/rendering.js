@@ -1,6 +1,7 @@
 /* Drawing the workspace: the coloured picture, the scale bar, marks and pins over it, the
    view (fit, zoom, pan) and the readout under the cursor. */
 
+import { placeLabels } from "./labels.js";
 import { apparentAt, correctedFrom } from "./readout.js";
 import {
   $, canvas, ctx, drawHooks, scaleBar, picture, photoImg, state,
@@ -114,6 +115,7 @@ export function draw() {
   ctx.globalAlpha = 1;
   $("ws-zoom").textContent = Math.round(state.zoom * (window.devicePixelRatio || 1) * 100) + " %";
   state.marks.forEach(function (mark) { drawMark(mark, mark.id === state.selectedId); });
+  drawLabels(state.marks, v);
   drawHooks.forEach(function (hook) { hook(); });
   if (state.drawing) { drawShape(state.drawing.kind, state.drawing.points, SELECTED_COLOUR, null, true); }
   if (state.cursor) { drawCursor(state.cursor); }
@@ -179,12 +181,6 @@ export function drawShape(kind, points, colour, singlePixel, open) {
 export function drawMark(mark, selected) {
   var colour = selected ? SELECTED_COLOUR : MARK_COLOUR;
   drawShape(mark.kind, mark.points, colour, mark.single_pixel, false);
-  var xs = mark.points.map(function (p) { return toScreen(p[0], p[1])[0]; });
-  var ys = mark.points.map(function (p) { return toScreen(p[0], p[1])[1]; });
-  var x = Math.min.apply(null, xs) + (mark.kind === "point" ? 8 : 0), y = Math.min.apply(null, ys) - 8;
-  ctx.font = "bold 15px sans-serif";
-  ctx.lineWidth = 3; ctx.strokeStyle = OUTLINE_COLOUR; ctx.strokeText(mark.label, x, Math.max(14, y));
-  ctx.fillStyle = colour; ctx.fillText(mark.label, x, Math.max(14, y));
   if (selected && mark.kind !== "point") {
     mark.points.forEach(function (p) {
       var s = toScreen(p[0], p[1]);
@@ -192,6 +188,46 @@ export function drawMark(mark, selected) {
       ctx.fillRect(s[0] - 4, s[1] - 4, 8, 8); ctx.strokeRect(s[0] - 4, s[1] - 4, 8, 8);
     });
   }
+}
+
+var LABEL_FONT = "bold 15px sans-serif", LABEL_HEIGHT = 16;
+
+/* A mark's outline in screen px, as labels.js wants it (the same outline shapePath draws). */
+export function labelShape(mark) {
+  var z = state.zoom, pts = mark.points.map(function (p) { return toScreen(p[0], p[1]); });
+  if (mark.kind === "rectangle" || mark.kind === "ellipse") {
+    var x0 = Math.min(pts[0][0], pts[1][0]), y0 = Math.min(pts[0][1], pts[1][1]);
+    var x1 = Math.max(pts[0][0], pts[1][0]), y1 = Math.max(pts[0][1], pts[1][1]);
+    var pad = mark.kind === "rectangle" ? z / 2 : 0;
+    return { kind: mark.kind, box: [x0 - pad, y0 - pad, x1 + pad, y1 + pad] };
+  }
+  if (mark.kind === "polygon") { return { kind: "polygon", corners: pts }; }
+  if (mark.kind === "point") {
+    var arm = Math.max((mark.single_pixel ? 0.5 : 1.5) * z + 6, 10);
+    return { kind: "point", anchor: pts[0], box: [pts[0][0] - arm, pts[0][1] - arm, pts[0][0] + arm, pts[0][1] + arm] };
+  }
+  return { kind: "line", anchor: pts[0] };
+}
+
+/* Every mark's label, placed by labels.js so that none covers another or leaves its outline. */
+export function drawLabels(marks, view) {
+  ctx.font = LABEL_FONT;
+  var items = marks.map(function (mark) {
+    return { shape: labelShape(mark), w: Math.ceil(ctx.measureText(mark.label).width) + 2, h: LABEL_HEIGHT };
+  });
+  var placed = placeLabels(items, view);
+  ctx.textBaseline = "top";
+  marks.forEach(function (mark, i) {
+    var p = placed[i], colour = mark.id === state.selectedId ? SELECTED_COLOUR : MARK_COLOUR;
+    if (p.leader) {
+      ctx.beginPath(); ctx.moveTo(p.leader.from[0], p.leader.from[1]); ctx.lineTo(p.leader.to[0], p.leader.to[1]);
+      ctx.lineWidth = 3; ctx.strokeStyle = OUTLINE_COLOUR; ctx.stroke();
+      ctx.lineWidth = 1; ctx.strokeStyle = colour; ctx.stroke();
+    }
+    ctx.lineWidth = 3; ctx.strokeStyle = OUTLINE_COLOUR; ctx.strokeText(mark.label, p.x + 1, p.y + 1);
+    ctx.fillStyle = colour; ctx.fillText(mark.label, p.x + 1, p.y + 1);
+  });
+  ctx.textBaseline = "alphabetic";
 }
 
 export function showReadout(p) {

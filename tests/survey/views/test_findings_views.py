@@ -286,3 +286,131 @@ def test_it_suggests_at_once_when_marks_come_ticked(setup, thermographer_client)
     response = thermographer_client.get(f"{url}?marks={setup['hot'].pk}&marks=junk")
     assert response.status_code == 200
     assert response.context["suggestion"]["level"] == 3  # 10 K, like component [memory]
+
+
+# --- a finding from marks chosen in the workspace: the picture of those marks ------------------
+
+
+def _marks_png(client, thermogram, *ids):
+    url = reverse("survey:thermogram_marks_picture", args=[thermogram.pk])
+    return client.get(url, {"marks": [str(i) for i in ids]})
+
+
+def test_it_draws_only_the_chosen_marks_of_this_thermogram(setup, thermographer_client, org):
+    """Marks of another thermogram and ids that are not numbers are left out, not refused."""
+    import io
+
+    from PIL import Image
+
+    other = make_thermogram(setup["survey"], block_field(20.0, 25.0))
+    foreign = mark_add(thermogram=other, kind="point", points=[[5, 5]], user=None)
+    only_hot = _marks_png(thermographer_client, setup["thermogram"], setup["hot"].pk)
+    assert only_hot.status_code == 200 and only_hot["Content-Type"] == "image/png"
+    assert Image.open(io.BytesIO(only_hot.content)).size[0] == 480
+    mixed = _marks_png(
+        thermographer_client, setup["thermogram"], setup["hot"].pk, foreign.pk, "B; drop"
+    )
+    assert mixed.content == only_hot.content
+    assert _marks_png(thermographer_client, setup["thermogram"]).content != only_hot.content
+
+
+def test_it_hides_the_marks_picture_from_an_outsider(setup, outsider_client):
+    response = _marks_png(outsider_client, setup["thermogram"], setup["hot"].pk)
+    assert response.status_code == 404
+
+
+def test_it_shows_the_chosen_marks_beside_the_new_finding(setup, thermographer_client):
+    """From the workspace (?marks=…) and after Suggest, the picture shows the marks ticked."""
+    hot, reference = setup["hot"], setup["reference"]
+    url = reverse("survey:finding_create", args=[setup["thermogram"].pk])
+    page = thermographer_client.get(url, {"marks": [hot.pk]}).content.decode()
+    assert f"marks.png?marks={hot.pk}" in page and "with mark B" in page
+    assert "Suggested:" in page  # judged at once, by the survey kind's first basis
+    posted = thermographer_client.post(
+        url,
+        {"marks": [hot.pk, reference.pk], "basis": "similar", "category": "component"}
+        | {"suggest": "1"},
+    ).content.decode()
+    assert f"marks.png?marks={reference.pk}&amp;marks={hot.pk}" in posted
+    assert "with marks A, B" in posted
+
+
+def test_it_offers_a_new_finding_to_editors_only(setup, thermographer_client, org):
+    from django.test import Client
+
+    from survey.models import Member
+    from tests.conftest import login, make_person
+
+    url = reverse("survey:api-thermogram", args=[setup["thermogram"].pk])
+    urls = thermographer_client.get(url).json()["urls"]
+    assert urls["new_finding"] == reverse("survey:finding_create", args=[setup["thermogram"].pk])
+    viewer_client = Client()
+    login(viewer_client, make_person(org, "vic", Member.Role.VIEWER, "Vic Viewer"))
+    assert viewer_client.get(url).json()["urls"]["new_finding"] is None
+
+
+def test_it_takes_a_heat_loss_estimate_in_the_members_units(
+    envelope_survey, thermographer, thermographer_client
+):
+    """A member on °F, mph and ft sees and enters those; the estimate is stored in °C, m/s,
+    m and m² and shown back in °F, mph, ft and ft²."""
+    thermographer.temperature_unit = "F"
+    thermographer.speed_unit = "mph"
+    thermographer.length_unit = "ft"
+    thermographer.save()
+    url = reverse("survey:heat_loss_create", args=[envelope_survey.pk])
+    page = thermographer_client.get(url).content.decode()
+    for label in ("Wind (mph)", "Air temperature (°F)", "Size (ft)", "Area (ft²)"):
+        assert label in page, label
+    response = thermographer_client.post(
+        url,
+        {
+            "label": "Cold lintel",
+            "side": "outside",
+            "t_surface_c": "50",
+            "emissivity": "0.9",
+            "t_air_c": "32",
+            "geometry": "vertical",
+            "size_m": "10",
+            "area_m2": "100",
+            "wind_m_s": "10",
+            "hours_per_year": "5000",
+            "price_per_kwh": "0.2",
+            "efficiency_pct": "100",
+        },
+    )
+    assert response.status_code == 302
+    inputs = HeatLossEstimate.objects.get().inputs
+    # 1 mph = 0.44704 m/s and 1 ft = 0.3048 m exactly (international yard and pound, 1959);
+    # °C = (°F − 32) / 1.8.
+    assert inputs["wind_m_s"] == pytest.approx(4.4704, abs=1e-9)
+    assert inputs["size_m"] == pytest.approx(3.048, abs=1e-9)
+    assert inputs["area_m2"] == pytest.approx(9.290304, abs=1e-9)
+    assert inputs["t_air_c"] == pytest.approx(0.0, abs=1e-9)
+    assert inputs["t_surface_c"] == pytest.approx(10.0, abs=1e-9)
+    listed = thermographer_client.get(
+        reverse("survey:survey_findings", args=[envelope_survey.pk])
+    ).content.decode()
+    for shown in ("wind 10.0 mph", "air 32.0 °F", "vertical 10 ft", "100 ft²", "at 50.0 °F"):
+        assert shown in listed, shown
+
+
+def test_it_refuses_a_wind_above_the_limit_in_mph(
+    envelope_survey, thermographer, thermographer_client
+):
+    """40 m/s is 89.5 mph: 100 mph is refused with the limit in mph, nothing saved."""
+    thermographer.speed_unit = "mph"
+    thermographer.save()
+    url = reverse("survey:heat_loss_create", args=[envelope_survey.pk])
+    response = thermographer_client.post(url, {"wind_m_s": "100", "side": "outside"})
+    assert "Enter at most 89.5 mph." in response.content.decode()
+    assert not HeatLossEstimate.objects.exists()
+
+
+def test_it_shows_the_findings_marks_on_its_page(setup, thermographer_client):
+    """The finding's page draws its thermogram with the finding's marks."""
+    finding, hot = setup["finding"], setup["hot"]
+    finding.thermogram = setup["thermogram"]
+    finding.save()
+    page = thermographer_client.get(reverse("survey:finding", args=[finding.pk])).content.decode()
+    assert f"marks.png?marks={hot.pk}" in page and "with mark B" in page
