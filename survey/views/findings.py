@@ -38,6 +38,7 @@ from survey.forms.findings import (
     HeatLossForm,
     finding_label,
 )
+from survey.forms.roof import MoistureCheckForm
 from survey.models import Finding
 from survey.services import assets as asset_services
 from survey.services import criteria_tables as table_services
@@ -121,6 +122,9 @@ def finding_detail(request: HttpRequest, pk: int) -> HttpResponse:
         "estimates": finding.heat_loss_estimates.all(),
         "cautions": cautions_for(finding.survey.kind),
     }
+    if finding.survey.kind == "roof":
+        context["moisture_checks"] = finding.moisture_checks.all()
+        context["moisture_form"] = MoistureCheckForm(initial={"checked_on": timezone.localdate()})
     return render(request, "survey/findings/detail.html", context)
 
 
