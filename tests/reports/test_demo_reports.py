@@ -167,7 +167,15 @@ def test_it_prints_the_envelope_extras(demo_reports):
     assert "≥ 100 % RH (condensation)" in text
     assert "mould risk" in text
     assert "cannot tell within the camera's accuracy" in text
-    assert re.search(r"margin [−-]?\d\.\d\d, ", text), "the fRsi margin is printed"
+    # fRsi (fRsi,min) margin m, decision: m = fRsi − fRsi,min (ISO 13788, 3.1.7 and 4.2).
+    factors = re.findall(r"(\d\.\d\d) \((\d\.\d\d)\) margin ([−-]?\d\.\d\d), ([a-z ']+)", text)
+    assert len(factors) >= 4
+    for factor, critical, margin, _ in factors:
+        margin = float(margin.replace("−", "-"))
+        assert margin == pytest.approx(float(factor) - float(critical), abs=0.011)
+    decisions = {decision.strip() for *_, decision in factors}
+    assert {"exceeded", "not exceeded"} <= decisions
+    assert any(d.startswith("cannot tell within the camera's accuracy") for d in decisions)
     heat = rendered.chapters["Heat loss"]
     assert "kWh / year" in heat and "EUR" in heat
 
