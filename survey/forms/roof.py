@@ -31,6 +31,8 @@ class PlanPositionForm(forms.Form):
 
 
 class MoistureCheckForm(forms.Form):
+    PREFIX = "check"  # the finding page holds other forms with a note field
+
     method = forms.ChoiceField(choices=MoistureCheck.Method.choices, label="Checked by")
     checked_on = forms.DateField(
         label="Date",

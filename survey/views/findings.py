@@ -124,7 +124,9 @@ def finding_detail(request: HttpRequest, pk: int) -> HttpResponse:
     }
     if finding.survey.kind == "roof":
         context["moisture_checks"] = finding.moisture_checks.all()
-        context["moisture_form"] = MoistureCheckForm(initial={"checked_on": timezone.localdate()})
+        context["moisture_form"] = MoistureCheckForm(
+            initial={"checked_on": timezone.localdate()}, prefix=MoistureCheckForm.PREFIX
+        )
     return render(request, "survey/findings/detail.html", context)
 
 

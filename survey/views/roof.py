@@ -104,7 +104,7 @@ def thermogram_plan_position(request: HttpRequest, pk: int) -> HttpResponse:
 def moisture_check_create(request: HttpRequest, pk: int) -> HttpResponse:
     finding = get_finding_for_user(request, pk)
     require_editor(get_member(request))
-    form = MoistureCheckForm(request.POST)
+    form = MoistureCheckForm(request.POST, prefix=MoistureCheckForm.PREFIX)
     if not form.is_valid():
         problems = [
             f"{form.fields[name].label}: {' '.join(errs)}"

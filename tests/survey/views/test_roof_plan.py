@@ -102,7 +102,12 @@ def test_it_records_a_check_from_the_finding_page(roof_survey, thermographer, th
     url = reverse("survey:moisture_check_create", args=[finding.pk])
     response = thermographer_client.post(
         url,
-        {"method": "core", "checked_on": "2026-03-04", "result": "wet", "reading": "wet"},
+        {
+            "check-method": "core",
+            "check-checked_on": "2026-03-04",
+            "check-result": "wet",
+            "check-reading": "wet",
+        },
         follow=True,
     )
     assert b"Check recorded." in response.content
@@ -110,7 +115,9 @@ def test_it_records_a_check_from_the_finding_page(roof_survey, thermographer, th
     assert (check.method, check.checked_on) == ("core", datetime.date(2026, 3, 4))
     future = (datetime.date.today() + datetime.timedelta(days=30)).isoformat()
     refused = thermographer_client.post(
-        url, {"method": "core", "checked_on": future, "result": "maybe"}, follow=True
+        url,
+        {"check-method": "core", "check-checked_on": future, "check-result": "maybe"},
+        follow=True,
     )
     assert b"Check not recorded." in refused.content
     assert MoistureCheck.objects.filter(finding=finding).count() == 1
