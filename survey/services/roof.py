@@ -16,6 +16,7 @@ from PIL import Image
 
 from survey.models import Finding, MoistureCheck, Survey, Thermogram
 from survey.services.audit import audit_record
+from survey.services.ingest import _strict_pictures
 from survey.thermal.decision import root_sum_square
 
 # A plan is a drawing or an aerial photo: 20 MB and 40 megapixels hold any sensible scan,
@@ -34,7 +35,8 @@ def _plan_picture(name: str, data: bytes) -> tuple[str, int, int]:
             f"{name} is {len(data) / 1024 / 1024:.1f} MB; a roof plan may be at most "
             f"{ROOF_PLAN_MAX_BYTES // 1024 // 1024} MB."
         )
-    with warnings.catch_warnings():
+    # Strict: WeasyPrint, once imported, lets Pillow accept pictures cut short.
+    with warnings.catch_warnings(), _strict_pictures():
         warnings.simplefilter("error", Image.DecompressionBombWarning)
         try:
             with Image.open(io.BytesIO(data)) as image:

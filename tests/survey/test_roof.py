@@ -191,3 +191,42 @@ def test_wet_area_total_sums_areas_and_combines_their_spread_in_quadrature(
 
 def test_wet_area_total_of_no_finding_is_zero(roof_survey):
     assert roof.wet_area_total([]) == {"rows": [], "total_m2": 0, "total_u_m2": 0.0}
+
+
+def test_the_results_export_carries_the_checks_and_the_plan(roof_survey, thermographer):
+    """The data fingerprint printed in the report covers the checks and the plan."""
+    from reports.results import content_digest, survey_results
+
+    finding = wet_finding(roof_survey, thermographer.user, 10, 10)
+    before = content_digest(survey_results(roof_survey))
+    upload(roof_survey, picture())
+    roof.moisture_check_add(
+        finding=finding,
+        user=None,
+        method="meter",
+        checked_on=datetime.date(2026, 3, 4),
+        result="dry",
+        reading="18 on the meter's relative scale",
+    )
+    results = survey_results(roof_survey)
+    assert content_digest(results) != before
+    assert results["survey"]["roof_plan_sha256"] == roof_survey.roof_plan_sha256
+    assert results["findings"][0]["moisture_checks"] == [
+        {
+            "method": "meter",
+            "checked_on": "2026-03-04",
+            "result": "dry",
+            "reading": "18 on the meter's relative scale",
+            "note": "",
+        }
+    ]
+
+
+def test_it_refuses_a_cut_short_plan_once_weasyprint_is_loaded(roof_survey):
+    """WeasyPrint relaxes Pillow for the whole process; the plan check stays strict."""
+    import weasyprint  # noqa: F401 - loading it sets ImageFile.LOAD_TRUNCATED_IMAGES
+    from PIL import ImageFile
+
+    assert ImageFile.LOAD_TRUNCATED_IMAGES
+    with pytest.raises(ValidationError, match="could not be read"):
+        upload(roof_survey, picture("PNG", (300, 200), "red")[:300])
