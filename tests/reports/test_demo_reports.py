@@ -167,6 +167,22 @@ def test_it_prints_the_envelope_extras(demo_reports):
     assert "≥ 100 % RH (condensation)" in text
     assert "mould risk" in text
     assert "cannot tell within the camera's accuracy" in text
+    # Surface RH interval against 100 % (condensation) and 80 % (mould), ISO 13788, with the
+    # guarded rule (ILAC-G8:2019): wholly above → exceeded, wholly below → not exceeded,
+    # straddling → cannot tell. The printed ends are whole percent, so a limit they touch
+    # is not judged here.
+    rows = re.findall(
+        r"(\d+)–(\d+) %; [^;]+; condensation ([a-z ']+?), mould ([a-z ']+?)(?= [−-]?\d| —)", text
+    )
+    assert len(rows) >= 6
+    for low, high, condensation, mould in rows:
+        for limit, decision in ((100, condensation), (80, mould)):
+            if int(low) > limit:
+                assert decision == "exceeded", (low, high, limit)
+            elif int(high) < limit:
+                assert decision == "not exceeded", (low, high, limit)
+            elif int(low) < limit < int(high):
+                assert decision == "cannot tell within the camera's accuracy", (low, high)
     # fRsi (fRsi,min) margin m, decision: m = fRsi − fRsi,min (ISO 13788, 3.1.7 and 4.2).
     factors = re.findall(r"(\d\.\d\d) \((\d\.\d\d)\) margin ([−-]?\d\.\d\d), ([a-z ']+)", text)
     assert len(factors) >= 4
