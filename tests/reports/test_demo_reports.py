@@ -138,6 +138,7 @@ def test_it_prints_the_roof_plan_wet_areas_and_checks(demo_reports):
     assert "Insulation Mineral wool boards, 120 mm" in roof
     assert "Rain in the 24 h before none (0 mm)" in roof
     assert "Roof plan: white discs are the thermograms by number" in roof
+    assert "not recorded" not in rendered.chapters["Survey conditions"]  # a complete night
     areas = re.findall(r"W(\d) Roof B, [^.]*? (\d) (\d+\.\d\d) (\d+\.\d\d)", roof)
     assert [a[0] for a in areas] == ["1", "2"]
     total = re.search(r"Total of 2 wet areas \D*?(\d+\.\d\d) (\d+\.\d\d)", roof)

@@ -723,7 +723,14 @@ class Command(BaseCommand):
                 roof_membrane="Two-layer bitumen felt, mineral-surfaced cap sheet",
                 roof_insulation="Mineral wool boards, 120 mm, on a steel deck",
                 building_description="Flat roof over the four-storey Block B (invented).",
-                conditions={"rain_24h_mm": 0.0, "hours_since_sun": 5.0},
+                # A dry spring night: the membrane's coldest dry part stays above the
+                # outdoor frost point (about −3.5 °C at 6 °C and 50 %).
+                conditions={
+                    "rain_24h_mm": 0.0,
+                    "hours_since_sun": 1.5,
+                    "outdoor_rh_pct": 50.0,
+                    "roof_surface_c": -0.8,
+                },
             )
         west = self._thermogram(
             roof,
