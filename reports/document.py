@@ -17,6 +17,7 @@ from django.template.loader import render_to_string
 from django.utils import timezone
 
 from reports.fetcher import BASE_URL, LocalOnlyFetcher
+from reports.kinds import envelope_context, roof_context
 from reports.models import ReportVersion
 from reports.pictures import Pictures, draft_watermark_png, draw_thermogram, trend_chart
 from reports.results import content_digest, readings_by_thermogram, survey_results
@@ -246,7 +247,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
     findings = list(
         survey.findings.select_related(
             "thermogram__asset", "asset", "criteria_table"
-        ).prefetch_related("marks")
+        ).prefetch_related("marks", "moisture_checks")
     )
     by_thermogram: dict[int, list[Finding]] = {}
     for finding in findings:
@@ -340,6 +341,8 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         "sections": sections,
         "heat_loss": heat_loss,
         "heat_loss_total": heat_loss_total,
+        "roof": roof_context(survey, thermograms, findings, pictures),
+        "building": envelope_context(survey, version.temperature_unit),
         "cautions": cautions(survey, heat_loss=bool(heat_loss)),
         "references": [ref for key in reference_keys for ref in REPORT_SOURCES[key]],
         "thermogram_count": len(thermograms),

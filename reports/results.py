@@ -110,6 +110,16 @@ def _finding_dict(finding: Finding) -> dict:
         "status": finding.status,
         "verification": finding.verification,
         "verification_reason": finding.verification_reason,
+        "moisture_checks": [
+            {
+                "method": check.method,
+                "checked_on": check.checked_on.isoformat(),
+                "result": check.result,
+                "reading": check.reading,
+                "note": check.note,
+            }
+            for check in finding.moisture_checks.all()
+        ],
     }
 
 
@@ -142,6 +152,11 @@ def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = N
                 "site": survey.site.name,
                 "instrument": str(survey.camera) if survey.camera_id else survey.instrument,
                 "start_time": survey.start_time.strftime("%H:%M") if survey.start_time else None,
+                "end_time": survey.end_time.strftime("%H:%M") if survey.end_time else None,
+                "building_description": survey.building_description,
+                "roof_membrane": survey.roof_membrane,
+                "roof_insulation": survey.roof_insulation,
+                "roof_plan_sha256": survey.roof_plan_sha256 or None,
                 "thermographer": str(survey.thermographer) if survey.thermographer else None,
                 "reviewer": str(survey.reviewer) if survey.reviewer else None,
             },
@@ -160,6 +175,8 @@ def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = N
                     "reflected_c": t.reflected_c,
                     "transmittance": t.transmittance,
                     "distance_m": t.distance_m,
+                    "plan_x_pct": t.plan_x_pct,
+                    "plan_y_pct": t.plan_y_pct,
                 }
                 for t in thermograms
             ],
@@ -168,7 +185,7 @@ def survey_results(survey: Survey, *, readings: dict[int, list[dict]] | None = N
                 for f in survey.findings.select_related(
                     "asset", "criteria_table", "survey", "reference_mark"
                 )
-                .prefetch_related("marks")
+                .prefetch_related("marks", "moisture_checks")
                 .order_by("id")
             ],
             "heat_loss": [

@@ -325,6 +325,7 @@ class Survey(models.Model):
     start_time = models.TimeField(
         null=True, blank=True, help_text="Local time the survey began (roofs: at night)."
     )
+    end_time = models.TimeField(null=True, blank=True, help_text="Local time the survey ended.")
     crew = models.CharField(max_length=300, blank=True)
     thermographer = models.ForeignKey(
         Member, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
@@ -355,6 +356,24 @@ class Survey(models.Model):
     scope_examined = models.TextField(blank=True, help_text="What was examined.")
     scope_not_examined = models.TextField(blank=True, help_text="What was not examined, and why.")
     notes = models.TextField(blank=True)
+    building_description = models.TextField(
+        blank=True,
+        max_length=4000,
+        help_text="The building and its construction (walls, roof, insulation, age).",
+    )
+    roof_membrane = models.CharField(
+        max_length=200, blank=True, help_text="Roof membrane, e.g. bitumen felt, EPDM, PVC."
+    )
+    roof_insulation = models.CharField(
+        max_length=200, blank=True, help_text="Roof insulation, e.g. mineral wool, PIR boards."
+    )
+    # The roof plan as uploaded: a new upload stores a new file, the old one is never
+    # rewritten. Thermograms are placed on it in percent of its width and height.
+    roof_plan = models.FileField(upload_to="plans/%Y/%m/", max_length=300, blank=True)
+    roof_plan_name = models.CharField(max_length=255, blank=True)
+    roof_plan_sha256 = models.CharField(max_length=64, blank=True)
+    roof_plan_width = models.PositiveIntegerField(null=True, blank=True)
+    roof_plan_height = models.PositiveIntegerField(null=True, blank=True)
     time_zone = models.CharField(
         max_length=64,
         blank=True,
@@ -407,6 +426,11 @@ class Conditions(models.Model):
         DRIZZLE = "drizzle", "Drizzle or mist"
         RAIN = "rain", "Rain"
         SNOW = "snow", "Snow"
+
+    class PressureMethod(models.TextChoices):
+        BLOWER_DOOR = "blower_door", "Blower door"
+        BUILDING_FANS = "fans", "Building's own ventilation"
+        NONE = "none", "Not induced (natural conditions)"
 
     survey = models.OneToOneField(
         Survey, on_delete=models.CASCADE, primary_key=True, related_name="conditions"
@@ -469,6 +493,19 @@ class Conditions(models.Model):
     design_outdoor_c = models.FloatField(
         null=True, blank=True, validators=[MinValueValidator(-60), MaxValueValidator(30)]
     )
+    rain_24h_mm = models.FloatField(
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(0), MaxValueValidator(500)],
+        help_text="Rain in the 24 hours before the survey (roof surveys).",
+    )
+    pressure_difference_pa = models.FloatField(
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(-200), MaxValueValidator(200)],
+        help_text="Inside–outside pressure difference when measured (positive: inside higher).",
+    )
+    pressure_method = models.CharField(max_length=12, choices=PressureMethod.choices, blank=True)
     equipment_steady = models.BooleanField(null=True, blank=True)
     covers_opened_by_qualified = models.BooleanField(null=True, blank=True)
     notes = models.TextField(blank=True)
@@ -563,6 +600,18 @@ class Thermogram(models.Model):
     photo_sha256 = models.CharField(max_length=64, blank=True)
     photo_alignment = models.JSONField(null=True, blank=True)
     note = models.TextField(blank=True)
+    plan_x_pct = models.FloatField(
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(0), MaxValueValidator(100)],
+        help_text="Position on the roof plan, percent of its width from the left.",
+    )
+    plan_y_pct = models.FloatField(
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(0), MaxValueValidator(100)],
+        help_text="Position on the roof plan, percent of its height from the top.",
+    )
     created_by = models.ForeignKey(
         settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
     )
@@ -831,6 +880,39 @@ class Finding(models.Model):
     @property
     def is_overridden(self) -> bool:
         return self.level is not None and self.level != self.suggested_level
+
+
+class MoistureCheck(models.Model):
+    """A core cut or moisture-meter reading that confirms (or not) a roof finding."""
+
+    class Method(models.TextChoices):
+        CORE = "core", "Core sample"
+        METER = "meter", "Moisture meter"
+
+    class Result(models.TextChoices):
+        WET = "wet", "Wet"
+        DRY = "dry", "Dry"
+
+    finding = models.ForeignKey(Finding, on_delete=models.CASCADE, related_name="moisture_checks")
+    method = models.CharField(max_length=10, choices=Method.choices)
+    checked_on = models.DateField()
+    result = models.CharField(max_length=10, choices=Result.choices)
+    reading = models.CharField(
+        max_length=100,
+        blank=True,
+        help_text="The meter's reading with its scale, or what the core showed, e.g. 38 % WME.",
+    )
+    note = models.TextField(blank=True, max_length=2000)
+    created_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
+    )
+    created_at = models.DateTimeField(auto_now_add=True)
+
+    class Meta:
+        ordering = ["checked_on", "id"]
+
+    def __str__(self) -> str:
+        return f"{self.get_method_display()} {self.checked_on}: {self.get_result_display()}"
 
 
 class Acknowledgement(models.Model):

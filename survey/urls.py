@@ -19,6 +19,7 @@ from survey.views import (
     proposal_settings,
     recovery,
     register,
+    roof,
 )
 from survey.views.signin import ThrottledLoginView, admin_login
 
@@ -183,8 +184,29 @@ register_patterns = [
     path("organization/", organization.organization_settings, name="organization"),
 ]
 
+# --- roof surveys: the plan and moisture checks (survey/views/roof.py) ---
+roof_patterns = [
+    path("surveys/<int:pk>/roof-plan/", roof.roof_plan, name="roof_plan"),
+    path("surveys/<int:pk>/roof-plan/image/", roof.roof_plan_image, name="roof_plan_image"),
+    path(
+        "thermograms/<int:pk>/plan-position/",
+        roof.thermogram_plan_position,
+        name="thermogram_plan_position",
+    ),
+    path(
+        "findings/<int:pk>/moisture-checks/",
+        roof.moisture_check_create,
+        name="moisture_check_create",
+    ),
+]
+
 survey_patterns = (
-    page_patterns + api_patterns + judgement_patterns + field_patterns + register_patterns
+    page_patterns
+    + api_patterns
+    + judgement_patterns
+    + field_patterns
+    + register_patterns
+    + roof_patterns
 )
 
 urlpatterns = [

@@ -33,7 +33,7 @@ class SiteForm(forms.Form):
         self.fields["client"].queryset = clients
 
 
-CONDITION_CHOICE_FIELDS = ("sky", "precipitation")
+CONDITION_CHOICE_FIELDS = ("sky", "precipitation", "pressure_method")
 
 
 CONDITION_BOOL_FIELDS = (
@@ -52,6 +52,8 @@ CONDITION_NUMBER_FIELDS = (
     "hours_since_sun",
     "delta_t_hours",
     "load_pct",
+    "rain_24h_mm",
+    "pressure_difference_pa",
 )
 
 
@@ -91,6 +93,13 @@ class SurveyForm(UnitFormMixin, forms.Form):
         help_text="Local time the survey began; a roof survey is made at night.",
         error_messages={"invalid": "Enter the time as hours and minutes, for example 21:30."},
     )
+    end_time = forms.TimeField(
+        required=False,
+        label="End time",
+        widget=forms.TimeInput(attrs={"type": "time"}, format="%H:%M"),
+        help_text="Local time the survey ended.",
+        error_messages={"invalid": "Enter the time as hours and minutes, for example 23:15."},
+    )
     crew = forms.CharField(max_length=300, required=False)
     thermographer = forms.ModelChoiceField(queryset=None, required=False)
     reviewer = forms.ModelChoiceField(queryset=None, required=False)
@@ -123,6 +132,16 @@ class SurveyForm(UnitFormMixin, forms.Form):
     notes = forms.CharField(
         widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
     )
+    building_description = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 3}),
+        required=False,
+        label="Building and construction",
+        help_text="Walls, roof, insulation, windows, age: what the reader needs to place the "
+        "findings.",
+        max_length=4000,
+    )
+    roof_membrane = forms.CharField(max_length=200, required=False, label="Roof membrane")
+    roof_insulation = forms.CharField(max_length=200, required=False, label="Roof insulation")
     time_zone = forms.CharField(
         max_length=64,
         required=False,
@@ -144,6 +163,15 @@ class SurveyForm(UnitFormMixin, forms.Form):
     )
     sunny_day_before = yes_no_field("Sunny day before (roof surveys)")
     load_pct = number_field("Electrical load (% of rating)", 0, 150, unit_text=" %")
+    rain_24h_mm = number_field("Rain in the 24 h before (mm)", 0, 500, unit_text=" mm")
+    pressure_difference_pa = number_field(
+        "Pressure difference inside–outside (Pa)", -200, 200, unit_text=" Pa"
+    )
+    pressure_method = forms.ChoiceField(
+        choices=[("", "Not measured"), *Conditions.PressureMethod.choices],
+        required=False,
+        label="Pressure difference made by",
+    )
     design_indoor_rh_pct = number_field("Design indoor RH (%)", 1, 100, unit_text=" %")
     equipment_steady = yes_no_field("Equipment at steady load")
     covers_opened_by_qualified = yes_no_field("Covers opened by a qualified person")
@@ -208,6 +236,13 @@ class SurveyForm(UnitFormMixin, forms.Form):
     def clean_camera_accuracy_c(self):
         return self._difference_c("camera_accuracy_c")
 
+    def clean_pressure_method(self):
+        method = self.cleaned_data.get("pressure_method") or ""
+        pressure = self.cleaned_data.get("pressure_difference_pa")
+        if pressure is not None and not method:
+            raise ValidationError("Say how the pressure difference was made, or clear it.")
+        return method
+
     def clean_time_zone(self):
         value = (self.cleaned_data.get("time_zone") or "").strip()
         validate_time_zone(value)
@@ -218,9 +253,10 @@ class SurveyForm(UnitFormMixin, forms.Form):
 
     def survey_values(self) -> dict:
         names = (
-            "site kind title date start_time crew thermographer reviewer camera instrument "
-            "ifov_mrad camera_accuracy_c camera_accuracy_pct scope_examined "
-            "scope_not_examined notes time_zone default_emissivity default_reflected_c"
+            "site kind title date start_time end_time crew thermographer reviewer camera "
+            "instrument ifov_mrad camera_accuracy_c camera_accuracy_pct scope_examined "
+            "scope_not_examined notes building_description roof_membrane roof_insulation "
+            "time_zone default_emissivity default_reflected_c"
         ).split()
         return {name: self.cleaned_data[name] for name in names}
 
@@ -242,8 +278,9 @@ class SurveyForm(UnitFormMixin, forms.Form):
         values = {
             name: getattr(survey, name)
             for name in (
-                "kind title date start_time crew instrument ifov_mrad camera_accuracy_c "
-                "camera_accuracy_pct scope_examined scope_not_examined notes time_zone "
+                "kind title date start_time end_time crew instrument ifov_mrad "
+                "camera_accuracy_c camera_accuracy_pct scope_examined scope_not_examined notes "
+                "building_description roof_membrane roof_insulation time_zone "
                 "default_emissivity default_reflected_c"
             ).split()
         }

@@ -154,6 +154,35 @@ def expanded_from_limit(limit_u):
     return _checks.result(COVERAGE_FACTOR * a / np.sqrt(3.0))
 
 
+def root_sum_square(uncertainties):
+    """Combined uncertainty of a sum of independent quantities.
+
+    Parameters
+    ----------
+    uncertainties : array_like
+        The expanded uncertainties (same unit, same coverage factor) of the terms of a sum,
+        each ≥ 0.
+
+    Returns
+    -------
+    float
+        U = √(ΣUᵢ²), in the unit of the inputs; 0 for no terms.
+
+    Notes
+    -----
+    The law of propagation of uncertainty for uncorrelated inputs with sensitivity
+    coefficients of 1 (a sum) [GUM2008] (5.1.2, 5.1.3). With one coverage factor for all
+    terms the expanded uncertainties combine the same way as the standard ones.
+
+    Examples
+    --------
+    >>> float(root_sum_square([3.0, 4.0]))
+    5.0
+    """
+    u = _checks.in_range(np.asarray(uncertainties, dtype=float), "uncertainties", 0.0, np.inf)
+    return float(np.sqrt(np.sum(np.square(u))))
+
+
 def _ends(value, u, name: str, u_name: str):
     centre = _checks.as_array(value, name)
     spread = _checks.in_range(u, u_name, 0.0, np.inf)

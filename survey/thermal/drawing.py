@@ -393,3 +393,77 @@ def encode_png(image, *, compress_level: int = 6) -> bytes:
     buffer = io.BytesIO()
     image.save(buffer, format="PNG", compress_level=compress_level)
     return buffer.getvalue()
+
+
+# Plan markers: white discs with a black rim read on drawings and aerial photos alike; wet
+# areas in blue (0, 114, 178) with a white halo, a colour red-green colour-blind readers
+# tell from the black and white of the markers.
+PLAN_MARKER_FILL = (255, 255, 255)
+PLAN_MARKER_RIM = (20, 20, 20)
+PLAN_WET_COLOUR = (0, 114, 178)
+
+
+def draw_plan(plan, placements: Iterable, wet_areas: Iterable, *, max_width_px: int = 1600):
+    """A roof plan with numbered thermogram positions and labelled wet-area outlines.
+
+    Parameters
+    ----------
+    plan : PIL.Image.Image
+        The plan as uploaded (not changed: a copy is drawn on).
+    placements : iterable of (x_frac, y_frac, label)
+        Thermogram positions as fractions of the plan's width and height from the top-left.
+    wet_areas : iterable of (x_frac, y_frac, label)
+        Wet-area outlines, drawn as a ring around the position with the label beside it.
+    max_width_px : int
+        The copy is shrunk to at most this width first.
+
+    Returns
+    -------
+    PIL.Image.Image
+        An RGB copy with the drawing.
+
+    Examples
+    --------
+    >>> from PIL import Image
+    >>> out = draw_plan(Image.new("RGB", (200, 100), "grey"), [(0.5, 0.5, "1")], [])
+    >>> out.size, out.getpixel((94, 50)) == PLAN_MARKER_RIM  # the marker's rim, 6 px left
+    ((200, 100), True)
+    """
+    from PIL import ImageDraw
+
+    if max_width_px < 1:
+        raise ValueError("max_width_px must be at least 1")
+    image = plan.convert("RGB")
+    if image.width > max_width_px:
+        height = max(1, round(image.height * max_width_px / image.width))
+        image = image.resize((max_width_px, height))
+    draw = ImageDraw.Draw(image)
+    size = max(image.size)
+    radius = max(6, round(size / 70))
+    rim = max(2, round(size / 500))
+    label_font = font(max(10, round(radius * 1.3)), bold=True)
+    for x_frac, y_frac, label in wet_areas:
+        x, y = x_frac * image.width, y_frac * image.height
+        ring = radius * 3
+        box = [x - ring, y - ring, x + ring, y + ring]
+        draw.ellipse(box, outline=(255, 255, 255), width=rim * 3)
+        draw.ellipse(box, outline=PLAN_WET_COLOUR, width=rim * 2)
+        text_x = min(max(x + ring + rim, 0), image.width - label_font.size)
+        text_y = min(max(y - label_font.size / 2, 0), image.height - label_font.size)
+        if text_x + draw.textlength(str(label), font=label_font) > image.width:
+            text_x = max(x - ring - rim - draw.textlength(str(label), font=label_font), 0)
+        draw.text(
+            (text_x, text_y),
+            str(label),
+            font=label_font,
+            fill=PLAN_WET_COLOUR,
+            stroke_width=rim + 1,
+            stroke_fill=(255, 255, 255),
+        )
+    for x_frac, y_frac, label in placements:
+        x, y = x_frac * image.width, y_frac * image.height
+        box = [x - radius, y - radius, x + radius, y + radius]
+        draw.ellipse(box, fill=PLAN_MARKER_FILL, outline=PLAN_MARKER_RIM, width=rim)
+        number_font = font(max(8, round(radius * (1.2 if len(str(label)) < 3 else 0.8))), True)
+        draw.text((x, y), str(label), font=number_font, fill=PLAN_MARKER_RIM, anchor="mm")
+    return image

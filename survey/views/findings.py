@@ -40,6 +40,7 @@ from survey.forms.findings import (
     HeatLossForm,
     finding_label,
 )
+from survey.forms.roof import MoistureCheckForm
 from survey.models import Finding
 from survey.services import assets as asset_services
 from survey.services import criteria_tables as table_services
@@ -144,6 +145,11 @@ def finding_detail(request: HttpRequest, pk: int) -> HttpResponse:
         "cautions": cautions_for(finding.survey.kind),
     }
     context |= _marks_picture(finding.thermogram, marks)
+    if finding.survey.kind == "roof":
+        context["moisture_checks"] = finding.moisture_checks.all()
+        context["moisture_form"] = MoistureCheckForm(
+            initial={"checked_on": timezone.localdate()}, prefix=MoistureCheckForm.PREFIX
+        )
     return render(request, "survey/findings/detail.html", context)
 
 

@@ -142,7 +142,9 @@ def demo_firm(transactional_db):
     survey_soft_delete(survey=mistake, user=admin.user)
     # The issued report shows the envelope survey's thermograms, so they open read-only; the
     # workspace's mark editor is checked on one the report does not hold.
-    electrical = Survey.objects.get(organization=admin.organization, kind=Survey.Kind.ELECTRICAL)
+    electrical = Survey.objects.get(
+        organization=admin.organization, title="Main distribution panel survey"
+    )
     return {
         "admin": admin,
         "survey": survey,

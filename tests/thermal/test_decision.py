@@ -177,3 +177,27 @@ def test_decision_invalid_input_raises_naming_the_parameter(call, parameter):
     # Source: DESIGN.md contract (ValueError naming the parameter).
     with pytest.raises(ValueError, match=parameter):
         call()
+
+
+@pytest.mark.parametrize(
+    ("terms", "expected"),
+    [
+        # 3-4-5 triangle; JCGM 100:2008 (GUM) 5.1.2 with unit sensitivities, by hand.
+        ([3.0, 4.0], 5.0),
+        ([0.23, 0.18], 0.29206164),  # √(0.0529 + 0.0324), by hand
+        ([2.0], 2.0),
+        ([], 0.0),
+    ],
+)
+def test_root_sum_square_combines_independent_terms(terms, expected):
+    """The expanded uncertainty of a sum of independent terms is √(ΣUᵢ²)."""
+    from survey.thermal.decision import root_sum_square
+
+    assert root_sum_square(terms) == pytest.approx(expected, abs=1e-8)
+
+
+def test_root_sum_square_refuses_a_negative_term():
+    from survey.thermal.decision import root_sum_square
+
+    with pytest.raises(ValueError, match="uncertainties"):
+        root_sum_square([1.0, -0.5])

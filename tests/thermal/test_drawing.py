@@ -168,3 +168,33 @@ def test_render_picture_draws_a_scale_bar_beside_a_wide_flat_thermogram():
     assert image.width == 680 and MIN_SCALE_BAR_PX <= image.height <= 880
     with pytest.raises(ValueError, match="at most"):
         render_picture(wide, width_px=MAX_PICTURE_SIDE_PX + 1)
+
+
+def test_draw_plan_marks_positions_and_wet_areas_on_a_copy():
+    """A white disc with a dark rim at each thermogram's place, a blue ring around each wet
+    area, drawn on a copy shrunk to the asked width; the original is untouched."""
+    from PIL import Image
+
+    from survey.thermal.drawing import (
+        PLAN_MARKER_RIM,
+        PLAN_WET_COLOUR,
+        draw_plan,
+    )
+
+    plan = Image.new("RGB", (2000, 1000), (200, 200, 200))
+    out = draw_plan(plan, [(0.25, 0.5, "1")], [(0.75, 0.5, "W1 5.6 ± 0.2 m²")], max_width_px=1000)
+    assert out.size == (1000, 500) and plan.getpixel((500, 500)) == (200, 200, 200)
+    radius, rim = max(6, round(1000 / 70)), max(2, round(1000 / 500))
+    assert out.getpixel((250 - radius + rim // 2, 250)) == PLAN_MARKER_RIM
+    ring = 3 * radius  # the wet ring's radius: three markers
+    colours = {out.getpixel((750 - ring + dx, 250)) for dx in range(0, 3 * rim)}
+    assert PLAN_WET_COLOUR in colours
+
+
+def test_draw_plan_refuses_a_zero_width():
+    from PIL import Image
+
+    from survey.thermal.drawing import draw_plan
+
+    with pytest.raises(ValueError, match="max_width_px"):
+        draw_plan(Image.new("RGB", (10, 10)), [], [], max_width_px=0)

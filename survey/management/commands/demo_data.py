@@ -85,16 +85,78 @@ def wet_roof(rng) -> np.ndarray:
     return (field + 2.4 * blob + _noise(rng, x.shape, 0.08)).astype(np.float32)
 
 
-def panel_three_phases(rng) -> np.ndarray:
+def wet_roof_west(rng) -> np.ndarray:
+    """The west half of the same roof: a smaller wet area along a gutter line."""
+    x, y = _grid(256, 192)
+    field = -1.2 - 0.003 * y
+    blob = np.exp(-((((x - 90) / 30.0) ** 2 + ((y - 70) / 20.0) ** 2) ** 1.5))
+    return (field + 2.1 * blob + _noise(rng, x.shape, 0.08)).astype(np.float32)
+
+
+def motor_body(rng) -> np.ndarray:
+    """A drive motor running normally: a warm, even frame and a cooler fan cowl."""
+    x, y = _grid(240, 180)
+    field = np.full(x.shape, 23.0)
+    frame = (np.abs(x - 110) < 70) & (np.abs(y - 95) < 45)
+    field[frame] = 41.0 - 0.02 * np.abs(x[frame] - 110)
+    cowl = (x >= 180) & (x < 215) & (np.abs(y - 95) < 40)
+    field[cowl] = 31.0
+    return (field + _noise(rng, x.shape, 0.05)).astype(np.float32)
+
+
+def panel_three_phases(rng, peaks=((70, 34.0), (120, 61.0), (170, 33.5))) -> np.ndarray:
     """A distribution panel: three phase lugs under the same load, phase B's lug hot."""
     x, y = _grid(240, 180)
     field = 27.0 + 0.01 * y
-    for centre_x, peak in ((70, 34.0), (120, 61.0), (170, 33.5)):
+    for centre_x, peak in peaks:
         cable = np.exp(-((x - centre_x) ** 2) / (2 * 5.0**2)) * (y > 60)
         field += (peak - 27.0) * 0.35 * cable * np.exp(-(y - 60) / 90.0)
         lug = np.exp(-(((x - centre_x) ** 2) + (y - 60) ** 2) / (2 * 6.0**2))
         field += (peak - 27.0) * lug
     return (field + _noise(rng, x.shape, 0.05)).astype(np.float32)
+
+
+def roof_plan_png() -> bytes:
+    """An invented roof plan: the roof outline, parapet, rooflights, plant and a north arrow."""
+    from PIL import Image, ImageDraw
+
+    from survey.thermal.drawing import font
+
+    image = Image.new("RGB", (1200, 800), (246, 244, 238))
+    draw = ImageDraw.Draw(image)
+    draw.rectangle([60, 60, 1140, 740], outline=(60, 60, 60), width=6)
+    draw.rectangle([80, 80, 1120, 720], outline=(140, 140, 140), width=2)
+    for left in (300, 560, 820):
+        draw.rectangle([left, 340, left + 80, 460], outline=(90, 90, 90), width=3)
+    draw.rectangle([960, 120, 1080, 240], fill=(220, 220, 220), outline=(90, 90, 90), width=3)
+    draw.text((968, 165), "plant", font=font(26), fill=(60, 60, 60))
+    draw.line([(600, 80), (600, 720)], fill=(170, 170, 170), width=2)
+    draw.polygon([(1110, 640), (1095, 690), (1125, 690)], fill=(60, 60, 60))
+    draw.text((1100, 695), "N", font=font(28, bold=True), fill=(60, 60, 60))
+    draw.text(
+        (90, 750),
+        "Roof over Block B, demonstration plan (invented)",
+        font=font(26),
+        fill=(60, 60, 60),
+    )
+    buffer = io.BytesIO()
+    image.save(buffer, "PNG")
+    return buffer.getvalue()
+
+
+def wall_photo(window: bool) -> bytes:
+    """An invented visual photo: a painted wall, a skirting line, and a window when asked."""
+    from PIL import Image, ImageDraw
+
+    image = Image.new("RGB", (640, 480), (228, 222, 206))
+    draw = ImageDraw.Draw(image)
+    draw.rectangle([0, 420, 640, 480], fill=(190, 180, 160))
+    if window:
+        draw.rectangle([150, 60, 600, 390], fill=(250, 250, 250))
+        draw.rectangle([185, 95, 565, 355], fill=(170, 200, 220))
+    buffer = io.BytesIO()
+    image.save(buffer, "JPEG", quality=85)
+    return buffer.getvalue()
 
 
 def as_npy(array: np.ndarray) -> bytes:
@@ -169,7 +231,7 @@ class Command(BaseCommand):
             thermographer=members["tess"],
             camera=camera,
             start_time=datetime.time(21, 30),
-            scope_examined="Flat roof over Block B, from the parapet walk.",
+            scope_examined="Flat roof over Block B, from the adjoining tower (about 30 m away).",
             conditions={
                 "outdoor_air_c": 6.0,
                 "outdoor_rh_pct": 70.0,
@@ -243,6 +305,7 @@ class Command(BaseCommand):
             admin,
             "B2-north-wall-slab.tif",
             as_tiff(wall_with_slab_bridge(rng)),
+            photo=SimpleUploadedFile("B2-north-wall-slab-photo.jpg", wall_photo(False)),
             emissivity=0.93,
             reflected_c=20.0,
             distance_m=3.0,
@@ -254,6 +317,7 @@ class Command(BaseCommand):
             admin,
             "B3-window-corner.csv",
             as_csv(window_corner(rng)),
+            photo=SimpleUploadedFile("B3-window-corner-photo.jpg", wall_photo(True)),
             emissivity=0.90,
             reflected_c=20.0,
             distance_m=2.0,
@@ -278,7 +342,7 @@ class Command(BaseCommand):
             scale=0.01,
             emissivity=0.94,
             reflected_c=-20.0,
-            distance_m=12.0,
+            distance_m=30.0,
             asset=roof_section,
             title="Roof section B, east half",
         )
@@ -331,12 +395,16 @@ class Command(BaseCommand):
         )
         self._findings(envelope, electrical, slab, window, lugs, admin)
         self._logs_proposals_template(envelope, [slab, window, patch, wet, lugs], lugs, admin)
+        self._envelope_extras(envelope, slab, patch, admin)
+        self._roof_extras(roof, wet, roof_section, admin, rng)
+        self._electrical_visits(org, admin, members, electrical, panel, rng)
 
         elapsed = time.monotonic() - started
         self.stdout.write(
             self.style.SUCCESS(
                 f"Demo data ready in {elapsed:.1f} s: sign in as demo / {PASSWORD} (admin); "
-                f"also tess (thermographer) and rowan (reviewer), same password."
+                f"also tess and fern (thermographers; fern works in °F) and rowan (reviewer), "
+                "same password."
             )
         )
 
@@ -355,6 +423,12 @@ class Command(BaseCommand):
                 "Level 1 thermographer (invented)",
             ),
             "rowan": ("Rowan", "Achebe", Member.Role.REVIEWER, "Level 3 thermographer (invented)"),
+            "fern": (
+                "Fern",
+                "Okafor",
+                Member.Role.THERMOGRAPHER,
+                "Level 2 thermographer (invented); works in °F",
+            ),
         }
         members = {}
         User = get_user_model()
@@ -367,7 +441,13 @@ class Command(BaseCommand):
                 user.save()
             member, _ = Member.objects.get_or_create(
                 user=user,
-                defaults={"organization": org, "role": role, "qualification": qualification},
+                defaults={
+                    "organization": org,
+                    "role": role,
+                    "qualification": qualification,
+                    # One colleague reads °F, so one survey's report is in °F.
+                    "temperature_unit": "F" if username == "fern" else "C",
+                },
             )
             members[username] = member
         return org, members
@@ -564,3 +644,277 @@ class Command(BaseCommand):
                     recommendation="Confirm with a surface thermometer and hygrometer; refer "
                     "to a building professional for the repair detail.",
                 )
+
+    # --- issue 14: everything the client report can show -------------------------------
+
+    def _envelope_extras(self, envelope, slab, patch, admin) -> None:
+        """Construction, time, pressure difference, a mould-risk finding and a heat-loss
+        estimate with its yearly energy and cost."""
+        from survey.services.findings import (
+            finding_create,
+            finding_suggest,
+            heat_loss_estimate_create,
+        )
+
+        if not envelope.building_description:
+            surveys.survey_update(
+                survey=envelope,
+                user=admin.user,
+                start_time=datetime.time(17, 50),
+                end_time=datetime.time(19, 40),
+                building_description=(
+                    "Four-storey block of flats (invented), about 1975: cavity brick walls "
+                    "with blown fibre fill, concrete floor slabs carried through to the outer "
+                    "leaf, double-glazed PVC windows from about 2005."
+                ),
+                conditions={"pressure_difference_pa": -50.0, "pressure_method": "blower_door"},
+            )
+        location = "Flat B2, external corner at the floor slab"
+        if not envelope.findings.filter(location=location).exists():
+            marks = list(slab.marks.filter(label="C"))
+            finding_create(
+                survey=envelope,
+                user=admin.user,
+                category="condensation_risk",
+                suggestion=finding_suggest(survey=envelope, basis="envelope", marks=marks),
+                marks=marks,
+                thermogram=slab,
+                location=location,
+                description="The corner's surface humidity is in the range where mould grows.",
+                recommendation="Improve ventilation of the room now; have a building "
+                "professional detail insulation of the slab edge.",
+            )
+        if not envelope.heat_loss_estimates.exists():
+            cold, sound = patch.marks.order_by("label")[:2]
+            from survey.services.readings import thermogram_readings
+
+            sound_c = next(
+                r["corrected"]["mean"] for r in thermogram_readings(patch) if r["label"] == "B"
+            )
+            heat_loss_estimate_create(
+                survey=envelope,
+                user=admin.user,
+                label="East wall, flat B4: missing insulation",
+                side="inside",
+                t_surface_c=None,
+                t_air_c=20.5,
+                emissivity=None,
+                geometry="vertical",
+                size_m=2.5,
+                area_m2=1.6,
+                hours_per_year=5000,
+                price_per_kwh=0.28,
+                currency="EUR",
+                t_reference_c=sound_c,
+                mark=cold,
+            )
+
+    def _roof_extras(self, roof, wet, roof_section, admin, rng) -> None:
+        """Survey time, membrane and insulation, no rain, a plan with both thermograms
+        placed, two wet areas and a core confirmation."""
+        from survey.services import roof as roof_services
+        from survey.services.findings import finding_create, finding_suggest
+
+        if not roof.roof_membrane:
+            surveys.survey_update(
+                survey=roof,
+                user=admin.user,
+                end_time=datetime.time(23, 10),
+                roof_membrane="Two-layer bitumen felt, mineral-surfaced cap sheet",
+                roof_insulation="Mineral wool boards, 120 mm, on a steel deck",
+                building_description="Flat roof over the four-storey Block B (invented).",
+                # A dry spring night: the membrane's coldest dry part stays above the
+                # outdoor frost point (about −3.5 °C at 6 °C and 50 %).
+                conditions={
+                    "rain_24h_mm": 0.0,
+                    "hours_since_sun": 1.5,
+                    "outdoor_rh_pct": 50.0,
+                    "roof_surface_c": -0.8,
+                },
+            )
+        west = self._thermogram(
+            roof,
+            admin,
+            "roof-B-west.tif",
+            as_centikelvin_tiff(wet_roof_west(rng)),
+            unit="K",
+            scale=0.01,
+            emissivity=0.94,
+            reflected_c=-20.0,
+            distance_m=30.0,
+            asset=roof_section,
+            title="Roof section B, west half",
+        )
+        self._marks(west, admin, [("ellipse", [[60, 50], [120, 90]], {"note": "Warm area"})])
+        if not roof.roof_plan:
+            roof_services.roof_plan_upload(
+                survey=roof,
+                uploaded_file=SimpleUploadedFile("roof-B-plan.png", roof_plan_png()),
+                user=admin.user,
+            )
+        for thermogram, (x_pct, y_pct) in ((wet, (72.0, 38.0)), (west, (27.0, 60.0))):
+            if thermogram.plan_x_pct is None:
+                roof_services.thermogram_place_on_plan(
+                    thermogram=thermogram, x_pct=x_pct, y_pct=y_pct, user=admin.user
+                )
+        for thermogram, location in (
+            (wet, "Roof B, east half, between the second and third rooflights"),
+            (west, "Roof B, west half, along the gutter line"),
+        ):
+            if roof.findings.filter(location=location).exists():
+                continue
+            marks = list(thermogram.marks.all())
+            finding = finding_create(
+                survey=roof,
+                user=admin.user,
+                category="wet_insulation",
+                suggestion=finding_suggest(survey=roof, basis="roof", marks=marks),
+                marks=marks,
+                thermogram=thermogram,
+                asset=roof_section,
+                location=location,
+                description="Area holding the day's heat longer than the dry roof around it.",
+                recommendation="Have a roofer open the membrane at the marked area, dry or "
+                "replace the wet insulation and repair the leak that wetted it.",
+            )
+            if thermogram == wet:
+                roof_services.moisture_check_add(
+                    finding=finding,
+                    user=admin.user,
+                    method="core",
+                    checked_on=datetime.date(2026, 4, 24),
+                    result="wet",
+                    reading="insulation saturated through its thickness",
+                    note="Core cut by the roofer and made good the same day (invented).",
+                )
+            else:
+                roof_services.moisture_check_add(
+                    finding=finding,
+                    user=admin.user,
+                    method="meter",
+                    checked_on=datetime.date(2026, 4, 24),
+                    result="wet",
+                    reading="84 on the meter's relative scale; dry roof reads 20",
+                )
+
+    def _electrical_visits(self, org, admin, members, electrical, panel, rng) -> None:
+        """Three visits to MDP-1: the hot phase B lug found, repaired and verified on the
+        second, a routine third in °F; a motor inspected with no finding on the first."""
+        motor = Asset.objects.filter(site=panel.site, tag="M-14").first()
+        motor_view = self._thermogram(
+            electrical,
+            admin,
+            "M-14-motor.npy",
+            as_npy(motor_body(rng)),
+            emissivity=0.95,
+            reflected_c=24.0,
+            distance_m=2.0,
+            asset=motor,
+            title="Mixer drive motor M-14, drive end side",
+        )
+        self._marks(
+            motor_view,
+            admin,
+            [("rectangle", [[50, 60], [170, 130]], {"note": "Motor frame, even temperature"})],
+        )
+        if "Loads per phase" not in electrical.notes:
+            surveys.survey_update(
+                survey=electrical,
+                user=admin.user,
+                end_time=datetime.time(11, 20),
+                start_time=electrical.start_time or datetime.time(9, 30),
+                notes=f"{FICTION}\nLoads per phase at the incomer, by clamp meter: "
+                "A 246 A, B 251 A, C 240 A.",
+            )
+        visits = []
+        for date, title, thermographer, peaks, currents in (
+            (
+                datetime.date(2026, 3, 23),
+                "Main distribution panel, after the repair",
+                members["tess"],
+                ((70, 34.4), (120, 34.0), (170, 33.6)),
+                (238, 244, 236),
+            ),
+            (
+                datetime.date(2026, 9, 14),
+                "Main distribution panel, routine survey",
+                members["fern"],
+                ((70, 34.3), (120, 33.9), (170, 33.8)),
+                (252, 255, 249),
+            ),
+        ):
+            survey = self._survey(
+                org,
+                admin,
+                site=panel.site,
+                kind=Survey.Kind.ELECTRICAL,
+                date=date,
+                title=title,
+                thermographer=thermographer,
+                reviewer=members["rowan"],
+                camera=self._camera(org, admin),
+                start_time=datetime.time(10, 0),
+                end_time=datetime.time(10, 45),
+                scope_examined="Main distribution panel MDP-1, covers removed by the site "
+                "electrician.",
+                conditions={
+                    "ambient_air_c": 24.0,
+                    "load_pct": 61.0,
+                    "equipment_steady": True,
+                    "covers_opened_by_qualified": True,
+                },
+            )
+            view = self._thermogram(
+                survey,
+                admin,
+                f"MDP-1-incomer-lugs-{date:%Y%m%d}.npy",
+                as_npy(panel_three_phases(rng, peaks)),
+                emissivity=0.95,
+                reflected_c=24.0,
+                distance_m=1.0,
+                asset=panel,
+                title="MDP-1 incoming supply lugs, phases A–C",
+            )
+            if not view.marks.exists():
+                from survey.services.marks import mark_add
+
+                phase_a = mark_add(
+                    thermogram=view,
+                    kind="ellipse",
+                    points=[[62, 52], [78, 68]],
+                    user=admin.user,
+                    note="Phase A lug",
+                    load_current_a=currents[0],
+                )
+                for centre, phase, current in ((120, "B", currents[1]), (170, "C", currents[2])):
+                    mark_add(
+                        thermogram=view,
+                        kind="ellipse",
+                        points=[[centre - 8, 52], [centre + 8, 68]],
+                        user=admin.user,
+                        note=f"Phase {phase} lug",
+                        load_current_a=current,
+                        reference_kind="mark",
+                        reference_mark=phase_a,
+                    )
+            if not visits:
+                self._repair_and_verify(electrical, admin)
+            visits.append(survey)
+
+    def _repair_and_verify(self, electrical, admin) -> None:
+        """The phase B lug repaired and verified by the visit after the repair (before the
+        routine visit exists, so the evidence names the right visit)."""
+        from survey.services.assets import finding_verify
+        from survey.services.findings import finding_set_status
+
+        finding = electrical.findings.filter(category="connection").first()
+        if finding is not None and finding.status == finding.Status.OPEN:
+            finding_set_status(
+                finding=finding,
+                user=admin.user,
+                status="repaired",
+                note="Lug cleaned and re-torqued by the site electrician on 2026-03-20.",
+            )
+            finding.refresh_from_db()
+        if finding is not None and finding.status == finding.Status.REPAIRED:
+            finding_verify(finding=finding, user=admin.user)
