@@ -120,6 +120,14 @@ class SurveyForm(UnitFormMixin, forms.Form):
         label="Not examined, and why",
         max_length=TEXT_LIMIT,
     )
+    deviations = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 2}),
+        required=False,
+        label="Deviations from the procedure",
+        help_text="Where the work departed from the firm's procedure, and why; printed in the "
+        "report's method.",
+        max_length=TEXT_LIMIT,
+    )
     notes = forms.CharField(
         widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
     )
@@ -220,7 +228,8 @@ class SurveyForm(UnitFormMixin, forms.Form):
         names = (
             "site kind title date start_time crew thermographer reviewer camera instrument "
             "ifov_mrad camera_accuracy_c camera_accuracy_pct scope_examined "
-            "scope_not_examined notes time_zone default_emissivity default_reflected_c"
+            "scope_not_examined deviations notes time_zone default_emissivity "
+            "default_reflected_c"
         ).split()
         return {name: self.cleaned_data[name] for name in names}
 
@@ -243,8 +252,8 @@ class SurveyForm(UnitFormMixin, forms.Form):
             name: getattr(survey, name)
             for name in (
                 "kind title date start_time crew instrument ifov_mrad camera_accuracy_c "
-                "camera_accuracy_pct scope_examined scope_not_examined notes time_zone "
-                "default_emissivity default_reflected_c"
+                "camera_accuracy_pct scope_examined scope_not_examined deviations notes "
+                "time_zone default_emissivity default_reflected_c"
             ).split()
         }
         values.update(

@@ -47,6 +47,7 @@ SURVEY_FIELDS = (
     "camera_accuracy_pct",
     "scope_examined",
     "scope_not_examined",
+    "deviations",
     "notes",
     "time_zone",
     "default_emissivity",
@@ -71,6 +72,12 @@ THERMOGRAM_SETTINGS = (
     "title",
     "note",
     "captured_at",
+    "emissivity_method",
+    "reflected_method",
+    "load_l1_a",
+    "load_l2_a",
+    "load_l3_a",
+    "load_method",
 )
 
 
