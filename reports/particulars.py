@@ -445,14 +445,16 @@ def letterhead(survey: Survey, pictures: Pictures) -> dict:
     }
 
 
-def signoff(version, reviewer: Member | None, pictures: Pictures) -> dict:
+def signoff(version, reviewer: Member | None, pictures: Pictures, made_at) -> dict:
+    """The issuing reviewer's sign-off; the date is the issue's (stamped when the render
+    ends, so the render's own time, as on the cover, until then)."""
     if version.is_draft or reviewer is None:
         return {"signed": False}
     return {
         "signed": True,
         "name": reviewer.display_name,
         "qualification": reviewer.qualification_text,
-        "date": version.issued_at,
+        "date": version.issued_at or made_at,
         "signature": _picture(pictures, reviewer.signature, "signature.png"),
     }
 
@@ -484,7 +486,9 @@ def particulars_context(version, context: dict, pictures: Pictures) -> dict:
         "people": people(survey, context.get("reviewer")),
         "instrument_record": instrument,
         "letterhead": letterhead(survey, pictures),
-        "signoff": signoff(version, context.get("reviewer"), pictures),
+        "signoff": signoff(
+            version, context.get("reviewer"), pictures, context.get("generated_at")
+        ),
         "equipment": equipment_rows(survey, thermograms, all_findings)
         if not survey.is_building
         else [],

@@ -26,6 +26,12 @@ def png_bytes(size=(120, 40), colour=(11, 79, 117)) -> bytes:
     return buffer.getvalue()
 
 
+def text_of(pdf: bytes) -> str:
+    """The PDF's text in reading order (a table's cells one after another), whitespace
+    collapsed."""
+    return flat(pdf_text(pdf, layout=False))
+
+
 def draft_of(survey, number="R-1") -> ReportVersion:
     report = Report.objects.create(organization=survey.organization, survey=survey, number=number)
     return ReportVersion.objects.create(report=report, version=1, is_draft=True)
@@ -68,7 +74,7 @@ def test_it_prints_the_qualification_records_and_the_instrument_record(
     report_survey.camera = camera(report_survey.organization)
     report_survey.deviations = "The north gable was imaged from 12 m instead of 5 m."
     report_survey.save()
-    text = flat(pdf_text(render_pdf(draft_of(report_survey)).pdf))
+    text = text_of(render_pdf(draft_of(report_survey)).pdf)
     assert "Invented Thermography Board, level 2, certificate ITB-2231" in text
     assert "31 March 2027" in text
     # The reviewer's expired before the survey date (14 January 2026): the report says so.
@@ -87,7 +93,7 @@ def test_it_states_a_detector_size_that_differs_from_the_images_as_a_deviation(r
         report_survey.organization, detector_width_px=320, detector_height_px=240
     )
     report_survey.save()
-    text = flat(pdf_text(render_pdf(draft_of(report_survey)).pdf))
+    text = text_of(render_pdf(draft_of(report_survey)).pdf)
     assert "Deviations from the procedure" in text
     assert "The thermograms measure 40 × 30 pixels, not the 320 × 240 pixels" in text
 
@@ -113,17 +119,19 @@ def test_it_prints_the_letterhead_on_the_cover_and_in_every_later_footer(report_
     for number, page in enumerate(pages[1:], start=2):
         # The footer's one line: name, address, contact.
         assert "Coldspot Thermal Surveys · 4 Invented Lane, Sampletown" in page, number
-    # The logo is a picture on the cover (besides the footers' small copies).
-    assert any("/Im" in str(key) for key in reader.pages[0]["/Resources"]["/XObject"])
+    # The logo is a picture on the cover (the cover has no other picture).
+    assert len(reader.pages[0].images) >= 1
 
 
-def test_a_draft_is_not_signed_and_an_issued_version_carries_the_sign_off(
+def test_a_draft_is_not_signed(report_survey):
+    assert "Not yet signed" in text_of(render_pdf(draft_of(report_survey)).pdf)
+
+
+def test_an_issued_version_carries_the_sign_off(
     report_survey, reviewer, django_capture_on_commit_callbacks
 ):
     from reports.services import report_create, report_issue
 
-    draft_text = flat(pdf_text(render_pdf(draft_of(report_survey, "R-D")).pdf))
-    assert "Not yet signed" in draft_text
     member_update_qualification(
         member=reviewer,
         actor=None,
@@ -136,7 +144,7 @@ def test_a_draft_is_not_signed_and_an_issued_version_carries_the_sign_off(
         version = report_issue(report=report, user=reviewer.user)
     version.refresh_from_db()
     with version.pdf.open("rb") as handle:
-        text = flat(pdf_text(handle.read()))
+        text = text_of(handle.read())
     assert "Not yet signed" not in text
     assert f"Issued by {reviewer.display_name}" in text
     assert "Qualification Invented Thermography Board, level 3" in text
@@ -155,7 +163,7 @@ def test_it_prints_each_thermograms_capture_details_scale_and_methods(report_sur
     mark.name = "Cold corner"
     mark.note = "Behind the wardrobe"
     mark.save()
-    text = flat(pdf_text(render_pdf(draft_of(report_survey)).pdf))
+    text = text_of(render_pdf(draft_of(report_survey)).pdf)
     assert "Taken 14 Jan 2026 21:40" in text  # the survey has no zone: the server's (UTC)
     # IFOV 1.309 mrad (the survey's) at 3.0 m: 3.0 × 1.309 = 3.927 mm, printed as 3.9 mm
     # (footprint = distance × IFOV, small-angle; common practice, no source).
@@ -171,7 +179,7 @@ def test_it_prints_each_thermograms_capture_details_scale_and_methods(report_sur
 def test_it_charts_the_profile_of_a_line_mark(report_survey):
     thermogram = report_survey.thermograms.get()
     mark_add(thermogram=thermogram, kind="line", points=[[2, 13], [30, 13]], user=None)
-    text = flat(pdf_text(render_pdf(draft_of(report_survey)).pdf))
+    text = text_of(render_pdf(draft_of(report_survey)).pdf)
     assert "Temperatures along line C, apparent, from its labelled end." in text
     assert "distance along the line" in text
     # The line crosses the 12.0 °C patch and the 18.0 °C wall (conftest's field): the chart
@@ -196,7 +204,7 @@ def test_it_lists_equipment_with_and_without_findings_loads_and_the_next_inspect
         organization=survey.organization, site=survey.site, name="Lift motor room panel"
     )
     RoundStop.objects.create(survey=survey, asset=skipped, skip_reason="Room locked")
-    text = flat(pdf_text(render_pdf(draft_of(survey)).pdf))
+    text = text_of(render_pdf(draft_of(survey)).pdf)
     assert "Equipment inspected" in text
     assert "Main switchboard MSB-1" in text
     assert "Distribution board DB-2" in text
@@ -214,7 +222,7 @@ def test_it_says_what_to_do_and_by_when_in_the_firms_words(electrical_report_sur
     org.save()
     electrical_report_survey.scope_not_examined = "Roof plant, no access"
     electrical_report_survey.save()
-    text = flat(pdf_text(render_pdf(draft_of(electrical_report_survey)).pdf))
+    text = text_of(render_pdf(draft_of(electrical_report_survey)).pdf)
     assert "In plain words" in text
     assert "1 open finding needs something done" in text
     assert "Isolate and repair within 24 hours." in text
@@ -227,7 +235,7 @@ def test_it_says_what_to_do_and_by_when_in_the_firms_words(electrical_report_sur
 
 
 def test_a_building_report_explains_frsi_and_surface_rh(report_survey):
-    text = flat(pdf_text(render_pdf(draft_of(report_survey)).pdf))
+    text = text_of(render_pdf(draft_of(report_survey)).pdf)
     assert "fRsi (temperature factor)" in text
     assert "Surface RH" in text
     assert "Full-load rise" not in text
@@ -235,5 +243,5 @@ def test_a_building_report_explains_frsi_and_surface_rh(report_survey):
 
 def test_a_verified_finding_is_not_counted_as_open_in_the_plain_summary(report_survey):
     Finding.objects.filter(survey=report_survey).update(status=Finding.Status.VERIFIED)
-    text = flat(pdf_text(render_pdf(draft_of(report_survey)).pdf))
+    text = text_of(render_pdf(draft_of(report_survey)).pdf)
     assert "1 finding was already repaired or verified as repaired." in text
