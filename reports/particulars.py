@@ -486,9 +486,7 @@ def particulars_context(version, context: dict, pictures: Pictures) -> dict:
         "people": people(survey, context.get("reviewer")),
         "instrument_record": instrument,
         "letterhead": letterhead(survey, pictures),
-        "signoff": signoff(
-            version, context.get("reviewer"), pictures, context.get("generated_at")
-        ),
+        "signoff": signoff(version, context.get("reviewer"), pictures, context.get("generated_at")),
         "equipment": equipment_rows(survey, thermograms, all_findings)
         if not survey.is_building
         else [],

@@ -198,8 +198,15 @@ def test_it_lists_equipment_with_and_without_findings_loads_and_the_next_inspect
         kind=Asset.Kind.PANEL,
         inspection_interval_months=6,
     )
-    make_thermogram(survey, asset=quiet, title="DB-2 open", load_l1_a=41, load_l2_a=38,
-                    load_l3_a=44, load_method="clamp")
+    make_thermogram(
+        survey,
+        asset=quiet,
+        title="DB-2 open",
+        load_l1_a=41,
+        load_l2_a=38,
+        load_l3_a=44,
+        load_method="clamp",
+    )
     skipped = Asset.objects.create(
         organization=survey.organization, site=survey.site, name="Lift motor room panel"
     )
@@ -245,3 +252,41 @@ def test_a_verified_finding_is_not_counted_as_open_in_the_plain_summary(report_s
     Finding.objects.filter(survey=report_survey).update(status=Finding.Status.VERIFIED)
     text = text_of(render_pdf(draft_of(report_survey)).pdf)
     assert "1 finding was already repaired or verified as repaired." in text
+
+
+def test_it_draws_the_marks_on_the_photo_through_the_alignment(report_survey):
+    from django.core.files.base import ContentFile
+
+    from reports.pictures import photo_picture
+    from survey.services.marks import thermogram_set_alignment
+
+    thermogram = report_survey.thermograms.get()
+    buffer = io.BytesIO()
+    Image.new("RGB", (400, 300), (255, 255, 255)).save(buffer, "PNG")
+    thermogram.photo.save("photo.png", ContentFile(buffer.getvalue()))
+    # Photo pixels ten times the thermogram's: photo (0, 0) is thermogram (0, 0), photo
+    # (100, 0) is thermogram (10, 0), photo (0, 100) is thermogram (0, 10).
+    thermogram_set_alignment(
+        thermogram=thermogram,
+        pairs=[[[0, 0], [0, 0]], [[100, 0], [10, 0]], [[0, 100], [0, 10]]],
+        user=None,
+    )
+    thermogram.refresh_from_db()
+    plain = photo_picture_without_alignment(thermogram)
+    drawn = photo_picture(thermogram, 400)
+    # Mark B, the rectangle over thermogram pixels 20–35 × 5–25, has its left edge at
+    # thermogram x 19.5, photo x 195 (+ half a pixel to the drawn pixel's centre).
+    assert plain.getpixel((195, 150)) == (255, 255, 255)
+    assert drawn.getpixel((195, 150)) != (255, 255, 255)
+    assert drawn.getpixel((275, 150)) == (255, 255, 255)  # inside the rectangle: untouched
+    assert drawn.getpixel((100, 150)) == (255, 255, 255)  # far from every mark
+
+
+def photo_picture_without_alignment(thermogram):
+    from reports.pictures import photo_picture
+
+    alignment, thermogram.photo_alignment = thermogram.photo_alignment, None
+    try:
+        return photo_picture(thermogram, 400)
+    finally:
+        thermogram.photo_alignment = alignment
