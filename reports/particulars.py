@@ -94,8 +94,8 @@ GLOSSARY = [
     ),
     (
         "Span",
-        "The temperature range the colours of a picture cover; the scale bar beside each "
-        "thermogram gives it.",
+        "The range of temperatures that a picture's colours stand for; the scale bar beside "
+        "each thermogram gives it.",
         None,
     ),
 ]
@@ -393,10 +393,10 @@ def plain_summary(survey: Survey, findings: list, context: dict) -> dict:
     closed = [f for f in findings if f.status != Finding.Status.OPEN]
     not_examined = []
     if survey.scope_not_examined:
-        not_examined.append(survey.scope_not_examined)
+        not_examined.append(survey.scope_not_examined.strip().rstrip("."))
     round_rows = context.get("round") or {}
     for stop in round_rows.get("skipped", []):
-        not_examined.append(f"{stop.asset}: {stop.skip_reason}")
+        not_examined.append(f"{stop.asset}: {stop.skip_reason.strip().rstrip('.')}")
     for stop in round_rows.get("not_visited", []):
         not_examined.append(f"{stop.asset}: due, not visited")
     return {
@@ -441,6 +441,9 @@ def letterhead(survey: Survey, pictures: Pictures) -> dict:
             line.strip() for line in organization.address.splitlines() if line.strip()
         ),
         "contact": organization.contact_line,
+        "contact_lines": [
+            v for v in (organization.phone, organization.email, organization.website) if v
+        ],
         "logo": _picture(pictures, organization.logo, "letterhead-logo.png"),
     }
 
