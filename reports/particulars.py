@@ -249,6 +249,7 @@ def thermogram_details(
     unit: str,
     length_unit: str,
     ifov_mrad: float | None,
+    readings: list | None = None,
 ) -> dict:
     """Capture date and time, distance and scale, ε and reflected temperature with how each
     was determined, the air at the time, the load per phase, mark names and notes, and a
@@ -284,6 +285,9 @@ def thermogram_details(
     reflected = f"{units.from_celsius(thermogram.reflected_c, unit):.1f} {symbol}"
     rows.append(("Reflected temperature", f"{reflected.replace('-', '−')} ({reflected_how})"))
     rows += _air_rows(survey, thermogram, unit)
+    rises = _rises_over_air(survey, thermogram, readings or [], unit)
+    if rises:
+        rows.append(("Rise over the air", rises))
     loads = _loads(thermogram)
     if loads:
         rows.append(("Load per phase", loads))
@@ -298,6 +302,25 @@ def thermogram_details(
             )
             profiles.append({"label": mark.label, "name": mark.name, "chart": chart})
     return {"rows": rows, "marks": marks, "profiles": profiles}
+
+
+def _rises_over_air(survey: Survey, thermogram: Thermogram, readings: list, unit: str) -> str:
+    """Each mark's hottest corrected temperature over the air around the equipment, for
+    electrical and mechanical surveys: 'A 13.6 K · B 51.0 K'."""
+    if survey.is_building:
+        return ""
+    ambient_c = thermogram_air(thermogram).ambient_c
+    if ambient_c is None:
+        return ""
+    label = units.difference_label(unit)
+    parts = []
+    for reading in readings:
+        hottest = (reading.get("corrected") or {}).get("max")
+        if hottest is None:
+            continue
+        rise = float(units.difference_from_kelvin(hottest - ambient_c, unit))
+        parts.append(f"{reading.get('label')} {rise:.1f} {label}".replace("-", "−"))
+    return " · ".join(parts)
 
 
 def _pixel_m(thermogram: Thermogram, ifov_mrad: float | None) -> float | None:
@@ -484,6 +507,7 @@ def particulars_context(version, context: dict, pictures: Pictures) -> dict:
             unit=unit,
             length_unit=context["length_unit"],
             ifov_mrad=instrument["ifov_mrad"],
+            readings=section.get("readings"),
         )
     return {
         "people": people(survey, context.get("reviewer")),

@@ -290,3 +290,16 @@ def photo_picture_without_alignment(thermogram):
         return photo_picture(thermogram, 400)
     finally:
         thermogram.photo_alignment = alignment
+
+
+def test_it_prints_each_marks_rise_over_the_air_around_the_equipment(electrical_survey):
+    import numpy as np
+
+    field = np.full((30, 40), 30.0, dtype=np.float32)
+    field[10:14, 10:14] = 40.0
+    thermogram = make_thermogram(electrical_survey, field, emissivity=1.0, reflected_c=24.0)
+    mark_add(thermogram=thermogram, kind="rectangle", points=[[9, 9], [15, 15]], user=None)
+    text = text_of(render_pdf(draft_of(electrical_survey)).pdf)
+    # ε = 1: the measurement equation leaves the apparent 40.0 °C as it is (no reflected
+    # part); the air around the equipment is 24.0 °C (the fixture), so the rise is 16.0 K.
+    assert "Rise over the air A 16.0 K" in text
