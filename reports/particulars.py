@@ -6,7 +6,6 @@ summary and the glossary.
 has its own include under templates/reports/pdf/.
 """
 
-import calendar
 import datetime
 from dataclasses import dataclass
 
@@ -17,6 +16,7 @@ from survey.charts import profile_svg
 from survey.models import Finding, Member, Survey, Thermogram
 from survey.services.instruments import survey_ifov
 from survey.services.loggers import local_text, thermogram_air
+from survey.services.rounds import add_months
 from survey.severity import category_label
 from survey.thermal import pixel_footprint_m, units
 
@@ -115,12 +115,6 @@ class Person:
     qualification: str
     expires: datetime.date | None
     expired: bool
-
-
-def _add_months(day: datetime.date, months: int) -> datetime.date:
-    month = day.month - 1 + months
-    year, month = day.year + month // 12, month % 12 + 1
-    return datetime.date(year, month, min(day.day, calendar.monthrange(year, month)[1]))
 
 
 def people(survey: Survey, reviewer: Member | None) -> list[Person]:
@@ -363,7 +357,7 @@ def equipment_rows(survey: Survey, thermograms: list, findings: list) -> list[di
                 "basis": "the asset's interval"
                 if asset.inspection_interval_months
                 else "the firm's default interval",
-                "next": _add_months(survey.date, months),
+                "next": add_months(survey.date, months),
             }
         return by_asset[asset.pk]
 
