@@ -166,7 +166,8 @@ def test_it_prints_each_thermograms_capture_details_scale_and_methods(report_sur
     text = text_of(render_pdf(draft_of(report_survey)).pdf)
     assert "Taken 14 Jan 2026 21:40" in text  # the survey has no zone: the server's (UTC)
     # IFOV 1.309 mrad (the survey's) at 3.0 m: 3.0 × 1.309 = 3.927 mm, printed as 3.9 mm
-    # (footprint = distance × IFOV, small-angle; common practice, no source).
+    # (footprint = distance × IFOV, small-angle; common practice, no source;
+    # docs/references.md § Report particulars).
     assert "1 px ≈ 3.9 mm at 3.0 m" in text
     assert "Emissivity 0.93 (published table for the material)" in text
     assert "Reflected temperature 19.0 °C (reflector method (crumpled foil))" in text
@@ -217,7 +218,8 @@ def test_it_lists_equipment_with_and_without_findings_loads_and_the_next_inspect
     assert "Distribution board DB-2" in text
     assert "no finding" in text
     assert "L1 41 A, L2 38 A, L3 44 A (clamp meter at the time of the thermogram)" in text
-    # Survey on 2 March 2026, DB-2 every 6 months: next by 2 September 2026.
+    # Survey on 2 March 2026, DB-2 every 6 months: next by 2 September 2026 (calendar
+    # months; docs/references.md § Units and inspection intervals).
     assert "by 2 September 2026 (every 6 months)" in text
     assert "Lift motor room panel" in text and "not inspected" in text
     assert "NFPA 70B asks for infrared inspection" in text
@@ -301,5 +303,6 @@ def test_it_prints_each_marks_rise_over_the_air_around_the_equipment(electrical_
     mark_add(thermogram=thermogram, kind="rectangle", points=[[9, 9], [15, 15]], user=None)
     text = text_of(render_pdf(draft_of(electrical_survey)).pdf)
     # ε = 1: the measurement equation leaves the apparent 40.0 °C as it is (no reflected
-    # part); the air around the equipment is 24.0 °C (the fixture), so the rise is 16.0 K.
+    # part); the air around the equipment is 24.0 °C (the fixture), so the rise is 16.0 K
+    # (docs/references.md § Report particulars).
     assert "Rise over the air A 16.0 K" in text
