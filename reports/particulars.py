@@ -149,8 +149,9 @@ def instrument_record(survey: Survey, thermograms: list[Thermogram]) -> dict:
             deviations.append(
                 f"The thermograms measure {shown} pixels, not the {detector[0]} × {detector[1]} "
                 f"pixels of the camera record ({camera.model_name}): they were exported at "
-                "another size or taken with another camera. Pixel footprints and areas use the "
-                "camera record's field of view over each image's own width."
+                "another size or taken with another camera. Figures that depend on the size "
+                "of a pixel (the spatial scale, areas) use the camera record's pixels and can "
+                "be off by the ratio of the two sizes."
             )
         if camera.calibration_due is not None and camera.calibration_due < survey.date:
             deviations.append(
@@ -167,17 +168,6 @@ def instrument_record(survey: Survey, thermograms: list[Thermogram]) -> dict:
         "image_sizes": [f"{w} × {h}" for w, h in sizes],
         "deviations": deviations,
     }
-
-
-def _image_ifov_mrad(survey: Survey, thermogram: Thermogram, ifov_mrad: float | None):
-    """The IFOV of one pixel of this image: a camera record's field of view spread over the
-    image's own width (an export at another size has other pixels)."""
-    camera = survey.camera
-    if camera is not None and thermogram.width:
-        from survey.thermal import ifov_from_fov_mrad
-
-        return float(ifov_from_fov_mrad(camera.lens_hfov_deg, thermogram.width))
-    return ifov_mrad
 
 
 def scale_text(distance_m: float | None, ifov_mrad: float | None, length_unit: str) -> str:
@@ -254,7 +244,7 @@ def thermogram_details(
         rows.append(("Taken", local_text(survey, thermogram.captured_at)))
     else:
         rows.append(("Taken", "time not recorded"))
-    image_ifov = _image_ifov_mrad(survey, thermogram, ifov_mrad)
+    image_ifov = ifov_mrad
     if thermogram.distance_m:
         distance = (
             f"{thermogram.distance_m / 0.3048:.1f} ft"
