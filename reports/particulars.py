@@ -100,11 +100,11 @@ GLOSSARY = [
     ),
 ]
 
-EMISSIVITY_NOT_RECORDED = "method not recorded"
+METHOD_NOT_RECORDED = "method not recorded"
 RE_INSPECTION_BASIS = (
     "NFPA 70B asks for infrared inspection of electrical equipment at least every 12 months; "
     "equipment that is critical, heavily loaded or in a harsh place is often inspected more "
-    "often (common practice)."
+    "often."
 )
 
 
@@ -258,13 +258,13 @@ def thermogram_details(
     emissivity_how = (
         thermogram.get_emissivity_method_display().lower()
         if thermogram.emissivity_method
-        else EMISSIVITY_NOT_RECORDED
+        else METHOD_NOT_RECORDED
     )
     rows.append(("Emissivity", f"{thermogram.emissivity:.2f} ({emissivity_how})"))
     reflected_how = (
         thermogram.get_reflected_method_display().lower()
         if thermogram.reflected_method
-        else EMISSIVITY_NOT_RECORDED
+        else METHOD_NOT_RECORDED
     )
     reflected = f"{units.from_celsius(thermogram.reflected_c, unit):.1f} {symbol}"
     rows.append(("Reflected temperature", f"{reflected.replace('-', '−')} ({reflected_how})"))

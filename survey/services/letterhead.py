@@ -17,7 +17,7 @@ from django.contrib.auth.models import AbstractBaseUser
 from django.core.exceptions import ValidationError
 from django.core.files.base import ContentFile
 from django.db import transaction
-from PIL import Image
+from PIL import Image, ImageOps
 
 from survey.models import Member, Organization
 from survey.services.audit import audit_record
@@ -25,7 +25,7 @@ from survey.services.audit import audit_record
 PICTURE_MAX_BYTES = 2 * 1024 * 1024
 PICTURE_MAX_PIXELS = 16_000_000
 STORED_MAX_SIDE_PX = 1200
-PICTURE_FORMATS = {"PNG": "PNG", "JPEG": "JPEG", "MPO": "JPEG"}
+PICTURE_FORMATS = {"PNG", "JPEG", "MPO"}  # MPO: a JPEG with a second picture (phones)
 
 LETTERHEAD_FIELDS = (
     "name",
@@ -61,8 +61,7 @@ def picture_check(data: bytes, *, what: str) -> bytes:
         with warnings.catch_warnings():
             warnings.simplefilter("error", Image.DecompressionBombWarning)
             image = Image.open(io.BytesIO(data))
-            kind = PICTURE_FORMATS.get(image.format or "")
-            if kind is None:
+            if image.format not in PICTURE_FORMATS:
                 raise ValidationError(f"The {what} must be a PNG or JPEG picture.")
             if image.width * image.height > PICTURE_MAX_PIXELS:
                 raise ValidationError(
@@ -70,6 +69,7 @@ def picture_check(data: bytes, *, what: str) -> bytes:
                     f"{PICTURE_MAX_PIXELS // 1_000_000} megapixels are accepted."
                 )
             image.load()
+            image = ImageOps.exif_transpose(image)
     except ValidationError:
         raise
     except Exception:  # noqa: BLE001 - Pillow raises many kinds for a damaged file
