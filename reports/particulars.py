@@ -324,7 +324,7 @@ def profile_chart(mark, profile: list, *, unit: str, pixel_m: float | None) -> s
     else:
         axis = "px"
     title = f"Line {mark.label}{f' ({mark.name})' if mark.name else ''}: apparent temperature"
-    svg = profile_svg(distances, values, 480, 170, units.symbol(unit), axis, title=title)
+    svg = profile_svg(distances, values, 520, 150, units.symbol(unit), axis, title=title)
     return mark_safe(svg)
 
 
