@@ -67,3 +67,17 @@ def test_the_survey_page_shows_the_deviations_entered_on_the_survey_form(
     envelope_survey.save()
     page = owner_client.get(reverse("survey:survey", args=[envelope_survey.pk])).content.decode()
     assert "Gable imaged from 12 m." in page
+
+
+def test_the_preferences_page_shows_a_members_own_qualification(
+    thermographer_client, thermographer
+):
+    import datetime
+
+    thermographer.qualification_scheme = "Invented Thermography Board"
+    thermographer.qualification_level = "2"
+    thermographer.qualification_expires = datetime.date(2027, 3, 31)
+    thermographer.save()
+    page = thermographer_client.get(reverse("survey:preferences")).content.decode()
+    assert "Invented Thermography Board, level 2, valid until 31 March 2027" in page
+    assert "An admin of your firm keeps it" in page
