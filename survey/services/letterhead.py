@@ -96,9 +96,22 @@ def _checked(data: bytes | None, *, what: str, field: str) -> bytes | None:
         raise ValidationError({field: error.messages}) from None
 
 
-def _store(field, data: bytes, prefix: str) -> None:
-    name = f"{prefix}-{hashlib.sha256(data).hexdigest()[:16]}.png"
-    field.save(name, ContentFile(data), save=False)
+def _replace_picture(field, data: bytes | None, *, prefix: str, remove: bool) -> bool:
+    """Store a new picture in `field` (or clear it with `remove`); the old file is deleted
+    once the change is committed (an issued PDF holds its own copy). True when it changed."""
+    old = field.name or ""
+    if data is not None:
+        field.save(
+            f"{prefix}-{hashlib.sha256(data).hexdigest()[:16]}.png", ContentFile(data), save=False
+        )
+    elif remove and old:
+        field.name = ""
+    else:
+        return False
+    if old and old != field.name:
+        storage = field.storage
+        transaction.on_commit(lambda: storage.delete(old))
+    return True
 
 
 @transaction.atomic
@@ -120,12 +133,7 @@ def organization_update_letterhead(
     for name, value in fields.items():
         setattr(organization, name, value)
     organization.full_clean()
-    old_logo = organization.logo.name if organization.logo else ""
-    if picture is not None:
-        _store(organization.logo, picture, "logo")
-        changed.append("logo")
-    elif remove_logo and old_logo:
-        organization.logo = ""
+    if _replace_picture(organization.logo, picture, prefix="logo", remove=remove_logo):
         changed.append("logo")
     organization.save()
     if changed:
@@ -158,11 +166,7 @@ def member_update_qualification(
     for name, value in fields.items():
         setattr(member, name, value)
     member.full_clean()
-    if picture is not None:
-        _store(member.signature, picture, "signature")
-        changed.append("signature")
-    elif remove_signature and member.signature:
-        member.signature = ""
+    if _replace_picture(member.signature, picture, prefix="signature", remove=remove_signature):
         changed.append("signature")
     member.save()
     if changed:

@@ -140,3 +140,24 @@ def test_it_answers_404_to_an_outsider_editing_a_qualification(outsider_client, 
     assert response.status_code == 404
     thermographer.refresh_from_db()
     assert thermographer.qualification_scheme == ""
+
+
+def test_a_new_logo_replaces_the_old_file_and_remove_drops_it(
+    owner_client, org, django_capture_on_commit_callbacks
+):
+    url = reverse("survey:organization_letterhead")
+    with django_capture_on_commit_callbacks(execute=True):
+        owner_client.post(url, LETTERHEAD | {"logo": picture(size=(200, 80))})
+    org.refresh_from_db()
+    first = org.logo.name
+    storage = org.logo.storage
+    with django_capture_on_commit_callbacks(execute=True):
+        owner_client.post(url, LETTERHEAD | {"logo": picture(size=(300, 90))})
+    org.refresh_from_db()
+    assert org.logo.name != first and storage.exists(org.logo.name)
+    assert not storage.exists(first)
+    second = org.logo.name
+    with django_capture_on_commit_callbacks(execute=True):
+        owner_client.post(url, LETTERHEAD | {"remove_logo": "on"})
+    org.refresh_from_db()
+    assert not org.logo and not storage.exists(second)
