@@ -19,6 +19,7 @@ from django.utils import timezone
 from reports.fetcher import BASE_URL, LocalOnlyFetcher
 from reports.kinds import envelope_context, roof_context
 from reports.models import ReportVersion
+from reports.particulars import particulars_context
 from reports.pictures import Pictures, draft_watermark_png, draw_thermogram, trend_chart
 from reports.results import content_digest, readings_by_thermogram, survey_results
 from survey.captions import mark_caption
@@ -426,6 +427,7 @@ def render_pdf(
     pictures = Pictures(image_format=image_format)
     with fewer_collections():
         context = build_context(version, pictures, progress)
+        context.update(particulars_context(version, context, pictures))
         progress("Laying out the pages", 75)
         html = render_to_string("reports/pdf/report.html", context)
         document = HTML(

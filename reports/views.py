@@ -11,6 +11,7 @@ from django.http import Http404, HttpRequest, HttpResponse, JsonResponse
 from django.shortcuts import redirect, render
 from django.template.loader import render_to_string
 from django.urls import reverse
+from django.utils import timezone
 from django.utils.http import content_disposition_header
 from django.views.decorators.http import require_GET, require_POST
 
@@ -37,6 +38,7 @@ from survey.forms.fields import add_service_error
 from survey.middleware import NO_STORE
 from survey.net import client_address
 from survey.services.acknowledgements import finding_acknowledge
+from survey.services.letterhead import qualification_warnings
 
 
 def _fail(request: HttpRequest, error: ValidationError) -> None:
@@ -159,6 +161,9 @@ def report_issue(request: HttpRequest, report_id: int) -> HttpResponse:
         "issued_before": report.versions.filter(status=ReportVersion.Status.ISSUED).exists(),
         "findings": report.survey.findings.count(),
         "thermograms": report.survey.thermograms.count(),
+        "qualification_warnings": qualification_warnings(
+            [report.survey.thermographer, member], timezone.localdate()
+        ),
     }
     return render(request, "reports/issue_confirm.html", context)
 

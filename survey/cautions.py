@@ -12,6 +12,12 @@ GENERAL = [
     "decide on the repair.",
 ]
 
+NO_HOT_SPOT = (
+    "The absence of a hot spot does not prove that equipment is in good condition: a fault "
+    "can be hidden behind a cover, be out of the camera's view, or show only under a higher "
+    "load than at the time of the survey."
+)
+
 BY_KIND = {
     "envelope": [
         "Missing insulation, air leakage and moisture seen in a thermogram need confirmation by "
@@ -34,11 +40,13 @@ BY_KIND = {
         "while imaging.",
         "A temperature rise depends on the load at the time of the survey; a rise measured at "
         "low load can understate the problem.",
+        NO_HOT_SPOT,
     ],
     "mechanical": [
         "Rotating and pressurised equipment is approached only by trained persons following "
         "the site's isolation and guarding rules.",
         "Readings are meaningful only with the equipment at steady running conditions.",
+        NO_HOT_SPOT,
     ],
 }
 

@@ -349,3 +349,100 @@ def _polyline(points: list[str], colour: str) -> str:
     return (
         f'<polyline points="{" ".join(points)}" fill="none" stroke="{colour}" stroke-width="1.5"/>'
     )
+
+
+def profile_svg(
+    distances,
+    values,
+    width: int = 480,
+    height: int = 170,
+    unit: str = "°C",
+    distance_unit: str = "px",
+    *,
+    title: str = "",
+) -> str:
+    """An SVG chart of temperatures along a line mark, distance from its start across.
+
+    `values` may hold None where a pixel has no reading (a gap in the line). Axis ticks are
+    round numbers; the hottest and coldest samples are labelled with their value.
+    """
+    pairs = [
+        (float(d), None if v is None or not math.isfinite(float(v)) else float(v))
+        for d, v in zip(distances, values, strict=True)
+    ]
+    left, right, top, bottom = 52.0, width - 14.0, 24.0 if title else 12.0, height - 34.0
+    parts = [
+        f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{height}" '
+        f'viewBox="0 0 {width} {height}" role="img" font-family="DejaVu Sans, sans-serif" '
+        f'font-size="11" class="profile-chart">',
+        f"<title>{escape(title or 'Line profile')}</title>",
+    ]
+    if title:
+        parts.append(f'<text x="{left}" y="14" fill="{INK}" font-size="12">{escape(title)}</text>')
+    known = [(d, v) for d, v in pairs if v is not None]
+    if len(known) < 2:
+        parts.append(
+            f'<text x="{width / 2}" y="{height / 2}" text-anchor="middle" fill="{MUTED}">'
+            "No readings along this line.</text></svg>"
+        )
+        return "".join(parts)
+    low, high = min(v for _, v in known), max(v for _, v in known)
+    if high - low < 0.2:
+        low, high = low - 0.1, high + 0.1
+    step = nice_step(low, high, target=4)
+    low, high = math.floor(low / step) * step, math.ceil(high / step) * step
+    d_low, d_high = pairs[0][0], pairs[-1][0]
+    if d_high - d_low < 1e-9:
+        d_high = d_low + 1.0
+
+    def x_of(d: float) -> float:
+        return left + (d - d_low) / (d_high - d_low) * (right - left)
+
+    def y_of(v: float) -> float:
+        return bottom - (v - low) / (high - low) * (bottom - top)
+
+    def number(value: float) -> str:
+        return f"{value:g}".replace("-", "−")
+
+    for tick in nice_ticks(low, high, step=step):
+        y = y_of(tick)
+        parts.append(
+            f'<line x1="{left}" y1="{y:.1f}" x2="{right}" y2="{y:.1f}" stroke="{GRID}" '
+            'stroke-width="1"/>'
+            f'<text x="{left - 6}" y="{y + 4:.1f}" text-anchor="end" fill="{MUTED}">'
+            f"{number(tick)}</text>"
+        )
+    for tick in nice_ticks(d_low, d_high, target=6):
+        x = x_of(tick)
+        parts.append(
+            f'<text x="{x:.1f}" y="{bottom + 15}" text-anchor="middle" fill="{MUTED}">'
+            f"{number(tick)}</text>"
+        )
+    parts.append(
+        f'<text x="{right}" y="{height - 4}" text-anchor="end" fill="{MUTED}">'
+        f"distance along the line, {escape(distance_unit)}</text>"
+        f'<text x="12" y="{(top + bottom) / 2:.1f}" fill="{MUTED}" text-anchor="middle" '
+        f'transform="rotate(-90 12 {(top + bottom) / 2:.1f})">{escape(unit)}</text>'
+    )
+    segment: list[str] = []
+    for d, v in pairs:
+        if v is None:
+            if len(segment) > 1:
+                parts.append(_polyline(segment, LINE))
+            segment = []
+            continue
+        segment.append(f"{x_of(d):.1f},{y_of(v):.1f}")
+    if len(segment) > 1:
+        parts.append(_polyline(segment, LINE))
+    for d, v in (max(known, key=lambda p: p[1]), min(known, key=lambda p: p[1])):
+        parts.append(
+            f'<circle cx="{x_of(d):.1f}" cy="{y_of(v):.1f}" r="3" fill="{THRESHOLD}"/>'
+            f'<text x="{min(max(x_of(d), left + 20), right - 20):.1f}" '
+            f'y="{max(y_of(v) - 6, top + 10):.1f}" text-anchor="middle" fill="{INK}">'
+            f"{number(round(v, 1))}</text>"
+        )
+    parts.append(
+        f'<line x1="{left}" y1="{bottom}" x2="{right}" y2="{bottom}" stroke="{MUTED}" '
+        'stroke-width="1"/></svg>'
+    )
+    return "".join(parts)

@@ -29,6 +29,16 @@ class AllRowsManager(models.Manager):
     """Every row, deleted ones included (restore pages, purges)."""
 
 
+# What each severity level asks of the client in time: common practice, no source; each
+# organization words its own on its settings page.
+LEVEL_TIME_DEFAULTS = {
+    1: "Make safe or repair now, within 24 hours.",
+    2: "Repair within two weeks.",
+    3: "Plan the repair for the next maintenance window, within three months.",
+    4: "No repair needed yet; look again at the next inspection.",
+}
+
+
 class Organization(models.Model):
     name = models.CharField(max_length=200)
     slug = models.SlugField(max_length=80, unique=True)
@@ -37,6 +47,22 @@ class Organization(models.Model):
         help_text="Let the thermographer of a survey also issue its report (one-person "
         "firms); such reports say they were not independently reviewed.",
     )
+    # Letterhead: printed on a report's cover and in every page's footer.
+    address = models.TextField(blank=True)
+    phone = models.CharField(max_length=50, blank=True)
+    email = models.EmailField(blank=True)
+    website = models.CharField(max_length=200, blank=True)
+    logo = models.FileField(upload_to="letterheads/%Y/%m/", max_length=300, blank=True)
+    # Re-inspection of equipment without an interval of its own (NFPA 70B asks for infrared
+    # inspection of electrical equipment at least every 12 months).
+    reinspection_interval_months = models.PositiveSmallIntegerField(
+        default=12, validators=[MinValueValidator(1), MaxValueValidator(120)]
+    )
+    # What each severity level means in time, in the report's plain-language summary.
+    level_1_time = models.CharField(max_length=200, blank=True, default=LEVEL_TIME_DEFAULTS[1])
+    level_2_time = models.CharField(max_length=200, blank=True, default=LEVEL_TIME_DEFAULTS[2])
+    level_3_time = models.CharField(max_length=200, blank=True, default=LEVEL_TIME_DEFAULTS[3])
+    level_4_time = models.CharField(max_length=200, blank=True, default=LEVEL_TIME_DEFAULTS[4])
     created_at = models.DateTimeField(auto_now_add=True)
 
     class Meta:
@@ -44,6 +70,13 @@ class Organization(models.Model):
 
     def __str__(self) -> str:
         return self.name
+
+    def level_time(self, level: int) -> str:
+        return getattr(self, f"level_{level}_time", "") or LEVEL_TIME_DEFAULTS.get(level, "")
+
+    @property
+    def contact_line(self) -> str:
+        return " · ".join(v for v in (self.phone, self.email, self.website) if v)
 
 
 class Member(models.Model):
@@ -65,6 +98,13 @@ class Member(models.Model):
     qualification = models.CharField(
         max_length=200, blank=True, help_text="As stated on reports, e.g. a certification level."
     )
+    # The thermography qualification as a record: printed for the thermographer and the
+    # reviewer, and an expired one warns when a report is issued.
+    qualification_scheme = models.CharField(max_length=120, blank=True)
+    qualification_level = models.CharField(max_length=60, blank=True)
+    certificate_number = models.CharField(max_length=100, blank=True)
+    qualification_expires = models.DateField(null=True, blank=True)
+    signature = models.FileField(upload_to="signatures/%Y/%m/", max_length=300, blank=True)
 
     class SpeedUnit(models.TextChoices):
         METRES_PER_SECOND = "m_s", "m/s"
@@ -93,6 +133,21 @@ class Member(models.Model):
     @property
     def display_name(self) -> str:
         return self.user.get_full_name() or self.user.username
+
+    @property
+    def qualification_text(self) -> str:
+        """The qualification as printed: the record's scheme, level and certificate, or the
+        free text of members recorded before the record existed."""
+        parts = [self.qualification_scheme]
+        if self.qualification_level:
+            parts.append(f"level {self.qualification_level}")
+        if self.certificate_number:
+            parts.append(f"certificate {self.certificate_number}")
+        text = ", ".join(part for part in parts if part)
+        return text or self.qualification
+
+    def qualification_expired_on(self, day) -> bool:
+        return self.qualification_expires is not None and self.qualification_expires < day
 
     @property
     def can_edit(self) -> bool:
@@ -355,6 +410,9 @@ class Survey(models.Model):
     )
     scope_examined = models.TextField(blank=True, help_text="What was examined.")
     scope_not_examined = models.TextField(blank=True, help_text="What was not examined, and why.")
+    deviations = models.TextField(
+        blank=True, help_text="Where the work departed from the firm's procedure, and why."
+    )
     notes = models.TextField(blank=True)
     building_description = models.TextField(
         blank=True,
@@ -542,6 +600,25 @@ class Thermogram(models.Model):
         FAILED = "failed", "Could not be read"
         DAMAGED = "damaged", "Original damaged"
 
+    class EmissivityMethod(models.TextChoices):
+        TAPE = "tape", "Tape or paint of known emissivity beside the spot"
+        REFERENCE = "reference", "Reference emitter"
+        CONTACT = "contact", "Contact thermometer on the surface"
+        TABLE = "table", "Published table for the material"
+        SURVEY = "survey", "The survey's setting for the material"
+
+    class ReflectedMethod(models.TextChoices):
+        REFLECTOR = "reflector", "Reflector method (crumpled foil)"
+        DIRECT = "direct", "Direct method (camera at emissivity 1 towards the surroundings)"
+        AIR = "air", "Taken as the air temperature"
+        ESTIMATE = "estimate", "Estimated from the surroundings"
+
+    class LoadMethod(models.TextChoices):
+        CLAMP = "clamp", "Clamp meter at the time of the thermogram"
+        METER = "meter", "Installed panel meter"
+        SCADA = "scada", "Building or plant control system"
+        ESTIMATE = "estimate", "Estimated by the operator"
+
     organization = models.ForeignKey(
         Organization, on_delete=models.CASCADE, related_name="thermograms"
     )
@@ -591,6 +668,21 @@ class Thermogram(models.Model):
     distance_m = models.FloatField(
         null=True, blank=True, validators=[MinValueValidator(0.01), MaxValueValidator(10000)]
     )
+    emissivity_method = models.CharField(
+        max_length=12, choices=EmissivityMethod.choices, blank=True
+    )
+    reflected_method = models.CharField(max_length=12, choices=ReflectedMethod.choices, blank=True)
+    # Electrical load at the time of the thermogram, per phase, and how it was measured.
+    load_l1_a = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(0), MaxValueValidator(100000)]
+    )
+    load_l2_a = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(0), MaxValueValidator(100000)]
+    )
+    load_l3_a = models.FloatField(
+        null=True, blank=True, validators=[MinValueValidator(0), MaxValueValidator(100000)]
+    )
+    load_method = models.CharField(max_length=12, choices=LoadMethod.choices, blank=True)
     palette = models.CharField(max_length=40, default="black-red-yellow")
     span_low_c = models.FloatField(null=True, blank=True)
     span_high_c = models.FloatField(null=True, blank=True)

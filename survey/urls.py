@@ -182,6 +182,11 @@ register_patterns = [
     path("findings/<int:pk>/delete/", recovery.finding_delete, name="finding_delete"),
     path("deleted/<str:kind>/<int:pk>/restore/", recovery.item_restore, name="item_restore"),
     path("organization/", organization.organization_settings, name="organization"),
+    path(
+        "organization/letterhead/",
+        organization.organization_letterhead,
+        name="organization_letterhead",
+    ),
 ]
 
 # --- roof surveys: the plan and moisture checks (survey/views/roof.py) ---

@@ -129,6 +129,14 @@ class SurveyForm(UnitFormMixin, forms.Form):
         label="Not examined, and why",
         max_length=TEXT_LIMIT,
     )
+    deviations = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 2}),
+        required=False,
+        label="Deviations from the procedure",
+        help_text="Where the work departed from the firm's procedure, and why; printed in the "
+        "report's method.",
+        max_length=TEXT_LIMIT,
+    )
     notes = forms.CharField(
         widget=forms.Textarea(attrs={"rows": 3}), required=False, max_length=TEXT_LIMIT
     )
@@ -255,7 +263,7 @@ class SurveyForm(UnitFormMixin, forms.Form):
         names = (
             "site kind title date start_time end_time crew thermographer reviewer camera "
             "instrument ifov_mrad camera_accuracy_c camera_accuracy_pct scope_examined "
-            "scope_not_examined notes building_description roof_membrane roof_insulation "
+            "scope_not_examined deviations notes building_description roof_membrane roof_insulation "
             "time_zone default_emissivity default_reflected_c"
         ).split()
         return {name: self.cleaned_data[name] for name in names}
@@ -279,7 +287,7 @@ class SurveyForm(UnitFormMixin, forms.Form):
             name: getattr(survey, name)
             for name in (
                 "kind title date start_time end_time crew instrument ifov_mrad "
-                "camera_accuracy_c camera_accuracy_pct scope_examined scope_not_examined notes "
+                "camera_accuracy_c camera_accuracy_pct scope_examined scope_not_examined deviations notes "
                 "building_description roof_membrane roof_insulation time_zone "
                 "default_emissivity default_reflected_c"
             ).split()

@@ -7,7 +7,7 @@ from django.utils import timezone
 
 from survey import thermal
 from survey.forms.fields import TEXT_LIMIT, UnitFormMixin, number_field
-from survey.models import SpanRule
+from survey.models import SpanRule, Thermogram
 
 
 class MultipleFileInput(forms.ClearableFileInput):
@@ -214,6 +214,16 @@ class ThermogramSettingsForm(UnitFormMixin, forms.Form):
 
     title = forms.CharField(max_length=200, required=False)
     emissivity = number_field("Emissivity", 0.01, 1.0, required=True)
+    emissivity_method = forms.ChoiceField(
+        choices=[("", "Not recorded"), *Thermogram.EmissivityMethod.choices],
+        required=False,
+        label="How the emissivity was determined",
+    )
+    reflected_method = forms.ChoiceField(
+        choices=[("", "Not recorded"), *Thermogram.ReflectedMethod.choices],
+        required=False,
+        label="How the reflected temperature was determined",
+    )
     palette = forms.ChoiceField(choices=[])
     span_rule = forms.ChoiceField(
         choices=SpanRule.choices,
@@ -228,6 +238,14 @@ class ThermogramSettingsForm(UnitFormMixin, forms.Form):
     captured_at = captured_at_field(
         "In the survey's time zone. A file's own date-time tag sets it again when the file "
         "is read again."
+    )
+    load_l1_a = number_field("Load, phase L1 (A)", 0, 100000, unit_text=" A")
+    load_l2_a = number_field("Load, phase L2 (A)", 0, 100000, unit_text=" A")
+    load_l3_a = number_field("Load, phase L3 (A)", 0, 100000, unit_text=" A")
+    load_method = forms.ChoiceField(
+        choices=[("", "Not recorded"), *Thermogram.LoadMethod.choices],
+        required=False,
+        label="How the load was measured",
     )
 
     def __init__(self, *args, assets, **kwargs):
@@ -268,7 +286,8 @@ class ThermogramSettingsForm(UnitFormMixin, forms.Form):
             name: getattr(thermogram, name)
             for name in (
                 "title emissivity distance_m palette note reflected_c span_low_c span_high_c "
-                "span_rule"
+                "span_rule emissivity_method reflected_method load_l1_a load_l2_a load_l3_a "
+                "load_method"
             ).split()
         }
         values["asset"] = thermogram.asset_id

@@ -48,6 +48,7 @@ SURVEY_FIELDS = (
     "camera_accuracy_pct",
     "scope_examined",
     "scope_not_examined",
+    "deviations",
     "notes",
     "building_description",
     "roof_membrane",
@@ -75,6 +76,12 @@ THERMOGRAM_SETTINGS = (
     "title",
     "note",
     "captured_at",
+    "emissivity_method",
+    "reflected_method",
+    "load_l1_a",
+    "load_l2_a",
+    "load_l3_a",
+    "load_method",
 )
 
 

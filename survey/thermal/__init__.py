@@ -4,7 +4,7 @@ Every public name is re-exported here so a notebook can `from survey import ther
 Units are in the parameter names (_c °C, _pct percent, _m metres, _mrad, _w_m2).
 """
 
-from survey.thermal.alignment import affine_from_pairs
+from survey.thermal.alignment import affine_from_pairs, thermogram_to_photo
 from survey.thermal.bands import band_index, check_bands, stepped_interval
 from survey.thermal.decision import (
     decide,
@@ -72,6 +72,7 @@ __all__ = [
     "ThermogramFormatError",
     "Transform",
     "affine_from_pairs",
+    "thermogram_to_photo",
     "apparent_temperature",
     "auto_span",
     "band_index",

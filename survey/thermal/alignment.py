@@ -58,3 +58,39 @@ def affine_from_pairs(photo_xy, thermogram_xy) -> np.ndarray:
     if abs(np.linalg.det(matrix[:, :2])) < 1e-9:
         raise ValueError("These points do not define a usable alignment.")
     return matrix
+
+
+def thermogram_to_photo(matrix, points_xy) -> np.ndarray:
+    """Thermogram pixels to photo pixels: the inverse of an alignment from `affine_from_pairs`.
+
+    Parameters
+    ----------
+    matrix : array_like, shape (2, 3)
+        Photo-to-thermogram affine transform.
+    points_xy : array_like, shape (n, 2)
+        Thermogram pixel positions.
+
+    Returns
+    -------
+    ndarray, shape (n, 2)
+        Photo pixel positions.
+
+    Notes
+    -----
+    With p' = A·p + t, p = A⁻¹·(p' − t); A is invertible for every alignment that
+    `affine_from_pairs` returns. Raises ValueError for a singular matrix.
+
+    Examples
+    --------
+    >>> m = affine_from_pairs([[0, 0], [10, 0]], [[5, 5], [25, 5]])
+    >>> thermogram_to_photo(m, [[25, 5], [5, 25]]).round(6).tolist()
+    [[10.0, 0.0], [0.0, 10.0]]
+    """
+    m = np.asarray(matrix, dtype=float)
+    if m.shape != (2, 3):
+        raise ValueError("matrix must be 2 × 3.")
+    linear, shift = m[:, :2], m[:, 2]
+    if abs(np.linalg.det(linear)) < 1e-12:
+        raise ValueError("matrix does not define a usable alignment.")
+    points = np.asarray(points_xy, dtype=float).reshape(-1, 2)
+    return np.linalg.solve(linear, (points - shift).T).T

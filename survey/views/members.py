@@ -9,9 +9,11 @@ from django.utils.cache import add_never_cache_headers
 
 from survey.access import get_member, get_member_for_user, members_for, require_admin
 from survey.forms.fields import add_service_error, submitted
+from survey.forms.letterhead import QualificationForm
 from survey.forms.members import MemberAddForm, MemberEditForm
 from survey.models import Member
 from survey.services import members as services
+from survey.services.letterhead import member_update_qualification
 
 
 @login_required
@@ -48,6 +50,8 @@ def member_edit(request: HttpRequest, pk: int) -> HttpResponse:
     action = request.POST.get("action", "save") if request.method == "POST" else None
     if action in {"deactivate", "reactivate"}:
         return _set_active(request, person, action)
+    if action == "qualification":
+        return _qualification(request, person)
     initial = {"role": person.role, "qualification": person.qualification}
     form = MemberEditForm(submitted(request), initial=initial)
     if action == "save" and form.is_valid():
@@ -58,7 +62,32 @@ def member_edit(request: HttpRequest, pk: int) -> HttpResponse:
         else:
             messages.success(request, f"{person.display_name} saved.")
             return redirect("survey:members")
-    return render(request, "survey/member_edit.html", {"person": person, "form": form})
+    return _edit_page(request, person, form=form)
+
+
+def _edit_page(request: HttpRequest, person: Member, form=None, qualification_form=None):
+    context = {
+        "person": person,
+        "form": form
+        or MemberEditForm(initial={"role": person.role, "qualification": person.qualification}),
+        "qualification_form": qualification_form
+        or QualificationForm(initial=QualificationForm.initial_for(person)),
+    }
+    return render(request, "survey/member_edit.html", context)
+
+
+def _qualification(request: HttpRequest, person: Member) -> HttpResponse:
+    """The qualification record and signature picture printed on reports."""
+    form = QualificationForm(request.POST, request.FILES)
+    if form.is_valid():
+        try:
+            member_update_qualification(member=person, actor=request.user, **form.cleaned_data)
+        except ValidationError as error:
+            add_service_error(form, error)
+        else:
+            messages.success(request, f"Qualification of {person.display_name} saved.")
+            return redirect("survey:member_edit", pk=person.pk)
+    return _edit_page(request, person, qualification_form=form)
 
 
 def _set_active(request: HttpRequest, person: Member, action: str) -> HttpResponse:

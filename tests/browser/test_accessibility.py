@@ -269,6 +269,7 @@ FORM_ERRORS = [
     ("survey:clients", (), "main form:not([action])", {}, ".errorlist"),
     ("survey:sites", (), "main form:not([action])", {}, ".errorlist"),
     ("survey:members", (), "main form:not([action])", {}, ".errorlist"),
+    ("survey:organization", (), "main form[action$='letterhead/']", {}, ".errorlist"),
     ("survey:thermogram_settings", ("thermogram",), "main form:not([action])", {}, ".errorlist"),
     (
         "survey:finding_create",

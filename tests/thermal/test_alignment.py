@@ -49,3 +49,22 @@ def test_affine_from_pairs_refuses_degenerate_points(photo, message):
     target = [[float(i), 2.0 * i] for i in range(len(photo))]
     with pytest.raises(ValueError, match=message):
         affine_from_pairs(photo, target)
+
+
+def test_thermogram_to_photo_returns_the_photo_points_of_the_fitted_pairs():
+    """Three pairs fix the affine exactly, so its inverse takes each thermogram point back to
+    its photo point (the definition of the inverse; the pairs are the check values)."""
+    from survey.thermal import thermogram_to_photo
+
+    photo = [[12.0, 30.0], [410.0, 44.0], [220.0, 290.0]]
+    thermogram = [[3.0, 5.0], [38.0, 9.0], [20.0, 27.0]]
+    matrix = affine_from_pairs(photo, thermogram)
+    np.testing.assert_allclose(thermogram_to_photo(matrix, thermogram), photo, atol=1e-9)
+
+
+def test_thermogram_to_photo_refuses_a_matrix_that_collapses_the_plane():
+    """A singular linear part has no inverse: ValueError naming the matrix."""
+    from survey.thermal import thermogram_to_photo
+
+    with pytest.raises(ValueError, match="matrix"):
+        thermogram_to_photo([[1.0, 2.0, 0.0], [2.0, 4.0, 0.0]], [[1.0, 1.0]])

@@ -26,7 +26,7 @@ from survey.models import (
     Survey,
     Thermogram,
 )
-from survey.services import ingest, instruments, processing, surveys
+from survey.services import ingest, instruments, letterhead, processing, surveys
 
 PASSWORD = "demo-thermal-2026"
 FICTION = "Fictional demonstration data: every name, place and image here is invented."
@@ -139,6 +139,42 @@ def roof_plan_png() -> bytes:
         font=font(26),
         fill=(60, 60, 60),
     )
+    buffer = io.BytesIO()
+    image.save(buffer, "PNG")
+    return buffer.getvalue()
+
+
+def demo_logo_png() -> bytes:
+    """The invented firm's logo: a brook of three warm-to-cool waves beside its initials."""
+    from PIL import Image, ImageDraw
+
+    from survey.thermal.drawing import font
+
+    image = Image.new("RGB", (560, 160), (255, 255, 255))
+    draw = ImageDraw.Draw(image)
+    for row, colour in enumerate(((196, 72, 24), (224, 150, 40), (11, 79, 117))):
+        y = 40 + row * 36
+        points = [(20 + x, y + 12 * np.sin(x / 18.0)) for x in range(0, 121, 4)]
+        draw.line(points, fill=colour, width=10, joint="curve")
+    draw.text((160, 80), "LUMEN BROOK", font=font(42, bold=True), fill=(11, 79, 117), anchor="lm")
+    draw.text((162, 122), "thermal services", font=font(24), fill=(74, 83, 97), anchor="lm")
+    buffer = io.BytesIO()
+    image.save(buffer, "PNG")
+    return buffer.getvalue()
+
+
+def demo_signature_png(name: str) -> bytes:
+    """An invented signature: a looped pen stroke and the initials, drawn."""
+    from PIL import Image, ImageDraw
+
+    from survey.thermal.drawing import font
+
+    image = Image.new("RGB", (360, 110), (255, 255, 255))
+    draw = ImageDraw.Draw(image)
+    points = [(20 + t * 3.0, 60 - 22 * np.sin(t / 5.0) * np.exp(-t / 90.0)) for t in range(100)]
+    draw.line(points, fill=(16, 32, 88), width=4, joint="curve")
+    initials = "".join(part[0] for part in name.split()[:2])
+    draw.text((330, 60), initials, font=font(30, bold=True), fill=(16, 32, 88), anchor="rm")
     buffer = io.BytesIO()
     image.save(buffer, "PNG")
     return buffer.getvalue()
@@ -398,6 +434,8 @@ class Command(BaseCommand):
         self._envelope_extras(envelope, slab, patch, admin)
         self._roof_extras(roof, wet, roof_section, admin, rng)
         self._electrical_visits(org, admin, members, electrical, panel, rng)
+        self._report_particulars(org, members, camera, envelope, electrical, [slab, window, patch])
+        self._thermogram_particulars([slab, window, patch], wet, lugs)
 
         elapsed = time.monotonic() - started
         self.stdout.write(
@@ -407,6 +445,100 @@ class Command(BaseCommand):
                 "same password."
             )
         )
+
+    # --- report particulars: letterhead, qualifications, instruments, methods -----------
+
+    def _report_particulars(self, org, members, camera, envelope, electrical, walls) -> None:
+        """The invented firm's letterhead and logo, its people's qualification records (and
+        the reviewer's signature), a second camera that matches the panel images, and the
+        deviations of the electrical survey (issue 14)."""
+        if not org.address:
+            letterhead.organization_update_letterhead(
+                organization=org,
+                user=members["demo"].user,
+                name=org.name,
+                address="7 Fictional Yard\nBrookside BS0 0XX (invented)",
+                phone="+00 555 0142",
+                email="office@lumen-brook.invalid",
+                website="lumen-brook.invalid",
+                logo=demo_logo_png(),
+            )
+        records = {
+            "demo": ("2", "DEMO-T2-0031", datetime.date(2027, 9, 30), False),
+            "tess": ("1", "DEMO-T1-0458", datetime.date(2028, 2, 29), False),
+            "rowan": ("3", "DEMO-T3-0007", datetime.date(2027, 5, 31), True),
+        }
+        for username, (level, number, expires, signs) in records.items():
+            member = members[username]
+            if member.qualification_scheme:
+                continue
+            letterhead.member_update_qualification(
+                member=member,
+                actor=members["demo"].user,
+                qualification_scheme="Invented Thermography Certification Board",
+                qualification_level=level,
+                certificate_number=number,
+                qualification_expires=expires,
+                signature=demo_signature_png(member.display_name) if signs else None,
+            )
+        compact = Instrument.objects.filter(organization=org, serial_number="DEMO-0002").first()
+        if compact is None:
+            compact = instruments.instrument_create(
+                organization=org,
+                user=members["demo"].user,
+                model_name="Invented compact LWIR camera",
+                serial_number="DEMO-0002",
+                detector_width_px=240,
+                detector_height_px=180,
+                lens_hfov_deg=24.0,
+                netd_mk=45.0,
+                accuracy_c=2.0,
+                accuracy_pct=2.0,
+                calibration_date=datetime.date(2025, 11, 12),
+                calibration_due=datetime.date(2026, 11, 12),
+                certificate_reference="CAL-DEMO-0002 (invented)",
+            )
+        if electrical.camera_id is None:
+            electrical.camera = compact
+            electrical.deviations = (
+                "The covers of outgoing section 3 stayed closed: the site electrician could "
+                "not isolate the neighbouring feeder. Section 3 was imaged through its "
+                "ventilation grille only."
+            )
+            electrical.save(update_fields=["camera", "deviations"])
+        if envelope.camera_id is None:
+            # The wall images were exported at several sizes: the report says so as a
+            # deviation instead of printing the camera's 320 × 240 beside them.
+            envelope.camera = camera
+            envelope.save(update_fields=["camera"])
+
+    def _thermogram_particulars(self, walls, wet, lugs) -> None:
+        """How each demo thermogram's emissivity and reflected temperature were determined,
+        and the panel's load per phase."""
+        for thermogram in walls:
+            if not thermogram.emissivity_method:
+                thermogram.emissivity_method = Thermogram.EmissivityMethod.TABLE
+                thermogram.reflected_method = Thermogram.ReflectedMethod.REFLECTOR
+                thermogram.save(update_fields=["emissivity_method", "reflected_method"])
+        if not wet.emissivity_method:
+            wet.emissivity_method = Thermogram.EmissivityMethod.TABLE
+            wet.reflected_method = Thermogram.ReflectedMethod.ESTIMATE
+            wet.save(update_fields=["emissivity_method", "reflected_method"])
+        if lugs.load_l1_a is None:
+            lugs.emissivity_method = Thermogram.EmissivityMethod.TAPE
+            lugs.reflected_method = Thermogram.ReflectedMethod.REFLECTOR
+            lugs.load_l1_a, lugs.load_l2_a, lugs.load_l3_a = 246.0, 251.0, 240.0
+            lugs.load_method = Thermogram.LoadMethod.CLAMP
+            lugs.save(
+                update_fields=[
+                    "emissivity_method",
+                    "reflected_method",
+                    "load_l1_a",
+                    "load_l2_a",
+                    "load_l3_a",
+                    "load_method",
+                ]
+            )
 
     # --- building blocks ----------------------------------------------------------------
 
