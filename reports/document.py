@@ -7,6 +7,7 @@ WeasyPrint lays out templates/reports/pdf/report.html and reads pictures only fr
 
 import contextlib
 import gc
+import math
 import threading
 from collections import Counter
 from collections.abc import Callable
@@ -18,8 +19,15 @@ from django.utils import timezone
 
 from reports.fetcher import BASE_URL, LocalOnlyFetcher
 from reports.models import ReportVersion
-from reports.pictures import Pictures, draft_watermark_png, draw_thermogram, trend_chart
+from reports.pictures import (
+    Pictures,
+    draft_watermark_png,
+    draw_thermogram,
+    reading_extremes,
+    trend_chart,
+)
 from reports.results import content_digest, readings_by_thermogram, survey_results
+from reports.typography import printed_number, typeset
 from survey.captions import mark_caption
 from survey.cautions import cautions_for
 from survey.conditions import conditions_check
@@ -111,6 +119,19 @@ def _formatted(value: float, fmt: str, unit: str, speed_unit: str) -> str:
     if fmt == "speed":
         return f"{units.speed_from_m_s(value, speed_unit):.1f} {units.speed_symbol(speed_unit)}"
     return fmt.format(value)
+
+
+def span_text(span_c: tuple[float, float] | None, unit: str) -> dict | None:
+    """A picture's colour span in the report's unit, rounded outwards to 0.1 so the printed
+    ends still hold every printed mark value."""
+    if span_c is None:
+        return None
+    low, high = (units.from_celsius(value, unit) for value in span_c)
+    return {
+        "low": printed_number(math.floor(round(low * 10, 6)) / 10, 1),
+        "high": printed_number(math.ceil(round(high * 10, 6)) / 10, 1),
+        "symbol": units.symbol(unit),
+    }
 
 
 def conditions_rows(
@@ -270,7 +291,11 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
     with ThreadPoolExecutor(max_workers=DRAWING_THREADS) as pool:
         drawn = pool.map(
             lambda t: draw_thermogram(
-                t, pictures, thumbnail=t.pk in thumbnailed, unit=version.temperature_unit
+                t,
+                pictures,
+                thumbnail=t.pk in thumbnailed,
+                unit=version.temperature_unit,
+                extremes_c=reading_extremes(readings.get(t.pk, [])),
             ),
             shown,
         )
@@ -286,6 +311,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
                     "anchor": f"thermogram-{thermogram.pk}",
                     "picture": drawing["picture"],
                     "photo": drawing["photo"],
+                    "span": span_text(drawing["span"], version.temperature_unit),
                     "readings": readings.get(thermogram.pk, []),
                     "findings": sorted(by_thermogram.get(thermogram.pk, []), key=_urgency),
                     "trend": trend_chart(thermogram, version.temperature_unit),
@@ -424,7 +450,7 @@ def render_pdf(
     with fewer_collections():
         context = build_context(version, pictures, progress)
         progress("Laying out the pages", 75)
-        html = render_to_string("reports/pdf/report.html", context)
+        html = typeset(render_to_string("reports/pdf/report.html", context))
         document = HTML(
             string=html, base_url=BASE_URL, url_fetcher=LocalOnlyFetcher(pictures.files)
         ).render()
