@@ -32,6 +32,7 @@ from survey.captions import mark_caption
 from survey.cautions import cautions_for
 from survey.conditions import conditions_check
 from survey.models import Finding, Survey, Thermogram
+from survey.services.criteria_tables import survey_criteria_tables, table_basis
 from survey.services.findings import verification_text
 from survey.services.instruments import survey_ifov
 from survey.services.readings import design_conditions
@@ -363,6 +364,7 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         "independently_reviewed": version.is_draft or version.independently_reviewed,
         "round": round_rows(survey),
         "method": method_context(survey, thermograms, findings),
+        "criteria_provenance": criteria_provenance(version, survey),
         "sections": sections,
         "heat_loss": heat_loss,
         "heat_loss_total": heat_loss_total,
@@ -372,6 +374,25 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         "_results": results,
         "_problems": problems,
     }
+
+
+def criteria_provenance(version: ReportVersion, survey: Survey) -> list[dict]:
+    """The criteria tables behind the findings, with the basis the firm gives them and who
+    reviewed them, or who accepted them unreviewed when the version was issued."""
+    issuer = _reviewer(version, survey) if version.unreviewed_criteria_accepted_at else None
+    rows = []
+    for table in survey_criteria_tables(survey):
+        reviewer = table.reviewed_by
+        rows.append(
+            {
+                "table": table,
+                "basis": table_basis(table),
+                "reviewer": reviewer.display_name if reviewer else "a former member",
+                "accepted_by": issuer.display_name if issuer else None,
+                "accepted_at": version.unreviewed_criteria_accepted_at,
+            }
+        )
+    return rows
 
 
 def round_rows(survey: Survey) -> dict[str, list]:

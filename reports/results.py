@@ -74,8 +74,15 @@ def content_digest(results: dict) -> str:
     return hashlib.sha256(canonical.encode()).hexdigest()
 
 
+# How sure the product is of a criterion is the firm's working note, not client data.
+_INTERNAL_CHECK_KEYS = frozenset({"source", "confidence", "confidence_text"})
+
+
 def conditions_check_rows(survey: Survey) -> list[dict]:
-    return json_safe(conditions_check(survey))
+    rows = conditions_check(survey)
+    return json_safe(
+        [{k: v for k, v in row.items() if k not in _INTERNAL_CHECK_KEYS} for row in rows]
+    )
 
 
 def _finding_dict(finding: Finding) -> dict:

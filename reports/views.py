@@ -138,10 +138,17 @@ def report_issue(request: HttpRequest, report_id: int) -> HttpResponse:
         independent, problem = None, error
     else:
         problem = None
+    unreviewed = services.unreviewed_criteria_message(report)
+    if data is not None and form.is_valid() and unreviewed:
+        if not form.cleaned_data["accept_criteria"]:
+            form.add_error("accept_criteria", unreviewed)
     if data is not None and form.is_valid():
         try:
             version = services.report_issue(
-                report=report, user=request.user, change_note=form.cleaned_data["change_note"]
+                report=report,
+                user=request.user,
+                change_note=form.cleaned_data["change_note"],
+                accept_unreviewed_criteria=form.cleaned_data["accept_criteria"],
             )
         except ValidationError as error:
             _fail(request, error)
@@ -156,6 +163,7 @@ def report_issue(request: HttpRequest, report_id: int) -> HttpResponse:
         "form": form,
         "independent": independent,
         "problem": problem,
+        "unreviewed_criteria": unreviewed,
         "issued_before": report.versions.filter(status=ReportVersion.Status.ISSUED).exists(),
         "findings": report.survey.findings.count(),
         "thermograms": report.survey.thermograms.count(),

@@ -5,6 +5,7 @@ instruction and the archival form. Every PDF is read back with pdftotext or pypd
 import re
 
 import numpy as np
+import pytest
 
 from reports.document import render_pdf
 from reports.models import Report, ReportVersion
@@ -69,3 +70,130 @@ def test_it_widens_the_printed_span_to_every_marks_extremes(electrical_survey):
     assert corrected_max > 75.5
     assert low <= -5.0 and high >= corrected_max - 0.05
     assert high < corrected_max + 0.2, "widened just enough"
+
+
+# --- internal notes never reach the client; the firm's provenance does -----------------------
+
+INTERNAL_PHRASES = [
+    "from memory",
+    "check against your copy",
+    "[source for the criteria]",
+    "the levels given to each band are ours",
+    "secondary sources",
+    "not confirmed against the published text",
+]
+
+
+def judged_survey(survey, reviewer):
+    """The lug survey with its finding judged on the product's default rise table."""
+    from survey.models import Conditions, Finding
+    from survey.services.criteria_tables import criteria_table_for
+
+    Conditions.objects.update_or_create(
+        survey=survey, defaults={"ambient_air_c": 22.0, "wind_m_s": 1.0, "load_pct": 60.0}
+    )
+    survey.reviewer = reviewer
+    survey.save()
+    thermogram = lug_survey(survey)
+    finding = Finding.objects.create(
+        organization=survey.organization,
+        survey=survey,
+        thermogram=thermogram,
+        category="connection",
+        location="Incomer",
+        level=1,
+        rise_c=40.0,
+        criteria_table=criteria_table_for(organization=survey.organization, basis="similar"),
+        recommendation="Re-terminate the lug.",
+    )
+    finding.marks.set(thermogram.marks.filter(label="A"))
+    return survey
+
+
+def issue(client, survey, **extra):
+    from reports.services import report_create
+
+    report = report_create(survey=survey, user=survey.reviewer.user)
+    data = {"change_note": "", "confirm": "on", **extra}
+    return report, client.post(f"/reports/{report.pk}/issue/", data)
+
+
+@pytest.mark.parametrize("kind", ["envelope", "roof", "electrical"])
+def test_it_prints_no_internal_note_in_the_report(org, site, thermographer, reviewer, kind):
+    """Conditions check and criteria of every kind: standards by name, no working notes."""
+    from tests.reports.conftest import kind_survey
+
+    survey = kind_survey(org, site, thermographer, kind)
+    judged_survey(survey, reviewer)
+    text = flat(pdf_text(render(survey).pdf)).lower()
+    for phrase in INTERNAL_PHRASES:
+        assert phrase not in text, phrase
+    assert "conditions check" in text
+
+
+def test_it_refuses_to_issue_on_unreviewed_criteria_without_the_extra_confirmation(
+    reviewer_client, electrical_survey, reviewer, django_capture_on_commit_callbacks
+):
+    """The confirmation page asks; without the box no version is made; with it, the PDF
+    names who accepted the default table and when."""
+    from reports.models import ReportVersion
+
+    judged_survey(electrical_survey, reviewer)
+    report, response = issue(reviewer_client, electrical_survey)
+    assert response.status_code == 200
+    assert "not reviewed" in response.content.decode()
+    assert not ReportVersion.objects.filter(report=report).exists()
+    with django_capture_on_commit_callbacks(execute=True):
+        response = reviewer_client.post(
+            f"/reports/{report.pk}/issue/",
+            {"change_note": "", "confirm": "on", "accept_criteria": "on"},
+        )
+    assert response.status_code == 302
+    version = ReportVersion.objects.get(report=report)
+    assert version.unreviewed_criteria_accepted_at is not None
+    text = flat(pdf_text(version.pdf.read()))
+    day = version.unreviewed_criteria_accepted_at.strftime("%-d %B %Y")
+    assert f"accepted for this report by {reviewer.display_name} on {day}" in text
+    assert "not reviewed by" in text
+
+
+def test_it_prints_the_firms_review_of_a_table_and_issues_without_the_extra_box(
+    reviewer_client, electrical_survey, reviewer, django_capture_on_commit_callbacks
+):
+    """A reviewer records the review on the criteria page (audited); the report prints the
+    basis, the reviewer's name and the date; the share page shows no internal note."""
+    from reports.models import ReportVersion
+    from reports.services import share_link_create
+    from survey.models import AuditEvent, CriteriaTable
+    from survey.services.criteria_tables import criteria_table_for
+
+    judged_survey(electrical_survey, reviewer)
+    default = criteria_table_for(organization=electrical_survey.organization, basis="similar")
+    page = reviewer_client.get("/criteria/").content.decode()
+    assert "Defaults, not yet reviewed by your firm" in page
+    for phrase in INTERNAL_PHRASES:
+        assert phrase not in page.lower()
+    basis = "NETA MTS, our clause 7.3 reading of the similar-component bands"
+    response = reviewer_client.post(
+        f"/criteria/{default.pk}/review/",
+        {f"t{default.pk}-basis": basis, f"t{default.pk}-confirm": "on"},
+    )
+    assert response.status_code == 302
+    own = CriteriaTable.objects.get(organization=electrical_survey.organization, key=default.key)
+    assert own.reviewed_by == reviewer and own.basis == basis
+    assert AuditEvent.objects.filter(action="criteria_reviewed").exists()
+    with django_capture_on_commit_callbacks(execute=True):
+        report, response = issue(reviewer_client, electrical_survey)
+    assert response.status_code == 302
+    version = ReportVersion.objects.get(report=report)
+    text = flat(pdf_text(version.pdf.read()))
+    day = own.reviewed_at.strftime("%-d %B %Y")
+    assert f"Basis: {basis}" in text
+    assert (
+        f"Reviewed for {electrical_survey.organization.name} by {reviewer.display_name} on {day}"
+        in text
+    )
+    link = share_link_create(version=version, user=reviewer.user)
+    share = reviewer_client.get(f"/reports/s/{link.token}/").content.decode().lower()
+    for phrase in INTERNAL_PHRASES:
+        assert phrase not in share

@@ -336,6 +336,9 @@ MATRIX: dict[str, Entry] = {
     "survey:asset": Entry("get", lambda w: {"pk": w.asset.pk}, everyone(200)),
     "survey:asset_trend": Entry("get", lambda w: {"pk": w.asset.pk}, everyone(200)),
     "survey:criteria_edit": Entry("get", lambda w: {"pk": w.criteria_table_id}, admins(200)),
+    "survey:criteria_review": Entry(
+        "post", lambda w: {"pk": w.criteria_table_id}, reviewers(302), data={}
+    ),
     # reports
     "reports:survey": Entry("get", survey_id, everyone(200)),
     "reports:create": Entry("post", lambda w: {"survey_id": w.bare_survey()}, editors(302)),
@@ -632,6 +635,7 @@ def _viewer_writes(w: World) -> list[tuple[str, str, dict, dict | None, dict | N
         ("post", "survey:heat_loss_create", survey(w), {"label": "x"}, None),
         ("post", "survey:criteria_copy", {}, {}, None),
         ("post", "survey:criteria_edit", {"pk": w.criteria_table_id}, {"rows": "[]"}, None),
+        ("post", "survey:criteria_review", {"pk": w.criteria_table_id}, {}, None),
         ("post", "survey:member_edit", {"pk": w.survey.thermographer_id}, {"role": "admin"}, None),
         ("post", "reports:create", {"survey_id": w.bare_survey()}, {}, None),
         ("post", "reports:draft", report_id(w), {}, None),
