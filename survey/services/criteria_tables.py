@@ -45,9 +45,7 @@ def survey_criteria_tables(survey: Survey) -> list[CriteriaTable]:
     """
     tables = {
         finding.criteria_table_id: finding.criteria_table
-        for finding in survey.findings.select_related("criteria_table").exclude(
-            criteria_table=None
-        )
+        for finding in survey.findings.select_related("criteria_table").exclude(criteria_table=None)
     }
     own = {
         table.key: table
