@@ -283,7 +283,8 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
     results = survey_results(survey, readings=readings)
     digest = content_digest(results)
 
-    counts = Counter(f.level for f in findings)
+    open_findings = [f for f in findings if f.status == Finding.Status.OPEN]
+    counts = Counter(f.level for f in open_findings)
     ranked = sorted(findings, key=_urgency)
     # Only the summary's top findings show a thumbnail: only their thermograms need one.
     thumbnailed = {f.thermogram_id for f in ranked[:TOP_FINDINGS]}
@@ -344,6 +345,9 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         "level_counts": [(level, label, counts.get(level, 0)) for level, label in LEVELS],
         "unlevelled_count": counts.get(None, 0),
         "finding_count": len(findings),
+        "open_count": len(open_findings),
+        "repaired_count": sum(f.status == Finding.Status.REPAIRED for f in findings),
+        "verified_count": sum(f.status == Finding.Status.VERIFIED for f in findings),
         "top_findings": [
             {"finding": f, "thumb": thumbs.get(f.thermogram_id)} for f in ranked[:TOP_FINDINGS]
         ],

@@ -61,3 +61,17 @@ def printed_minus(text) -> str:
     from reports.typography import typeset
 
     return typeset(str(text))
+
+
+STATUS_WORDS = {
+    "open": "open",
+    "repaired": "repaired, awaiting verification",
+    "verified": "verified repaired",
+}
+
+
+@register.filter
+def status_words(status) -> str:
+    """A finding's workflow state in words, sentence case: 'repaired, awaiting
+    verification'."""
+    return STATUS_WORDS.get(str(status), str(status).replace("_", " ").lower())

@@ -197,3 +197,60 @@ def test_it_prints_the_firms_review_of_a_table_and_issues_without_the_extra_box(
     share = reviewer_client.get(f"/reports/s/{link.token}/").content.decode().lower()
     for phrase in INTERNAL_PHRASES:
         assert phrase not in share
+
+
+# --- notes, counts and words ---------------------------------------------------------------
+
+
+def summary_page(text: str) -> str:
+    pages = text.split("\f")
+    return next(page for page in pages if "What to do first" in page)
+
+
+def act_now_count(summary: str) -> int:
+    """The counter above "1 act now, open" (pdftotext -layout prints the counters' row, then
+    their names' row, in the same column order)."""
+    lines = [line for line in summary.splitlines() if line.strip()]
+    names = next(i for i, line in enumerate(lines) if "1 act now, open" in line)
+    counts = lines[names - 1].split()
+    assert len(counts) == 4 and all(c.isdigit() for c in counts), lines[names - 1]
+    return int(counts[0])
+
+
+def test_it_prints_mark_names_and_notes_in_the_readings_and_the_finding(
+    electrical_survey, reviewer
+):
+    """The stored short name and note of a mark print in its readings row and its finding."""
+    judged_survey(electrical_survey, reviewer)
+    text = flat(pdf_text(render(electrical_survey).pdf, layout=False))
+    assert text.count("A (phase B lug)") >= 2
+    assert text.count("Lug of the phase B incomer") >= 2
+
+
+@pytest.mark.parametrize(
+    ("status", "act_now", "words"),
+    [
+        ("open", 1, "Open"),
+        ("repaired", 0, "Repaired, awaiting verification"),
+        ("verified", 0, "Verified repaired"),
+    ],
+)
+def test_it_counts_what_the_summary_says_and_prints_states_as_words(
+    electrical_survey, reviewer, status, act_now, words
+):
+    """The act-now counter counts open findings only; "No open finding needs action" never
+    stands beside a non-zero counter; states print in sentence case, never raw."""
+    from survey.models import Finding
+
+    judged_survey(electrical_survey, reviewer)
+    Finding.objects.filter(survey=electrical_survey).update(status=status)
+    text = pdf_text(render(electrical_survey).pdf)
+    summary = flat(summary_page(text))
+    assert act_now_count(summary_page(text)) == act_now
+    says_none = "No open finding needs action" in summary
+    assert says_none == (act_now == 0)
+    if status != "open":
+        assert f"1 finding {words.lower()}" in summary
+    assert words in flat(text)
+    for raw in ("OPEN", "REPAIRED", "VERIFIED"):
+        assert raw not in text
