@@ -7,6 +7,7 @@ WeasyPrint lays out templates/reports/pdf/report.html and reads pictures only fr
 
 import contextlib
 import gc
+import hashlib
 import math
 import threading
 from collections import Counter
@@ -26,7 +27,12 @@ from reports.pictures import (
     reading_extremes,
     trend_chart,
 )
-from reports.results import content_digest, readings_by_thermogram, survey_results
+from reports.results import (
+    readings_by_thermogram,
+    results_file,
+    results_file_name,
+    survey_results,
+)
 from reports.typography import printed_number, typeset
 from survey.captions import mark_caption
 from survey.cautions import cautions_for
@@ -281,7 +287,8 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         by_thermogram.setdefault(finding.thermogram_id, []).append(finding)
     readings = readings_by_thermogram(survey, thermograms)
     results = survey_results(survey, readings=readings)
-    digest = content_digest(results)
+    export = results_file(results)
+    digest = hashlib.sha256(export).hexdigest()
 
     open_findings = [f for f in findings if f.status == Finding.Status.OPEN]
     counts = Counter(f.level for f in open_findings)
@@ -342,6 +349,8 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
         if version.is_draft
         else None,
         "content_sha256": digest,
+        "results_file_name": results_file_name(survey.pk),
+        "_results_file": export,
         "level_counts": [(level, label, counts.get(level, 0)) for level, label in LEVELS],
         "unlevelled_count": counts.get(None, 0),
         "finding_count": len(findings),

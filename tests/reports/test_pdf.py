@@ -1,5 +1,6 @@
 """The PDF read back: sections, numbers, cautions, page numbers, pictures and digests."""
 
+import hashlib
 import io
 import re
 from types import SimpleNamespace
@@ -12,7 +13,7 @@ from pypdf import PdfReader
 
 from reports.document import render_pdf
 from reports.models import Report, ReportVersion
-from reports.results import content_digest, survey_results
+from reports.results import results_file, survey_results
 from survey.models import Conditions, Finding, Member, Survey
 from survey.services.findings import finding_create, finding_suggest
 from survey.services.marks import mark_add, mark_update
@@ -56,7 +57,8 @@ def hand_built(django_db_setup, django_db_blocker, tmp_path_factory):
         draft = render(survey, draft=True)
         Report.objects.all().delete()
         final = render(survey, draft=False)
-        digest = content_digest(survey_results(survey))
+        # The SHA-256 of the results file a user exports (hashlib, FIPS 180-4).
+        digest = hashlib.sha256(results_file(survey_results(survey))).hexdigest()
         transaction.set_rollback(True)
     return SimpleNamespace(draft=draft, final=final, digest=digest)
 

@@ -254,3 +254,49 @@ def test_it_counts_what_the_summary_says_and_prints_states_as_words(
     assert words in flat(text)
     for raw in ("OPEN", "REPAIRED", "VERIFIED"):
         assert raw not in text
+
+
+# --- order and verification ----------------------------------------------------------------
+
+
+def test_it_puts_the_summary_first_and_the_verification_last(electrical_survey, reviewer):
+    """Cover, contents, then the summary; the verification closes the report."""
+    judged_survey(electrical_survey, reviewer)
+    rendered = render(electrical_survey)
+    pages = pdf_text(rendered.pdf).split("\f")[: rendered.page_count]
+    assert re.search(r"^Summary$", pages[2], re.MULTILINE), "the summary opens page 3"
+    headings = ["Summary", "Survey conditions", "Method", "Thermograms", "References"]
+    headings += ["Verification"]
+    text = "\n".join(pages[2:])
+    places = [re.search(rf"^{h}$", text, re.MULTILINE).start() for h in headings]
+    assert places == sorted(places)
+    assert "Verification" in pages[-1] and "Summary" not in pages[-1]
+
+
+def test_it_prints_a_fingerprint_that_sha256sum_of_the_export_reproduces(
+    reviewer_client, electrical_survey, reviewer
+):
+    """Follow the printed instruction: download the results file named in the report, run
+    sha256sum on it (hashlib's SHA-256, FIPS 180-4, is the same digest) and compare."""
+    import hashlib
+    import subprocess
+
+    judged_survey(electrical_survey, reviewer)
+    text = flat(pdf_text(render(electrical_survey).pdf))
+    match = re.search(
+        r"Survey data fingerprint ([0-9a-f]{64}) The SHA-256 of the survey results file "
+        r"(survey-\d+-results\.json).*?Run sha256sum (survey-\d+-results\.json) on the file",
+        text,
+    )
+    assert match, "the fingerprint and the command that checks it"
+    printed, name, command_name = match.groups()
+    assert name == command_name == f"survey-{electrical_survey.pk}-results.json"
+    response = reviewer_client.get(f"/reports/survey/{electrical_survey.pk}/results.json")
+    assert response.status_code == 200
+    assert name in response["Content-Disposition"]
+    computed = (
+        subprocess.run(["sha256sum", "-"], input=response.content, capture_output=True, check=True)
+        .stdout.split()[0]
+        .decode()
+    )
+    assert computed == printed == hashlib.sha256(response.content).hexdigest()
