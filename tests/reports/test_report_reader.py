@@ -300,3 +300,42 @@ def test_it_prints_a_fingerprint_that_sha256sum_of_the_export_reproduces(
         .decode()
     )
     assert computed == printed == hashlib.sha256(response.content).hexdigest()
+
+
+# --- archival form -------------------------------------------------------------------------
+
+
+def test_it_issues_a_tagged_pdf_a_3b_with_the_results_file_attached(electrical_survey, reviewer):
+    """Issued: XMP pdfaid part 3 conformance B (ISO 19005-3), /MarkInfo marked with a
+    structure tree, pdfinfo "Tagged: yes", the results file embedded as an associated file
+    whose SHA-256 is the printed fingerprint. A draft stays a plain PDF."""
+    import hashlib
+    import io
+    import subprocess
+
+    from pypdf import PdfReader
+
+    judged_survey(electrical_survey, reviewer)
+    issued = render(electrical_survey, draft=False).pdf
+    reader = PdfReader(io.BytesIO(issued))
+    root = reader.trailer["/Root"]
+    xmp = root["/Metadata"].get_object().get_data().decode()
+    assert 'pdfaid:part="3"' in xmp and 'pdfaid:conformance="B"' in xmp
+    assert bool(root["/MarkInfo"]["/Marked"]) and "/StructTreeRoot" in root
+    info = subprocess.run(["pdfinfo", "-"], input=issued, capture_output=True, check=True)
+    assert re.search(r"^Tagged:\s+yes$", info.stdout.decode(), re.MULTILINE)
+    name = f"survey-{electrical_survey.pk}-results.json"
+    attached = reader.attachments[name][0]
+    # WeasyPrint 70 lists the one file specification twice in /AF: the set is what counts.
+    associated = {
+        (spec.get_object()["/F"], spec.get_object()["/AFRelationship"]) for spec in root["/AF"]
+    }
+    assert associated == {(name, "/Data")}
+    printed = re.search(r"Survey data fingerprint ([0-9a-f]{64})", flat(pdf_text(issued)))
+    assert hashlib.sha256(attached).hexdigest() == printed.group(1)
+
+    draft = PdfReader(io.BytesIO(render(electrical_survey, version=2).pdf))
+    assert "/Metadata" not in draft.trailer["/Root"] or b"pdfaid" not in (
+        draft.trailer["/Root"]["/Metadata"].get_object().get_data()
+    )
+    assert not draft.attachments
