@@ -223,7 +223,7 @@ def heat_loss_rows(survey: Survey) -> tuple[list[dict], dict]:
     return rows, totals
 
 
-def logged_conditions_context(survey: Survey, thermograms: list) -> dict | None:
+def logged_conditions_context(survey: Survey, thermograms: list, unit: str = "C") -> dict | None:
     """The loggers' chart and each thermogram's logged air, for the report's conditions
     (templates/reports/pdf/_logged_conditions.html); None when the survey has no log."""
     from django.utils.safestring import mark_safe
@@ -247,7 +247,7 @@ def logged_conditions_context(survey: Survey, thermograms: list) -> dict | None:
                 "label": logged["label"] or "no capture time",
             }
         )
-    svg = loggers.survey_logger_chart(survey, unit="C", width=640, height=230)
+    svg = loggers.survey_logger_chart(survey, unit=unit, width=640, height=230)
     return {
         "logs": logs,
         "zone": loggers.survey_time_zone_name(survey),
@@ -368,7 +368,9 @@ def build_context(version: ReportVersion, pictures: Pictures, progress: Progress
             )
         ),
         "conditions_shortfalls": [row for row in checks if row["status"] != "met"],
-        "logged_conditions": logged_conditions_context(survey, thermograms),
+        "logged_conditions": logged_conditions_context(
+            survey, thermograms, version.temperature_unit
+        ),
         "unit": version.temperature_unit,
         "unit_symbol": units.symbol(version.temperature_unit),
         "diff_label": units.difference_label(version.temperature_unit),

@@ -24,7 +24,7 @@ from survey.models import Thermogram
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.assets import asset_history, trend_in_unit, trend_points
 from survey.thermal import auto_span, units, widen_span
-from survey.thermal.drawing import font, render_picture
+from survey.thermal.drawing import font, render_picture, scale_bar_width_px
 
 logger = logging.getLogger(__name__)
 
@@ -155,7 +155,11 @@ def draw_thermogram(
     if picture is not None:
         drawn["picture"] = pictures.add(f"thermogram-{key}", picture)
         if thumbnail:
-            thumb = thumbnail_of(picture, mm_to_px(THUMBNAIL_WIDTH_MM))
+            # Without the scale bar: its text would print at a third of its size, illegible.
+            thermal_part = picture.crop(
+                (0, 0, picture.width - scale_bar_width_px(picture.width), picture.height)
+            )
+            thumb = thumbnail_of(thermal_part, mm_to_px(THUMBNAIL_WIDTH_MM))
             drawn["thumb"] = pictures.add(f"thumb-{key}", thumb)
     try:
         photo = photo_picture(thermogram, mm_to_px(PHOTO_WIDTH_MM))

@@ -327,6 +327,8 @@ def _in_units(value: float, unit: str, temperature_unit: str, speed_unit: str) -
     if unit == "m/s":
         converted = units.speed_from_m_s(value, speed_unit)
         return f"{converted:.1f} {units.speed_symbol(speed_unit)}"
+    if unit.startswith("%"):  # a share is read to the whole percent: "62 %", as elsewhere
+        return f"{value:.0f} %"
     return f"{value:.1f} {unit}".strip()
 
 

@@ -339,3 +339,104 @@ def test_it_issues_a_tagged_pdf_a_3b_with_the_results_file_attached(electrical_s
         draft.trailer["/Root"]["/Metadata"].get_object().get_data()
     )
     assert not draft.attachments
+
+
+# --- typography and units ------------------------------------------------------------------
+
+
+def test_it_prints_a_fahrenheit_report_without_kelvin_or_celsius(envelope_survey, reviewer):
+    """A °F version prints °F and its differences in Δ°F, never K or °C."""
+    from tests.reports.conftest import build_report_survey
+
+    build_report_survey(envelope_survey, envelope_survey.thermographer, reviewer)
+    report = Report.objects.create(
+        organization=envelope_survey.organization, survey=envelope_survey, number="R-F"
+    )
+    version = ReportVersion.objects.create(
+        report=report, version=1, is_draft=True, temperature_unit="F"
+    )
+    text = flat(pdf_text(render_pdf(version).pdf))
+    assert "°F" in text and "Δ°F" in text
+    assert "°C" not in text
+    assert not re.search(r"\d K\b", text), re.search(r".{40}\d K\b.{10}", text)
+
+
+def test_it_prints_true_minus_signs_one_date_format_and_keeps_units_with_numbers(
+    electrical_survey, reviewer
+):
+    """Negative numbers with U+2212; dates as "2 March 2026"; a non-breaking space between a
+    number and its unit (read back without pdftotext's layout)."""
+    judged_survey(electrical_survey, reviewer)
+    text = pdf_text(render(electrical_survey).pdf, layout=False)
+    assert "−5.0" in text  # the cold pixel's apparent −5 °C
+    assert not re.search(r"(?<![\w-])-\d", text), re.search(r".{30}(?<![\w-])-\d.{10}", text)
+    assert "2 March 2026" in text
+    assert not re.search(
+        r"\b\d{4}-\d{2}-\d{2}\b|\b\d{1,2} (Jan|Feb|Mar|Apr|Jun|Jul|Aug|Sep|Oct|Nov|Dec) ", text
+    )
+    assert not re.search(r"\d\.0 % of rating", text)
+
+
+def test_it_keeps_numbers_with_their_units_in_the_laid_out_html(electrical_survey, reviewer):
+    """pdftotext prints a non-breaking space as a space: the HTML WeasyPrint lays out is read
+    instead. Number and unit are joined by U+00A0, negative numbers carry U+2212."""
+    from django.template.loader import render_to_string
+
+    from reports import document
+    from reports.pictures import Pictures
+
+    judged_survey(electrical_survey, reviewer)
+    report = Report.objects.create(
+        organization=electrical_survey.organization, survey=electrical_survey, number="R-N"
+    )
+    version = ReportVersion.objects.create(report=report, version=1, is_draft=True)
+    context = document.build_context(version, Pictures(), lambda *args: None)
+    html = document.typeset(render_to_string("reports/pdf/report.html", context))
+    assert "22.0\u00a0°C" in html and "60\u00a0%" in html and "\u22125.0" in html
+    body = re.sub(r"<(style|script)\b.*?</\1>|<[^>]*>", " ", html, flags=re.S)
+    assert not re.search(r"\d \u00b0[CF]|\d (?:%|K\b|mm\b)", body)
+
+
+def test_it_repeats_the_thermogram_on_the_page_its_readings_run_on_to(electrical_survey):
+    """A thermogram whose readings fill more than a page names itself in the next page's
+    head; the page after it, where another section starts, does not."""
+    thermogram = make_thermogram(
+        electrical_survey, np.full((60, 80), 25.0, np.float32), title="Long busbar run"
+    )
+    for i in range(28):
+        mark_add(
+            thermogram=thermogram,
+            kind="point",
+            points=[[2 + 2 * i, 5 + i]],
+            user=None,
+            note=f"joint {i}",
+        )
+    rendered = render(electrical_survey)
+    pages = pdf_text(rendered.pdf).split("\f")[: rendered.page_count]
+    starts = [i for i, page in enumerate(pages) if re.search(r"^1\. Long busbar run", page, re.M)]
+    assert len(starts) == 1
+    following = pages[starts[0] + 1]
+    assert "Thermogram 1. Long busbar run, continued" in following.splitlines()[0]
+    assert "joint 27" in "".join(pages[starts[0] + 1 :])
+    later = [page for page in pages[starts[0] + 2 :] if page.strip()]
+    assert all("continued" not in page.splitlines()[0] for page in later)
+
+
+def test_it_draws_the_summary_thumbnail_without_the_scale_bar(electrical_survey, reviewer):
+    """The 34 mm thumbnail shows the thermogram only: its right edge is picture, not the
+    white strip of an illegible scale."""
+    import io
+
+    from pypdf import PdfReader
+
+    judged_survey(electrical_survey, reviewer)
+    reader = PdfReader(io.BytesIO(render(electrical_survey).pdf))
+    thumbs = [
+        image.image
+        for page in reader.pages
+        for image in page.images
+        if image.image.width == 228  # 34 mm at 170 dpi
+    ]
+    assert thumbs
+    right = np.asarray(thumbs[0].convert("L"))[:, -12:]
+    assert right.mean() < 200, "the right edge is the thermogram, not a white scale strip"
