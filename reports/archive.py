@@ -44,6 +44,7 @@ from survey.models import (
     Instrument,
     Mark,
     Member,
+    MoistureCheck,
     Organization,
     Site,
     Survey,
@@ -91,6 +92,7 @@ SKIPPED = {
     "error",
     "processed_at",
     "heartbeat_at",
+    "roof_plan",
 }
 # Thermogram values computed from the original: rebuilt by processing, checked after.
 DERIVED = {"width", "height", "min_c", "max_c"}
@@ -182,6 +184,7 @@ def survey_export(*, survey: Survey, user: AbstractBaseUser | None) -> bytes:
         entry["asset"] = finding.asset_id
         entry["marks"] = sorted(mark.label for mark in finding.marks.all())
         entry["reference_mark"] = finding.reference_mark.label if finding.reference_mark else None
+        entry["moisture_checks"] = [_values(c) for c in finding.moisture_checks.order_by("id")]
         table = finding.criteria_table
         entry["criteria_table"] = (
             {"key": table.key, "name": table.name, "source": table.source, "rows": table.rows}
@@ -207,6 +210,16 @@ def survey_export(*, survey: Survey, user: AbstractBaseUser | None) -> bytes:
                 | {"pdf_file": name, "issued_by": _user_name(version.issued_by)}
             )
         reports.append({"number": report.number, "versions": versions})
+    survey_entry = _values(survey)
+    if survey.roof_plan:
+        plan = _read(survey.roof_plan)
+        if survey.roof_plan_sha256 and _sha256(plan) != survey.roof_plan_sha256:
+            raise ValidationError(
+                "The stored roof plan no longer matches its sha256; upload it again before "
+                "exporting."
+            )
+        survey_entry["roof_plan_file"] = _archive_name("plans", 1, survey.roof_plan.name)
+        files[survey_entry["roof_plan_file"]] = plan
     conditions = getattr(survey, "conditions", None)
     manifest = {
         "format": FORMAT,
@@ -215,7 +228,7 @@ def survey_export(*, survey: Survey, user: AbstractBaseUser | None) -> bytes:
         "exported_from": survey.organization.name,
         "client": _values(survey.site.client),
         "site": _values(survey.site),
-        "survey": _values(survey)
+        "survey": survey_entry
         | {
             "thermographer": _member_ref(survey.thermographer),
             "reviewer": _member_ref(survey.reviewer),
@@ -447,6 +460,7 @@ class _Importer:
         thermographer = _member_of(self.organization, survey_entry.pop("thermographer", None))
         reviewer = _member_of(self.organization, survey_entry.pop("reviewer", None))
         camera = self.camera(survey_entry.pop("camera", None))
+        plan_file = survey_entry.pop("roof_plan_file", None)
         survey = Survey(
             organization=self.organization,
             site=site,
@@ -456,6 +470,10 @@ class _Importer:
             created_by=self.user,
             **_restore(Survey, survey_entry),
         )
+        if plan_file:
+            if self.digest(plan_file) != survey.roof_plan_sha256:
+                raise ValidationError("The roof plan in the archive is damaged.")
+            self.store(survey.roof_plan, survey.roof_plan_name or plan_file, plan_file)
         survey.full_clean()
         survey.save()
         conditions = Conditions(survey=survey, **_restore(Conditions, m.get("conditions") or {}))
@@ -546,6 +564,7 @@ class _Importer:
         reference = entry.pop("reference_mark", None)
         asset = self.assets.get(entry.pop("asset"))
         table = _criteria_table(self.organization, entry.pop("criteria_table", None))
+        checks = entry.pop("moisture_checks", [])
         finding = Finding(
             organization=self.organization,
             survey=survey,
@@ -559,6 +578,12 @@ class _Importer:
         finding.full_clean()
         finding.save()
         finding.marks.set([self.marks[(thermogram_key, label)] for label in labels])
+        for check_entry in checks:
+            check = MoistureCheck(
+                finding=finding, created_by=self.user, **_restore(MoistureCheck, check_entry)
+            )
+            check.full_clean()
+            check.save()
         self.findings[key] = finding
 
     def heat_loss(self, survey: Survey, entry: dict) -> None:

@@ -18,6 +18,11 @@ class IssueConfirmForm(IssueForm):
         label="Yes, issue this version: its PDF is made once and never changed",
         error_messages={"required": "Tick the box to confirm."},
     )
+    accept_criteria = forms.BooleanField(
+        required=False,
+        label="I accept the criteria tables not yet reviewed by our firm for this report; "
+        "the report will name me as having accepted them",
+    )
 
 
 class RevokeForm(forms.Form):

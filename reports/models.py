@@ -54,6 +54,9 @@ class ReportVersion(models.Model):
     # False when the survey's own thermographer issued it (an organization setting allows
     # that for one-person firms); the report then says it was not independently reviewed.
     independently_reviewed = models.BooleanField(default=True)
+    # When the issuer confirmed that findings judged on criteria tables the firm had not
+    # reviewed may be issued (the report then says who accepted them and when).
+    unreviewed_criteria_accepted_at = models.DateTimeField(null=True, blank=True)
     requested_by = models.ForeignKey(
         settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
     )

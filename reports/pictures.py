@@ -21,11 +21,11 @@ from PIL import Image, ImageDraw, ImageOps
 
 from reports.fetcher import BASE_URL
 from survey.charts import trend_svg
-from survey.models import SpanRule, Thermogram
+from survey.models import Thermogram
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.assets import asset_history, trend_in_unit, trend_points
 from survey.thermal import auto_span, thermogram_to_photo, units, widen_span
-from survey.thermal.drawing import draw_marks, font, render_picture
+from survey.thermal.drawing import draw_marks, font, render_picture, scale_bar_width_px
 
 logger = logging.getLogger(__name__)
 
@@ -66,39 +66,57 @@ class Pictures:
         return f"{BASE_URL}generated/{name}"
 
 
-def thermogram_picture(thermogram: Thermogram, width_px: int, unit: str = "C") -> Image.Image:
+def thermogram_picture(
+    thermogram: Thermogram, width_px: int, unit: str = "C", extremes_c=()
+) -> tuple[Image.Image, tuple[float, float]]:
     """The thermogram in its palette with labelled marks and a scale bar in `unit`,
-    `width_px` wide, in the span the app shows (its span rule when none is fixed)."""
+    `width_px` wide, and the span (°C) its colours were drawn in.
+
+    The span is the one the app shows (the fixed span, else the automatic one), widened so
+    that it holds every mark's apparent extremes and the values in `extremes_c` (the marks'
+    corrected extremes): no value printed beside the picture lies off its scale (issue 14).
+    """
     temperatures = thermogram_temperatures(thermogram)
+    marks = list(thermogram.marks.all())
     low, high = thermogram.span_low_c, thermogram.span_high_c
     if low is None or high is None or high <= low:
-        marks = list(thermogram.marks.all())
-        low, high = thermal_span(thermogram, temperatures, marks)
-    return render_picture(
+        low, high = auto_span(temperatures)
+    low, high = printed_span(low, high, marks, extremes_c)
+    picture = render_picture(
         temperatures,
         thermogram.palette,
         low,
         high,
-        marks=list(thermogram.marks.all()),
+        marks=marks,
         unit=unit,
         width_px=width_px,
         max_height_px=mm_to_px(THERMOGRAM_MAX_HEIGHT_MM),
     )
+    return picture, (low, high)
 
 
-def thermal_span(thermogram: Thermogram, temperatures, marks) -> tuple[float, float]:
-    """The automatic span by the thermogram's rule, from prefetched marks (no query: this
-    runs in a drawing thread)."""
-    low, high = auto_span(temperatures)
-    if thermogram.span_rule == SpanRule.MARKS:
-        extremes = [
-            value
-            for mark in marks
-            for value in ((mark.stats or {}).get("min_c"), (mark.stats or {}).get("max_c"))
-            if value is not None
-        ]
-        low, high = widen_span(low, high, extremes)
+def printed_span(low_c: float, high_c: float, marks, extremes_c=()) -> tuple[float, float]:
+    """The span (low_c, high_c) widened to every mark's apparent extremes (cached in its
+    statistics, prefetched: no query, this runs in a drawing thread) and to `extremes_c`."""
+    values = [
+        value
+        for mark in marks
+        for value in ((mark.stats or {}).get("min_c"), (mark.stats or {}).get("max_c"))
+        if value is not None
+    ]
+    values += [value for value in extremes_c if value is not None]
+    low, high = widen_span(low_c, high_c, values)
     return float(low), float(high)
+
+
+def reading_extremes(readings: list[dict]) -> list[float]:
+    """The apparent and corrected minimum and maximum of each reading of a thermogram."""
+    values = []
+    for reading in readings:
+        for key in ("apparent", "corrected"):
+            part = reading.get(key) or {}
+            values += [part.get("min"), part.get("max"), part.get("mean")]
+    return [float(v) for v in values if isinstance(v, int | float)]
 
 
 class PictureError(Exception):
@@ -106,7 +124,12 @@ class PictureError(Exception):
 
 
 def draw_thermogram(
-    thermogram: Thermogram, pictures: Pictures, *, thumbnail: bool, unit: str = "C"
+    thermogram: Thermogram,
+    pictures: Pictures,
+    *,
+    thumbnail: bool,
+    unit: str = "C",
+    extremes_c=(),
 ) -> dict:
     """One thermogram's picture, photo and summary thumbnail, encoded, as report URLs.
 
@@ -117,10 +140,12 @@ def draw_thermogram(
     `pictures.files`.
     """
     key, problems = thermogram.pk, []
-    drawn = {"picture": None, "photo": None, "thumb": None, "problems": problems}
+    drawn = {"picture": None, "photo": None, "thumb": None, "span": None, "problems": problems}
     name = f"{thermogram.sequence}. {thermogram}"
     try:
-        picture = thermogram_picture(thermogram, mm_to_px(THERMOGRAM_WIDTH_MM), unit)
+        picture, drawn["span"] = thermogram_picture(
+            thermogram, mm_to_px(THERMOGRAM_WIDTH_MM), unit, extremes_c
+        )
     except ThermogramNotReady as error:
         problems.append(f"{name}: left out ({error})")
         picture = None
@@ -131,7 +156,11 @@ def draw_thermogram(
     if picture is not None:
         drawn["picture"] = pictures.add(f"thermogram-{key}", picture)
         if thumbnail:
-            thumb = thumbnail_of(picture, mm_to_px(THUMBNAIL_WIDTH_MM))
+            # Without the scale bar: its text would print at a third of its size, illegible.
+            thermal_part = picture.crop(
+                (0, 0, picture.width - scale_bar_width_px(picture.width), picture.height)
+            )
+            thumb = thumbnail_of(thermal_part, mm_to_px(THUMBNAIL_WIDTH_MM))
             drawn["thumb"] = pictures.add(f"thumb-{key}", thumb)
     try:
         photo = photo_picture(thermogram, mm_to_px(PHOTO_WIDTH_MM))

@@ -74,8 +74,30 @@ def content_digest(results: dict) -> str:
     return hashlib.sha256(canonical.encode()).hexdigest()
 
 
+# How sure the product is of a criterion is the firm's working note, not client data.
+_INTERNAL_CHECK_KEYS = frozenset({"source", "confidence", "confidence_text"})
+
+
+def results_file_name(survey_id: int) -> str:
+    return f"survey-{survey_id}-results.json"
+
+
+def results_file(results: dict) -> bytes:
+    """The survey's results export as the file a user downloads, byte for byte: the same
+    data always gives the same bytes, so `sha256sum` of the file checks it. It carries the
+    digest of its own data in `content_sha256`, as reports before issue 14 printed it."""
+    from django.core.serializers.json import DjangoJSONEncoder
+
+    data = {**results, "content_sha256": content_digest(results)}
+    text = json.dumps(data, ensure_ascii=False, indent=1, cls=DjangoJSONEncoder)
+    return (text + "\n").encode("utf-8")
+
+
 def conditions_check_rows(survey: Survey) -> list[dict]:
-    return json_safe(conditions_check(survey))
+    rows = conditions_check(survey)
+    return json_safe(
+        [{k: v for k, v in row.items() if k not in _INTERNAL_CHECK_KEYS} for row in rows]
+    )
 
 
 def _finding_dict(finding: Finding) -> dict:

@@ -20,6 +20,7 @@ from django.utils import timezone
 from reports.models import DownloadLog, Report, ReportVersion, ShareLink
 from survey.models import Member, Survey
 from survey.services.audit import audit_record
+from survey.services.criteria_tables import unreviewed_criteria_tables
 from survey.severity import category_label
 
 logger = logging.getLogger(__name__)
@@ -242,14 +243,39 @@ def report_issue_check(*, report: Report, user: AbstractBaseUser, change_note: s
     return independent
 
 
-def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "") -> ReportVersion:
+UNREVIEWED_CRITERIA_MESSAGE = (
+    "The findings are judged on criteria tables your firm has not reviewed ({names}). Tick "
+    "the box to accept them for this report, or review them first on the severity tables page."
+)
+
+
+def unreviewed_criteria_message(report: Report) -> str:
+    """Why issuing needs the extra confirmation, or "" when every table is reviewed."""
+    tables = unreviewed_criteria_tables(report.survey)
+    if not tables:
+        return ""
+    return UNREVIEWED_CRITERIA_MESSAGE.format(names=", ".join(t.name for t in tables))
+
+
+def report_issue(
+    *,
+    report: Report,
+    user: AbstractBaseUser,
+    change_note: str = "",
+    accept_unreviewed_criteria: bool = False,
+) -> ReportVersion:
     """Queue the final PDF of the next version; a reviewer's act, rendered exactly once.
 
-    Refused to the survey's own thermographer unless the organization allows self-review.
+    Refused to the survey's own thermographer unless the organization allows self-review,
+    and, when a finding is judged on a criteria table the firm has not reviewed, unless the
+    reviewer accepts those tables for this report (`accept_unreviewed_criteria`).
     """
     member = _require_reviewer(user, report.organization)
     independent = self_review_check(report, member)
     change_note = change_note.strip()
+    unreviewed = unreviewed_criteria_message(report)
+    if unreviewed and not accept_unreviewed_criteria:
+        raise ValidationError(unreviewed)
     with transaction.atomic():
         Report.objects.select_for_update().filter(pk=report.pk).first()
         finals = report.versions.filter(is_draft=False)
@@ -272,6 +298,7 @@ def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "
         version.change_note = change_note
         version.requested_by = version.issued_by = user
         version.independently_reviewed = independent
+        version.unreviewed_criteria_accepted_at = timezone.now() if unreviewed else None
         for name, value in _units_of(member).items():
             setattr(version, name, value)
         version.full_clean()
@@ -285,6 +312,7 @@ def report_issue(*, report: Report, user: AbstractBaseUser, change_note: str = "
                 "number": report.number,
                 "version": version.version,
                 "independently_reviewed": independent,
+                "unreviewed_criteria_accepted": bool(unreviewed),
             },
         )
         _enqueue_render(version)

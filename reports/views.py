@@ -31,7 +31,7 @@ from reports.forms import (
 )
 from reports.models import ReportVersion
 from reports.rendering import version_is_stalled
-from reports.results import content_digest, survey_results
+from reports.results import results_file, results_file_name, survey_results
 from survey.access import get_member, get_survey_for_user
 from survey.files import serve_file
 from survey.forms.fields import add_service_error
@@ -140,10 +140,17 @@ def report_issue(request: HttpRequest, report_id: int) -> HttpResponse:
         independent, problem = None, error
     else:
         problem = None
+    unreviewed = services.unreviewed_criteria_message(report)
+    if data is not None and form.is_valid() and unreviewed:
+        if not form.cleaned_data["accept_criteria"]:
+            form.add_error("accept_criteria", unreviewed)
     if data is not None and form.is_valid():
         try:
             version = services.report_issue(
-                report=report, user=request.user, change_note=form.cleaned_data["change_note"]
+                report=report,
+                user=request.user,
+                change_note=form.cleaned_data["change_note"],
+                accept_unreviewed_criteria=form.cleaned_data["accept_criteria"],
             )
         except ValidationError as error:
             _fail(request, error)
@@ -158,6 +165,7 @@ def report_issue(request: HttpRequest, report_id: int) -> HttpResponse:
         "form": form,
         "independent": independent,
         "problem": problem,
+        "unreviewed_criteria": unreviewed,
         "issued_before": report.versions.filter(status=ReportVersion.Status.ISSUED).exists(),
         "findings": report.survey.findings.count(),
         "thermograms": report.survey.thermograms.count(),
@@ -375,10 +383,11 @@ def findings_csv(request: HttpRequest, survey_id: int) -> HttpResponse:
 @require_GET
 def results_json(request: HttpRequest, survey_id: int) -> HttpResponse:
     survey = get_survey_for_user(request, survey_id)
-    results = survey_results(survey)
-    # The digest of everything else, as printed in reports made from the same data.
-    results["content_sha256"] = content_digest(results)
-    response = JsonResponse(results, json_dumps_params={"ensure_ascii": False, "indent": 1})
-    name = f"survey-{survey.pk}-results.json"
+    # The same bytes as the file attached to a report made from the same data, whose
+    # SHA-256 the report prints.
+    response = HttpResponse(
+        results_file(survey_results(survey)), content_type="application/json; charset=utf-8"
+    )
+    name = results_file_name(survey.pk)
     response["Content-Disposition"] = content_disposition_header(True, name)
     return response

@@ -5,7 +5,7 @@ Every view fetches rows through these helpers, so a row of another organization 
 """
 
 from django.core.exceptions import PermissionDenied
-from django.db.models import QuerySet
+from django.db.models import Q, QuerySet
 from django.http import Http404, HttpRequest
 from django.shortcuts import get_object_or_404
 
@@ -146,6 +146,15 @@ def criteria_tables_for(member: Member) -> QuerySet[CriteriaTable]:
 
 def get_criteria_table_for_user(request: HttpRequest, pk: int) -> CriteriaTable:
     return get_object_or_404(criteria_tables_for(get_member(request)), pk=pk)
+
+
+def get_reviewable_criteria_table_for_user(request: HttpRequest, pk: int) -> CriteriaTable:
+    """The organization's own table or a product default (reviewing one makes the copy)."""
+    member = get_member(request)
+    tables = CriteriaTable.objects.filter(
+        Q(organization=member.organization) | Q(organization__isnull=True)
+    )
+    return get_object_or_404(tables, pk=pk)
 
 
 def audit_events_for(member: Member) -> QuerySet[AuditEvent]:

@@ -11,6 +11,7 @@ your own practice).
 from __future__ import annotations
 
 import datetime
+import re
 from dataclasses import dataclass
 
 from survey.models import Conditions
@@ -22,6 +23,11 @@ CONFIDENCE_LABELS = {
     "practice": "common practice, no single source",
     "ours": "product default, no outside source",
 }
+
+
+_STANDARD_NAME = re.compile(
+    r"\b(?:ANSI/NETA MTS|NETA MTS|NFPA 70[BE]?|ASTM [A-Z]\d+|EN \d+|ISO \d+(?:-\d+)?)"
+)
 
 
 @dataclass(frozen=True)
@@ -39,6 +45,16 @@ class Criterion:
     confidence: str
     limit: float | str | tuple | None = None
     unit: str = ""
+
+    @property
+    def standard(self) -> str:
+        """The published standards named in `source`, by name only, as a client sees them
+        (the notes about how sure we are stay in the app's data and docs/references.md)."""
+        names = []
+        for name in _STANDARD_NAME.findall(self.source):
+            if name not in names:
+                names.append(name)
+        return " / ".join(names) if names else "common practice"
 
     def evaluate(self, value) -> str:
         if value is None or value == "":
@@ -311,6 +327,8 @@ def _in_units(value: float, unit: str, temperature_unit: str, speed_unit: str) -
     if unit == "m/s":
         converted = units.speed_from_m_s(value, speed_unit)
         return f"{converted:.1f} {units.speed_symbol(speed_unit)}"
+    if unit.startswith("%"):  # a share is read to the whole percent: "62 %", as elsewhere
+        return f"{value:.0f} %"
     return f"{value:.1f} {unit}".strip()
 
 
@@ -341,6 +359,7 @@ def _row(criterion: Criterion, status: str, value, value_text: str) -> dict:
         "value_text": value_text,
         "requirement": criterion.requirement,
         "source": criterion.source,
+        "standard": criterion.standard,
         "confidence": criterion.confidence,
         "confidence_text": CONFIDENCE_LABELS[criterion.confidence],
         "from_logger": True,
@@ -466,6 +485,7 @@ def conditions_check(survey, unit: str = "C", speed_unit: str = "m_s", **_units)
                 "value_text": _value_text(criterion, value, conditions, unit, speed_unit),
                 "requirement": requirement_text(criterion, unit, speed_unit),
                 "source": criterion.source,
+                "standard": criterion.standard,
                 "confidence": criterion.confidence,
                 "confidence_text": CONFIDENCE_LABELS[criterion.confidence],
             }

@@ -286,7 +286,7 @@ class Asset(models.Model):
 class SpanRule(models.TextChoices):
     """How a thermogram's colour span is chosen when no fixed span is set."""
 
-    AUTO = "auto", "Automatic (1st to 99th percentile)"
+    AUTO = "auto", "Automatic (1st to 99th percentile, widened to every mark's extremes)"
     MARKS = "marks", "Automatic, widened to every mark's extremes"
 
 
@@ -853,7 +853,15 @@ class CriteriaTable(models.Model):
     )
     key = models.CharField(max_length=60, help_text="e.g. electrical-similar, electrical-ambient.")
     name = models.CharField(max_length=200)
+    # Internal notes of whoever set the table up; never printed for a client (see basis).
     source = models.TextField(blank=True)
+    # The firm's provenance, printed in reports: the standard and clause the bands rest on,
+    # and who of the firm reviewed the table and when (cleared when the rows change).
+    basis = models.CharField(max_length=300, blank=True)
+    reviewed_by = models.ForeignKey(
+        "Member", on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
+    )
+    reviewed_at = models.DateTimeField(null=True, blank=True)
     rows = models.JSONField(default=list)
     copied_from = models.ForeignKey(
         "self", on_delete=models.SET_NULL, null=True, blank=True, related_name="+"
@@ -870,6 +878,11 @@ class CriteriaTable(models.Model):
 
     def __str__(self) -> str:
         return self.name
+
+    @property
+    def is_reviewed(self) -> bool:
+        """Reviewed by a member of the firm that owns it (a product default never is)."""
+        return self.organization_id is not None and self.reviewed_at is not None
 
 
 class Finding(models.Model):

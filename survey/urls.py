@@ -117,6 +117,7 @@ judgement_patterns = [
     path("criteria/", findings.criteria_tables, name="criteria_tables"),
     path("criteria/copy/", findings.criteria_copy, name="criteria_copy"),
     path("criteria/<int:pk>/edit/", findings.criteria_edit, name="criteria_edit"),
+    path("criteria/<int:pk>/review/", findings.criteria_review, name="criteria_review"),
 ]
 
 # --- beyond the desk: logged conditions, mark templates, proposal settings (issue 18) ---

@@ -415,7 +415,13 @@ class CriteriaRowsForm(forms.Form):
         widget=forms.Textarea(attrs={"rows": 14, "cols": 80}),
         help_text="A JSON list of rows, as explained above.",
     )
-    source = forms.CharField(widget=forms.Textarea(attrs={"rows": 2}), required=False)
+    source = forms.CharField(
+        widget=forms.Textarea(attrs={"rows": 2}),
+        required=False,
+        label="Internal notes",
+        help_text="For your firm only: never printed in a report. The basis printed is set "
+        "when the table is reviewed.",
+    )
 
     def clean_rows(self):
         try:
@@ -427,3 +433,16 @@ class CriteriaRowsForm(forms.Form):
         if holds_nul(rows):
             raise ValidationError("The rows hold a NUL character (\\u0000); remove it.")
         return rows
+
+
+class CriteriaReviewForm(forms.Form):
+    basis = forms.CharField(
+        max_length=300,
+        label="Basis",
+        help_text="The standard and clause the bands rest on, as the report prints it.",
+        error_messages={"required": "Name the standard and clause the bands rest on."},
+    )
+    confirm = forms.BooleanField(
+        label="I have reviewed the bands, levels and actions of this table for our firm",
+        error_messages={"required": "Tick the box to record your review."},
+    )

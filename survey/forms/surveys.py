@@ -263,8 +263,8 @@ class SurveyForm(UnitFormMixin, forms.Form):
         names = (
             "site kind title date start_time end_time crew thermographer reviewer camera "
             "instrument ifov_mrad camera_accuracy_c camera_accuracy_pct scope_examined "
-            "scope_not_examined deviations notes building_description roof_membrane roof_insulation "
-            "time_zone default_emissivity default_reflected_c"
+            "scope_not_examined deviations notes building_description roof_membrane "
+            "roof_insulation time_zone default_emissivity default_reflected_c"
         ).split()
         return {name: self.cleaned_data[name] for name in names}
 
@@ -287,8 +287,8 @@ class SurveyForm(UnitFormMixin, forms.Form):
             name: getattr(survey, name)
             for name in (
                 "kind title date start_time end_time crew instrument ifov_mrad "
-                "camera_accuracy_c camera_accuracy_pct scope_examined scope_not_examined deviations notes "
-                "building_description roof_membrane roof_insulation time_zone "
+                "camera_accuracy_c camera_accuracy_pct scope_examined scope_not_examined "
+                "deviations notes building_description roof_membrane roof_insulation time_zone "
                 "default_emissivity default_reflected_c"
             ).split()
         }

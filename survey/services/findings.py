@@ -27,7 +27,7 @@ from survey.models import (
 )
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.audit import audit_record
-from survey.services.criteria_tables import criteria_table_for
+from survey.services.criteria_tables import criteria_table_for, table_basis
 from survey.services.instruments import survey_ifov
 from survey.services.loggers import thermogram_air
 from survey.services.readings import mark_readings, thermogram_corrected_range
@@ -130,7 +130,7 @@ def finding_suggest(
             "table_id": table.pk,
             "table_key": table.key,
             "table_name": table.name,
-            "table_source": table.source,
+            "table_source": f"Basis: {table_basis(table)}." if table_basis(table) else "",
             "inputs": inputs,
         }
     )

@@ -15,7 +15,7 @@ from django.db import transaction
 from django.db.models import Q
 
 from survey.hooks import marks_changed
-from survey.models import Mark, SpanRule, Thermogram, mark_label
+from survey.models import Mark, Thermogram, mark_label
 from survey.services.arrays import ThermogramNotReady, thermogram_temperatures
 from survey.services.audit import audit_record
 from survey.services.locks import thermogram_check_unlocked
@@ -138,8 +138,8 @@ def _lock(thermogram: Thermogram) -> Thermogram:
 
 
 def _marks_changed(thermogram: Thermogram) -> None:
-    """A span widened to the marks' extremes follows them: redraw the previews."""
-    if thermogram.span_rule == SpanRule.MARKS and thermogram.span_low_c is None:
+    """The automatic span covers the marks' extremes and follows them: redraw the previews."""
+    if thermogram.span_low_c is None:
         marks_changed(thermogram.pk)
 
 

@@ -19,7 +19,7 @@ from django.utils import timezone
 from PIL import Image
 
 from survey import thermal
-from survey.models import Mark, SpanRule, Thermogram
+from survey.models import Mark, Thermogram
 from survey.services import heartbeat
 from survey.services.arrays import thermogram_temperatures
 from survey.services.audit import audit_record
@@ -126,14 +126,12 @@ def _remove_partial_files(thermogram: Thermogram) -> None:
 
 
 def automatic_span(thermogram: Thermogram, temperatures: np.ndarray) -> tuple[float, float]:
-    """The span used when none is fixed, by the thermogram's span rule.
-
-    ``auto``: the 1st to 99th percentile (thermal.auto_span). ``marks``: that span widened
-    to the apparent minimum and maximum of every mark (cached on the marks), so no marked
-    hot or cold spot is clipped to the end colour.
-    """
+    """The span used when none is fixed: the 1st to 99th percentile (thermal.auto_span)
+    widened to the apparent minimum and maximum of every mark (cached on the marks), so no
+    marked hot or cold spot is clipped to the end colour, whatever the span rule (issue 14:
+    the survey page's thumbnails follow the printed report's rule)."""
     low, high = thermal.auto_span(temperatures)
-    if thermogram.span_rule == SpanRule.MARKS and thermogram.pk:
+    if thermogram.pk:
         extremes = []
         for stats in Mark.objects.filter(thermogram=thermogram).values_list("stats", flat=True):
             extremes += [(stats or {}).get("min_c"), (stats or {}).get("max_c")]

@@ -21,6 +21,11 @@ from survey.thermal.psychrometrics import surface_rh
 
 MARK_COLOUR = (0, 255, 0)
 MARK_OUTLINE_COLOUR = (0, 64, 0)
+MARK_HALO_COLOUR = (255, 255, 255)
+"""A mark is drawn as a dark outline, a white halo inside it and the bright core: the dark
+and light rings contrast in lightness, not hue, so the mark stays visible to red-green
+colour-blind readers on every palette (a green core alone can sink into a red-yellow ramp
+for them)."""
 ISOTHERM_COLOUR = (0, 230, 255)
 MOULD_RISK_COLOUR = (255, 160, 255)
 CONDENSATION_COLOUR = (255, 0, 255)
@@ -185,26 +190,48 @@ def draw_marks(image, marks: Iterable, scale_x: float, scale_y: float) -> None:
     draw = ImageDraw.Draw(image)
     width = max(2, round(min(image.size) / 200))
     label_font = font(max(11, round(min(image.size) / 22)), bold=True)
+    # The widest ring's half width: every drawn coordinate stays this far inside the
+    # picture, so a mark at the image edge is drawn whole instead of clipped.
+    inset = (width + 4) / 2
+    right, bottom = image.size[0] - 1 - inset, image.size[1] - 1 - inset
+
+    def inside(x, y):
+        return (min(max(x, inset), right), min(max(y, inset), bottom))
 
     def place(x, y):
         return ((float(x) + 0.5) * scale_x, (float(y) + 0.5) * scale_y)
+
+    def centred(box, stroke):
+        # Pillow draws a box's outline inwards from the box: grown by half the stroke, each
+        # ring lies centred on the mark's edge like the lines', dark and light on both sides.
+        grow = stroke / 2
+        return [box[0] - grow, box[1] - grow, box[2] + grow, box[3] + grow]
 
     for mark in marks:
         kind = _mark_field(mark, "kind")
         points = [place(x, y) for x, y in _mark_field(mark, "points", [])]
         if not points:
             continue
-        for colour, stroke in ((MARK_OUTLINE_COLOUR, width + 2), (MARK_COLOUR, width)):
+        rings = (
+            (MARK_OUTLINE_COLOUR, width + 4),
+            (MARK_HALO_COLOUR, width + 2),
+            (MARK_COLOUR, width),
+        )
+        for colour, stroke in rings:
             if kind == "point":
                 (x, y) = points[0]
                 half = (0.5 if _mark_field(mark, "single_pixel", False) else 1.5) * scale_x
                 arm = max(half + 3 * width, 4 * width)
-                draw.line([(x - arm, y), (x - half, y)], fill=colour, width=stroke)
-                draw.line([(x + half, y), (x + arm, y)], fill=colour, width=stroke)
-                draw.line([(x, y - arm), (x, y - half)], fill=colour, width=stroke)
-                draw.line([(x, y + half), (x, y + arm)], fill=colour, width=stroke)
                 hy = (0.5 if _mark_field(mark, "single_pixel", False) else 1.5) * scale_y
-                draw.rectangle([x - half, y - hy, x + half, y + hy], outline=colour, width=stroke)
+                for end, start in (
+                    ((x - arm, y), (x - half, y)),
+                    ((x + half, y), (x + arm, y)),
+                    ((x, y - arm), (x, y - hy)),
+                    ((x, y + hy), (x, y + arm)),
+                ):
+                    draw.line([inside(*end), inside(*start)], fill=colour, width=stroke)
+                box = [*inside(x - half, y - hy), *inside(x + half, y + hy)]
+                draw.rectangle(centred(box, stroke), outline=colour, width=stroke)
             elif kind in ("rectangle", "ellipse") and len(points) >= 2:
                 (x0, y0), (x1, y1) = points[0], points[1]
                 box = [min(x0, x1), min(y0, y1), max(x0, x1), max(y0, y1)]
@@ -212,13 +239,16 @@ def draw_marks(image, marks: Iterable, scale_x: float, scale_y: float) -> None:
                     # The pixels whose centres are inside reach half a pixel further out.
                     box = [box[0] - scale_x / 2, box[1] - scale_y / 2]
                     box += [max(x0, x1) + scale_x / 2, max(y0, y1) + scale_y / 2]
+                box = centred([*inside(box[0], box[1]), *inside(box[2], box[3])], stroke)
+                if kind == "rectangle":
                     draw.rectangle(box, outline=colour, width=stroke)
                 else:
                     draw.ellipse(box, outline=colour, width=stroke)
             elif kind == "polygon":
-                draw.line(points + [points[0]], fill=colour, width=stroke, joint="curve")
+                ring = [inside(*p) for p in points + [points[0]]]
+                draw.line(ring, fill=colour, width=stroke, joint="curve")
             elif kind == "line":
-                draw.line(points, fill=colour, width=stroke, joint="curve")
+                draw.line([inside(*p) for p in points], fill=colour, width=stroke, joint="curve")
         label = _mark_field(mark, "label")
         if label:
             if kind == "line":
@@ -261,17 +291,31 @@ def _scale_bar(ramp, low_c, high_c, unit, height_px, width_px):
     low_d, high_d = units.from_celsius(low_c, unit), units.from_celsius(high_c, unit)
     ticks = nice_ticks(low_d, high_d, target=max(2, min(8, bar_height // (size * 2))))
     draw.text((bar_left, size * 0.4), f"°{unit}", font=font(size, bold=True), fill=(34, 34, 34))
+    tick_end = bar_right + max(3, size // 3)
+    # A clear gap after the tick: a label's leading minus sign must not read as the tick.
+    text_left = tick_end + max(4, size // 3)
     for value in ticks:
         y = bar_bottom - (value - low_d) / (high_d - low_d) * bar_height
-        draw.line([(bar_right, y), (bar_right + max(3, size // 3), y)], fill=(34, 34, 34), width=1)
+        draw.line([(bar_right, y), (tick_end, y)], fill=(34, 34, 34), width=1)
         draw.text(
-            (bar_right + max(5, size // 2), y),
+            (text_left, y),
             _format_tick(value, ticks),
             font=text_font,
             fill=(34, 34, 34),
             anchor="lm",
         )
     return strip
+
+
+def scale_bar_width_px(width_px: int) -> int:
+    """The width of the scale bar strip on the right of a `width_px` wide picture.
+
+    Examples
+    --------
+    >>> scale_bar_width_px(669)
+    94
+    """
+    return max(56, round(width_px * 0.14))
 
 
 def render_picture(
@@ -353,7 +397,7 @@ def render_picture(
     max_height_px = min(int(max_height_px), MAX_PICTURE_SIDE_PX)
     if scale_bar and max_height_px < MIN_SCALE_BAR_PX:
         raise ValueError(f"max_height_px must be at least {MIN_SCALE_BAR_PX} with a scale bar")
-    strip_px = max(56, round(width_px * 0.14)) if scale_bar else 0
+    strip_px = scale_bar_width_px(width_px) if scale_bar else 0
     picture_px = width_px - strip_px
     if picture_px < 16:
         raise ValueError(f"width_px {width_px} is too small for a picture with a scale bar")

@@ -20,11 +20,13 @@ from survey.access import (
     get_criteria_table_for_user,
     get_finding_for_user,
     get_member,
+    get_reviewable_criteria_table_for_user,
     get_site_for_user,
     get_survey_for_user,
     get_thermogram_for_user,
     require_admin,
     require_editor,
+    require_reviewer,
 )
 from survey.captions import mark_caption
 from survey.cautions import cautions_for, cautions_for_kinds
@@ -32,6 +34,7 @@ from survey.charts import trend_svg
 from survey.conditions import conditions_check
 from survey.forms.fields import add_service_error, member_units
 from survey.forms.findings import (
+    CriteriaReviewForm,
     CriteriaRowsForm,
     FindingEditForm,
     FindingForm,
@@ -357,7 +360,20 @@ def criteria_tables(request: HttpRequest) -> HttpResponse:
         table_services.criteria_table_for(organization=member.organization, basis=basis)
         for basis in severity.TABLE_KEY_FOR_BASIS
     ]
-    return render(request, "survey/findings/criteria_tables.html", {"tables": tables})
+    rows = [
+        {
+            "table": table,
+            "basis": table_services.table_basis(table),
+            "review_form": CriteriaReviewForm(
+                initial={"basis": table_services.table_basis(table)}, prefix=f"t{table.pk}"
+            )
+            if member.can_review
+            else None,
+        }
+        for table in tables
+    ]
+    context = {"rows": rows, "unreviewed_text": table_services.UNREVIEWED_TEXT}
+    return render(request, "survey/findings/criteria_tables.html", context)
 
 
 @login_required
@@ -367,6 +383,32 @@ def criteria_copy(request: HttpRequest) -> HttpResponse:
     require_admin(member)
     table_services.criteria_table_copy_defaults(organization=member.organization, user=request.user)
     messages.success(request, "Your organization now has its own copy of the tables to edit.")
+    return redirect("survey:criteria_tables")
+
+
+@login_required
+@require_POST
+def criteria_review(request: HttpRequest, pk: int) -> HttpResponse:
+    """A reviewer or admin records the firm's review of a table and the basis it prints."""
+    member = get_member(request)
+    require_reviewer(member)
+    table = get_reviewable_criteria_table_for_user(request, pk)
+    form = CriteriaReviewForm(request.POST, prefix=f"t{pk}")
+    if form.is_valid():
+        try:
+            table = table_services.criteria_table_review(
+                organization=member.organization,
+                table=table,
+                member=member,
+                basis=form.cleaned_data["basis"],
+            )
+        except ValidationError as error:
+            add_service_error(form, error)
+        else:
+            messages.success(request, f"Your review of {table.name} is recorded.")
+            return redirect("survey:criteria_tables")
+    for error in form.errors.values():
+        messages.error(request, " ".join(error))
     return redirect("survey:criteria_tables")
 
 

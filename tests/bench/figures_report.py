@@ -67,7 +67,7 @@ def write_floor_html(survey, folder: Path) -> Path:
     header = "".join(f"<th>{html.escape(name)}</th>" for name in READING_COLUMNS)
     sections = []
     for thermogram in survey.thermograms.all():
-        picture = thermogram_picture(thermogram, mm_to_px(THERMOGRAM_WIDTH_MM))
+        picture, _span = thermogram_picture(thermogram, mm_to_px(THERMOGRAM_WIDTH_MM))
         name = f"t{thermogram.pk}.jpg"
         picture.convert("RGB").save(folder / name, "JPEG", quality=JPEG_QUALITY, subsampling=0)
         rows = "".join(

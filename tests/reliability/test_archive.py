@@ -355,3 +355,41 @@ def test_it_carries_the_logged_conditions_over(
     logged = thermogram_logged_conditions(copy)["inside"]
     assert (logged["t_air_c"], logged["rh_pct"]) == (18.5, 61.0)
     assert _without_ids(survey_results(imported)) == _without_ids(survey_results(full_survey))
+
+
+def test_it_carries_the_roof_plan_places_and_moisture_checks_over(
+    org, site, thermographer, other_org, outsider, django_capture_on_commit_callbacks
+):
+    """The plan arrives byte for byte, the thermogram keeps its place on it and the finding
+    its core check; before, the plan's file field stopped the export altogether."""
+    from survey.services.roof import moisture_check_add, roof_plan_upload
+
+    survey = Survey.objects.create(
+        organization=org, site=site, kind=Survey.Kind.ROOF, date=datetime.date(2026, 2, 5)
+    )
+    plan = _png()
+    roof_plan_upload(survey=survey, uploaded_file=SimpleUploadedFile("plan.png", plan), user=None)
+    thermogram = make_thermogram(survey, synthetic_field())
+    thermogram.plan_x_pct, thermogram.plan_y_pct = 25.0, 75.0
+    thermogram.save()
+    finding = Finding.objects.create(
+        organization=org, survey=survey, thermogram=thermogram, category="wet_insulation"
+    )
+    moisture_check_add(
+        finding=finding,
+        user=None,
+        method="core",
+        checked_on=datetime.date(2026, 2, 6),
+        result="wet",
+        reading="core wet to the deck",
+    )
+    data = survey_export(survey=survey, user=None)
+    with django_capture_on_commit_callbacks(execute=True):
+        imported = survey_import(data=data, organization=other_org, user=outsider.user)
+    imported = Survey.objects.get(pk=imported.pk)
+    assert imported.roof_plan.read() == plan
+    assert imported.roof_plan_sha256 == hashlib.sha256(plan).hexdigest()
+    moved = imported.thermograms.get()
+    assert (moved.plan_x_pct, moved.plan_y_pct) == (25.0, 75.0)
+    check = imported.findings.get().moisture_checks.get()
+    assert (check.method, check.result, check.reading) == ("core", "wet", "core wet to the deck")

@@ -15,7 +15,10 @@ from django.core.exceptions import ValidationError
 from reports.archive import survey_export, survey_import
 from survey.models import Mark, Survey, Thermogram
 from survey.thermal.marks import MAX_PROFILE_SAMPLES
-from tests.reliability.test_archive import full_survey  # noqa: F401 - the fixture
+from tests.reliability.test_archive import (  # noqa: F401 - the fixtures
+    full_survey,
+    report_file,
+)
 
 MB = 1024 * 1024
 

@@ -44,7 +44,7 @@ def test_it_draws_a_very_wide_and_a_very_tall_thermogram_within_the_page(envelop
     mark_add(thermogram=tall, kind="point", points=[[1, 2000]], user=None)
     width, height = mm_to_px(THERMOGRAM_WIDTH_MM), mm_to_px(THERMOGRAM_MAX_HEIGHT_MM)
     for thermogram in (wide, tall):
-        picture = thermogram_picture(thermogram, width)
+        picture, _span = thermogram_picture(thermogram, width)
         assert picture.width == width and picture.height <= height
     version = _version(envelope_survey)
     assert report_render(version.pk)

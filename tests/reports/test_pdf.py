@@ -22,7 +22,7 @@ from tests.reports.conftest import (
 )
 from tests.reports.helpers import dew_point_c, flat, object_c, pdf_text, surface_rh_pct
 
-NUMBER = r"(-?\d+\.\d)"
+NUMBER = r"(−?\d+\.\d)"  # negative numbers print with a true minus sign (U+2212)
 
 
 def render(survey: Survey, *, draft: bool = True):
@@ -95,12 +95,13 @@ def test_it_prints_the_corrected_numbers_of_a_hand_built_survey(rendered):
     text = rendered.text
     row = re.search(
         rf"^\s*B point\s+0\.93 /\s+12\.0 ·\s+{NUMBER}\s+{NUMBER}\s+{NUMBER}"
-        rf"\s+{NUMBER}\s+(\d+) %\s+(\d\.\d\d) \((\d\.\d\d)\)\s*$",
+        rf"\s+{NUMBER}\s+(\d+)\s%\s+(\d\.\d\d) \((\d\.\d\d)\)\s*$",
         text,
         re.MULTILINE,
     )
     assert row, "row of mark B not found"
-    corrected, _uncertainty, delta_t, dew_printed, rh_printed, factor, needed = row.groups()
+    row_values = [value.replace("−", "-") for value in row.groups()]
+    corrected, _uncertainty, delta_t, dew_printed, rh_printed, factor, needed = row_values
     assert float(corrected) == pytest.approx(corrected_cold, abs=0.06)
     # Hottest to hottest: B's max minus A's max (A is uniform, so its max is its mean).
     assert float(delta_t) == pytest.approx(corrected_cold - corrected_sound, abs=0.06)

@@ -98,6 +98,20 @@ class World:
             date=datetime.date(2026, 2, 3),
         ).pk
 
+    def roof_survey(self) -> int:
+        """A roof survey of this organization with a plan uploaded."""
+        survey = Survey.objects.create(
+            organization=self.survey.organization,
+            site=self.survey.site,
+            kind=Survey.Kind.ROOF,
+            date=datetime.date(2026, 2, 4),
+            roof_plan_name="quillfeather-plan.png",
+            roof_plan_width=8,
+            roof_plan_height=6,
+        )
+        survey.roof_plan.save("quillfeather-plan.png", ContentFile(_png()), save=True)
+        return survey.pk
+
     def instrument(self) -> int:
         return Instrument.objects.create(
             organization=self.survey.organization,
@@ -301,6 +315,12 @@ MATRIX: dict[str, Entry] = {
     "survey:thermogram_preview": Entry("get", thermogram, everyone(200), media_type="image/png"),
     "survey:thermogram_thumbnail": Entry("get", thermogram, everyone(200), media_type="image/png"),
     "survey:thermogram_photo": Entry("get", thermogram, everyone(200), media_type="image/png"),
+    "survey:roof_plan": Entry("get", lambda w: {"pk": w.roof_survey()}, everyone(200)),
+    "survey:roof_plan_image": Entry(
+        "get", lambda w: {"pk": w.roof_survey()}, everyone(200), media_type="image/png"
+    ),
+    "survey:thermogram_plan_position": Entry("post", thermogram, editors(302)),
+    "survey:moisture_check_create": Entry("post", finding, editors(302)),
     "survey:thermogram_marks_picture": Entry(
         "get", thermogram, everyone(200), media_type="image/png"
     ),
@@ -339,6 +359,9 @@ MATRIX: dict[str, Entry] = {
     "survey:asset": Entry("get", lambda w: {"pk": w.asset.pk}, everyone(200)),
     "survey:asset_trend": Entry("get", lambda w: {"pk": w.asset.pk}, everyone(200)),
     "survey:criteria_edit": Entry("get", lambda w: {"pk": w.criteria_table_id}, admins(200)),
+    "survey:criteria_review": Entry(
+        "post", lambda w: {"pk": w.criteria_table_id}, reviewers(302), data={}
+    ),
     # reports
     "reports:survey": Entry("get", survey_id, everyone(200)),
     "reports:create": Entry("post", lambda w: {"survey_id": w.bare_survey()}, editors(302)),
@@ -635,6 +658,7 @@ def _viewer_writes(w: World) -> list[tuple[str, str, dict, dict | None, dict | N
         ("post", "survey:heat_loss_create", survey(w), {"label": "x"}, None),
         ("post", "survey:criteria_copy", {}, {}, None),
         ("post", "survey:criteria_edit", {"pk": w.criteria_table_id}, {"rows": "[]"}, None),
+        ("post", "survey:criteria_review", {"pk": w.criteria_table_id}, {}, None),
         ("post", "survey:member_edit", {"pk": w.survey.thermographer_id}, {"role": "admin"}, None),
         ("post", "reports:create", {"survey_id": w.bare_survey()}, {}, None),
         ("post", "reports:draft", report_id(w), {}, None),

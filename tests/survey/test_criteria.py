@@ -215,3 +215,48 @@ def _water_saturation(t_c: float) -> float:
     c8, c9, c10 = -5.8002206e03, 1.3914993, -4.8640239e-02
     c11, c12, c13 = 4.1764768e-05, -1.4452093e-08, 6.5459673
     return math.exp(c8 / t_k + c9 + c10 * t_k + c11 * t_k**2 + c12 * t_k**3 + c13 * math.log(t_k))
+
+
+# --- the firm's review of its criteria tables (issue 14) -----------------------------------
+
+
+def test_it_records_a_review_on_the_firms_copy_and_clears_it_when_the_rows_change(
+    org, reviewer, thermographer
+):
+    """Reviewing a default makes the firm's copy; a blank basis or a thermographer is refused;
+    new rows need a new review."""
+    from django.core.exceptions import ValidationError
+
+    from survey.services.criteria_tables import (
+        criteria_table_for,
+        criteria_table_review,
+        criteria_table_update,
+    )
+
+    default = criteria_table_for(organization=org, basis="envelope")
+    assert not default.is_reviewed
+    with pytest.raises(ValidationError, match="standard and clause"):
+        criteria_table_review(organization=org, table=default, member=reviewer, basis="  ")
+    with pytest.raises(ValidationError, match="reviewer or an admin"):
+        criteria_table_review(organization=org, table=default, member=thermographer, basis="x")
+    own = criteria_table_review(
+        organization=org, table=default, member=reviewer, basis="ISO 13788, clause 4"
+    )
+    assert own.organization == org and own.is_reviewed and own.reviewed_by == reviewer
+    assert criteria_table_for(organization=org, basis="envelope") == own
+    rows = [dict(row) for row in own.rows]
+    criteria_table_update(table=own, user=reviewer.user, rows=rows)
+    assert own.is_reviewed, "the same rows keep their review"
+    rows[0]["lower"] = 75.0
+    criteria_table_update(table=own, user=reviewer.user, rows=rows)
+    own.refresh_from_db()
+    assert not own.is_reviewed and own.reviewed_by is None
+
+
+def test_it_names_only_the_standard_of_each_condition_for_the_client():
+    """The client-facing name of a criterion's source holds no working note."""
+    for criteria in conditions.CONDITIONS_CRITERIA.values():
+        for criterion in criteria:
+            assert "memory" not in criterion.standard and "secondary" not in criterion.standard
+    wind = next(c for c in conditions.CONDITIONS_CRITERIA["envelope"] if c.key == "wind")
+    assert wind.standard == "EN 13187 / ISO 6781"

@@ -358,20 +358,22 @@ def test_purge_removes_only_what_was_deleted_long_enough_ago(envelope_survey, se
 # --- view defaults and the span including every mark ------------------------------------------
 
 
-def test_a_span_rule_including_marks_widens_the_preview_span(envelope_survey):
-    """The automatic span clips the hottest percent; the marks rule reaches the marked spot."""
+def test_the_automatic_span_covers_every_mark_whatever_the_rule(envelope_survey):
+    """The percentile span clips the hottest percent; with a mark on the hot pixel the
+    automatic span reaches it, under either span rule (issue 14)."""
     from survey.services.processing import automatic_span
 
     field = np.linspace(10.0, 30.0, 60 * 80, dtype=np.float32).reshape(60, 80)
     field[30, 40] = 60.0  # one hot pixel: above the 99th percentile cut
     thermogram = make_thermogram(envelope_survey, field)
-    mark_add(thermogram=thermogram, kind="point", points=[[40, 30]], user=None, single_pixel=True)
     # numpy's percentiles of the field are the independent reference of the plain span.
     p1, p99 = (float(v) for v in np.percentile(field, [1, 99]))
     assert automatic_span(thermogram, field) == pytest.approx((p1, p99), abs=1e-4)
     assert p99 < 31.0
-    thermogram.span_rule = SpanRule.MARKS
-    assert automatic_span(thermogram, field) == pytest.approx((p1, 60.0), abs=1e-4)
+    mark_add(thermogram=thermogram, kind="point", points=[[40, 30]], user=None, single_pixel=True)
+    for rule in (SpanRule.AUTO, SpanRule.MARKS):
+        thermogram.span_rule = rule
+        assert automatic_span(thermogram, field) == pytest.approx((p1, 60.0), abs=1e-4)
 
 
 def test_view_defaults_apply_to_all_but_an_issued_thermogram(envelope_survey):

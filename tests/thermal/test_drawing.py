@@ -198,3 +198,58 @@ def test_draw_plan_refuses_a_zero_width():
 
     with pytest.raises(ValueError, match="max_width_px"):
         draw_plan(Image.new("RGB", (10, 10)), [], [], max_width_px=0)
+
+
+def test_draw_marks_keeps_a_mark_at_the_image_edge_whole():
+    """A rectangle around the whole thermogram shows its core line on all four sides."""
+    from survey.thermal.drawing import draw_marks
+
+    image = Image.new("RGB", (200, 150), (128, 128, 128))
+    draw_marks(image, [{"kind": "rectangle", "points": [[0, 0], [39, 29]]}], 5.0, 5.0)
+    pixels = np.asarray(image).astype(int)
+    green = np.all(pixels == MARK_COLOUR, axis=2)
+    # Across each side at its middle, from the image edge inwards: the mark's outer dark
+    # ring is inside the picture, then its core.
+    for line in (pixels[75], pixels[75, ::-1], pixels[:, 100], pixels[::-1, 100]):
+        core = np.nonzero(np.all(line == MARK_COLOUR, axis=1))[0]
+        assert core.size and core.min() < 10
+        assert line[: core.min()].mean(axis=1).min() < 40, "the outer ring is drawn whole"
+    assert green[:, :8].sum() > 100 and green[:, -8:].sum() > 100
+
+
+@pytest.mark.parametrize("kind", ["rectangle", "ellipse", "line"])
+def test_draw_marks_rings_the_core_with_dark_and_light_on_both_sides(kind):
+    """Across a mark's edge: dark, light, core, light, dark. The lightness contrast (not the
+    hue) is what a red-green colour-blind reader sees (common practice, no source)."""
+    from survey.thermal.drawing import draw_marks
+
+    image = Image.new("RGB", (200, 200), (128, 128, 128))
+    points = [[10, 10], [30, 30]] if kind != "line" else [[20, 5], [20, 35]]
+    draw_marks(image, [{"kind": kind, "points": points}], 5.0, 5.0)
+    row = np.asarray(image)[102].astype(int)  # across the left edge (or the line) mid-height
+    lightness = row.mean(axis=1)
+    core = np.nonzero(np.all(row == MARK_COLOUR, axis=1))[0]
+    assert core.size
+    left, right = core.min(), core.max()
+    assert lightness[left - 3 : left].max() > 240 and lightness[right + 1 : right + 4].max() > 240
+    assert lightness[max(left - 6, 0) : left].min() < 40
+    assert lightness[right + 1 : right + 7].min() < 40
+
+
+def test_render_picture_keeps_a_gap_between_a_tick_and_its_minus_sign():
+    """Each scale tick ends, then blank paper at least as long as the tick, then the label's
+    "−": the minus never continues the tick line (common practice, no source)."""
+    t = np.linspace(-12.0, 8.0, 60 * 80, dtype=np.float32).reshape(60, 80)
+    image = render_picture(t, "grey white-warm", -12.0, 8.0, width_px=669)
+    strip = np.asarray(image)[:, 669 - 94 :].mean(axis=2)
+    dark = strip < 120
+    bar_right = np.nonzero(dark[image.size[1] // 2])[0].max()  # the bar's right frame
+    checked = 0
+    for row in np.nonzero(dark[:, bar_right + 2])[0]:
+        runs = dark[row, bar_right + 1 :]
+        tick = np.argmin(runs)  # the first blank pixel after the tick
+        gap = np.argmax(runs[tick:]) if runs[tick:].any() else 99
+        # At least as long as the tick: the "−" cannot read as the tick drawn on.
+        assert gap >= tick, f"row {row}: the label starts {gap} px after a {tick} px tick"
+        checked += 1
+    assert checked >= 3

@@ -9,6 +9,7 @@ import {
 import { alignClickThermogram } from "./photo.js";
 import { draw, fit, oneToOne, renderPicture, showReadout, zoomAt } from "./rendering.js";
 import { api } from "./server.js";
+import { spanCoveringMarks } from "./span.js";
 import {
   $, canvas, scaleBar, state, HANDLE_PX, TOOLS,
   clampPixel, fmtT, fmtTU, fromUnit, inside, status, toImage, toScreen
@@ -261,7 +262,8 @@ export function setSpan(low, high, auto) {
 
 $("ws-low").addEventListener("change", function () { setSpan(fromUnit(parseFloat(this.value)), state.high); });
 $("ws-high").addEventListener("change", function () { setSpan(state.low, fromUnit(parseFloat(this.value))); });
-$("ws-auto").addEventListener("click", function () { var s = state.meta.display.auto_span; setSpan(s[0], s[1], true); });
+// The server's automatic span covers the saved marks; marks drawn since are covered here.
+$("ws-auto").addEventListener("click", function () { var s = spanCoveringMarks(state.meta.display.auto_span, state.marks); setSpan(s[0], s[1], true); });
 $("ws-palette").addEventListener("change", function () { call("setPalette", this.value); renderPicture(); });
 
 // The palette and span on screen become the thermogram's own: its preview, the survey

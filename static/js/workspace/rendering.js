@@ -174,7 +174,10 @@ export function drawShape(kind, points, colour, singlePixel, open) {
   if (!points.length) { return; }
   var shownKind = open && kind === "polygon" ? "line" : kind;
   shapePath(shownKind, points, singlePixel);
-  ctx.lineWidth = 4; ctx.strokeStyle = OUTLINE_COLOUR; ctx.stroke();
+  // Dark outline, white halo, coloured core, as the printed report draws marks
+  // (survey/thermal/drawing.py): the lightness contrast holds for red-green colour-blind eyes.
+  ctx.lineWidth = 6; ctx.strokeStyle = OUTLINE_COLOUR; ctx.stroke();
+  ctx.lineWidth = 4; ctx.strokeStyle = "#ffffff"; ctx.stroke();
   ctx.lineWidth = 2; ctx.strokeStyle = colour; ctx.stroke();
 }
 

@@ -414,3 +414,41 @@ def test_it_shows_the_findings_marks_on_its_page(setup, thermographer_client):
     finding.save()
     page = thermographer_client.get(reverse("survey:finding", args=[finding.pk])).content.decode()
     assert f"marks.png?marks={hot.pk}" in page and "with mark B" in page
+
+
+def test_it_explains_a_review_without_a_basis_and_records_nothing(reviewer_client, org):
+    """A blank basis or an unticked box: a message on the severity tables page, no copy, no
+    review; a thermographer may not review; another firm's table is not found."""
+    from survey.services.criteria_tables import criteria_table_for
+
+    default = criteria_table_for(organization=org, basis="envelope")
+    url = reverse("survey:criteria_review", args=[default.pk])
+    prefix = f"t{default.pk}"
+    response = reviewer_client.post(
+        url, {f"{prefix}-basis": " ", f"{prefix}-confirm": "on"}, follow=True
+    )
+    assert "Name the standard and clause the bands rest on." in response.content.decode()
+    response = reviewer_client.post(url, {f"{prefix}-basis": "ISO 13788"}, follow=True)
+    assert "Tick the box to record your review." in response.content.decode()
+    assert not CriteriaTable.objects.filter(organization=org).exists()
+
+
+def test_it_refuses_a_review_by_a_thermographer(thermographer_client, org):
+    from survey.services.criteria_tables import criteria_table_for
+
+    default = criteria_table_for(organization=org, basis="envelope")
+    data = {f"t{default.pk}-basis": "ISO 13788", f"t{default.pk}-confirm": "on"}
+    url = reverse("survey:criteria_review", args=[default.pk])
+    assert thermographer_client.post(url, data).status_code == 403
+    assert not CriteriaTable.objects.filter(organization=org).exists()
+
+
+def test_it_answers_404_to_a_review_of_another_firms_table(reviewer_client, org, other_org):
+    from survey.services.criteria_tables import criteria_table_copy_defaults
+
+    theirs = criteria_table_copy_defaults(organization=other_org)[0]
+    data = {f"t{theirs.pk}-basis": "ISO 13788", f"t{theirs.pk}-confirm": "on"}
+    response = reviewer_client.post(reverse("survey:criteria_review", args=[theirs.pk]), data)
+    assert response.status_code == 404
+    theirs.refresh_from_db()
+    assert not theirs.is_reviewed
