@@ -83,7 +83,14 @@ def _optional_float(label, low, high, **kwargs):
     )
 
 
-class FindingForm(forms.Form):
+class FindingForm(UnitFormMixin, forms.Form):
+    # Design temperatures in the member's unit; cleaned_data keeps what was typed, and
+    # suggest_arguments() hands °C to the service.
+    temperatures = {
+        "design_inside_c": ("Design indoor temperature", -10, 40, False),
+        "design_outside_c": ("Design outdoor temperature", -60, 30, False),
+    }
+
     marks = MarkMultipleChoiceField(
         queryset=Mark.objects.none(),
         required=False,
@@ -117,9 +124,7 @@ class FindingForm(forms.Form):
             "max_value": "The exponent is between 1 and 3.",
         },
     )
-    design_inside_c = _optional_float("Design indoor temperature (°C)", -10, 40)
     design_inside_rh_pct = _optional_float("Design indoor humidity (%)", 1, 100)
-    design_outside_c = _optional_float("Design outdoor temperature (°C)", -60, 30)
     view_angle_deg = _optional_float(
         "Viewing angle (°)", 0, 79, help_text="0° is square-on to the roof."
     )
@@ -180,9 +185,12 @@ class FindingForm(forms.Form):
             del self.fields[name]
         conditions = getattr(survey, "conditions", None)
         if "design_inside_c" in self.fields and conditions is not None:
-            self.initial.setdefault("design_inside_c", conditions.design_indoor_c)
+            shown = units.from_celsius
+            self.initial.setdefault("design_inside_c", shown(conditions.design_indoor_c, self.unit))
             self.initial.setdefault("design_inside_rh_pct", conditions.design_indoor_rh_pct)
-            self.initial.setdefault("design_outside_c", conditions.design_outdoor_c)
+            self.initial.setdefault(
+                "design_outside_c", shown(conditions.design_outdoor_c, self.unit)
+            )
 
     def suggest_arguments(self) -> dict:
         data = self.cleaned_data
@@ -203,6 +211,9 @@ class FindingForm(forms.Form):
         ):
             if name in data and data[name] not in (None, ""):
                 arguments[name] = data[name]
+        for name in self.temperatures:
+            if name in arguments:
+                arguments[name] = self._temperature_c(name)
         if data.get("load_exponent"):
             arguments["load_exponent"] = data["load_exponent"]
         return arguments

@@ -83,7 +83,12 @@ def finding_create(request: HttpRequest, pk: int) -> HttpResponse:
     member = get_member(request)
     require_editor(member)
     data = request.POST if request.method == "POST" else None
-    form = FindingForm(data, thermogram=thermogram, initial=_initial_marks(request, thermogram))
+    form = FindingForm(
+        data,
+        thermogram=thermogram,
+        initial=_initial_marks(request, thermogram),
+        **member_units(member),
+    )
     suggestion = _first_suggestion(thermogram, form.initial) if data is None else None
     if data is not None and form.is_valid():
         try:

@@ -452,3 +452,36 @@ def test_it_answers_404_to_a_review_of_another_firms_table(reviewer_client, org,
     assert response.status_code == 404
     theirs.refresh_from_db()
     assert not theirs.is_reviewed
+
+
+def test_it_takes_the_design_temperatures_of_a_finding_in_the_members_unit(
+    envelope_survey, thermographer, thermographer_client
+):
+    """A member on °F types the design temperatures in °F; the judgement gets °C. Before,
+    the fields were labelled °C whatever the member chose, and 69.8 was refused as too warm."""
+    thermographer.temperature_unit = "F"
+    thermographer.save()
+    thermogram = make_thermogram(envelope_survey, block_field(19.0, 12.0), emissivity=1.0)
+    mark = mark_add(thermogram=thermogram, kind="point", points=[[30, 30]], user=None)
+    url = reverse("survey:finding_create", args=[thermogram.pk])
+    page = thermographer_client.get(url).content.decode()
+    assert "Design indoor temperature (°F)" in page
+    response = thermographer_client.post(
+        url,
+        {
+            "marks": [mark.pk],
+            "basis": "envelope",
+            # °C = (°F − 32) / 1.8: 69.8 °F is 21 °C and 14 °F is −10 °C.
+            "design_inside_c": "69.8",
+            "design_inside_rh_pct": "50",
+            "design_outside_c": "14",
+            "category": "thermal_bridge",
+            "level": "4",
+            "override_reason": "Kept under watch for the design winter.",
+            "save": "1",
+        },
+    )
+    assert response.status_code == 302, response.context["form"].errors
+    inputs = Finding.objects.get(thermogram=thermogram).suggestion["inputs"]
+    assert inputs["design_inside_c"] == pytest.approx(21.0, abs=1e-9)
+    assert inputs["design_outside_c"] == pytest.approx(-10.0, abs=1e-9)
