@@ -366,7 +366,7 @@ def test_the_link_is_emailed_and_the_client_acknowledges_a_finding(
     browser.get(link)
     assert "Thermal survey report" in text(browser)
     assert "Flat 3, lintel over the kitchen window" in text(browser)
-    assert "2 act soon" in text(browser) and "Open" in text(browser)
+    assert "2 act soon" in text(browser) and "Status: open" in text(browser)
     form = f"#finding-{finding.pk} form"
     browser.execute_script(
         "document.querySelector(arguments[0]).value = '2026-10-15';",
