@@ -114,6 +114,25 @@ def _replace_picture(field, data: bytes | None, *, prefix: str, remove: bool) ->
     return True
 
 
+def _update_with_picture(
+    row, fields: dict, allowed, picture_field: str, data: bytes | None, *, remove: bool
+) -> list[str]:
+    """Set `fields` (only names in `allowed`) and replace or drop the picture in
+    `picture_field` (its bytes checked first); saves the row and returns what changed."""
+    unknown = set(fields) - set(allowed)
+    if unknown:
+        raise TypeError(f"unknown fields for {type(row).__name__}: {sorted(unknown)}")
+    picture = _checked(data, what=picture_field, field=picture_field)
+    changed = sorted(name for name, value in fields.items() if getattr(row, name) != value)
+    for name, value in fields.items():
+        setattr(row, name, value)
+    row.full_clean()
+    if _replace_picture(getattr(row, picture_field), picture, prefix=picture_field, remove=remove):
+        changed.append(picture_field)
+    row.save()
+    return changed
+
+
 @transaction.atomic
 def organization_update_letterhead(
     *,
@@ -125,17 +144,9 @@ def organization_update_letterhead(
 ) -> Organization:
     """Change the letterhead, the default re-inspection interval and the level times;
     `logo` is the uploaded file's bytes (checked here), `remove_logo` drops the logo."""
-    unknown = set(fields) - set(LETTERHEAD_FIELDS)
-    if unknown:
-        raise TypeError(f"organization_update_letterhead() got unknown fields: {sorted(unknown)}")
-    picture = _checked(logo, what="logo", field="logo")
-    changed = sorted(name for name, value in fields.items() if getattr(organization, name) != value)
-    for name, value in fields.items():
-        setattr(organization, name, value)
-    organization.full_clean()
-    if _replace_picture(organization.logo, picture, prefix="logo", remove=remove_logo):
-        changed.append("logo")
-    organization.save()
+    changed = _update_with_picture(
+        organization, fields, LETTERHEAD_FIELDS, "logo", logo, remove=remove_logo
+    )
     if changed:
         audit_record(
             organization=organization,
@@ -158,17 +169,9 @@ def member_update_qualification(
 ) -> Member:
     """Change a member's qualification record (scheme, level, certificate number, expiry)
     and the signature picture printed in the sign-off of the reports they issue."""
-    unknown = set(fields) - set(QUALIFICATION_FIELDS)
-    if unknown:
-        raise TypeError(f"member_update_qualification() got unknown fields: {sorted(unknown)}")
-    picture = _checked(signature, what="signature", field="signature")
-    changed = sorted(name for name, value in fields.items() if getattr(member, name) != value)
-    for name, value in fields.items():
-        setattr(member, name, value)
-    member.full_clean()
-    if _replace_picture(member.signature, picture, prefix="signature", remove=remove_signature):
-        changed.append("signature")
-    member.save()
+    changed = _update_with_picture(
+        member, fields, QUALIFICATION_FIELDS, "signature", signature, remove=remove_signature
+    )
     if changed:
         audit_record(
             organization=member.organization,

@@ -116,6 +116,13 @@ def panel_three_phases(rng, peaks=((70, 34.0), (120, 61.0), (170, 33.5))) -> np.
     return (field + _noise(rng, x.shape, 0.05)).astype(np.float32)
 
 
+def _encoded(image, image_format: str, **options) -> bytes:
+    """A Pillow picture as file bytes."""
+    buffer = io.BytesIO()
+    image.save(buffer, image_format, **options)
+    return buffer.getvalue()
+
+
 def roof_plan_png() -> bytes:
     """An invented roof plan: the roof outline, parapet, rooflights, plant and a north arrow."""
     from PIL import Image, ImageDraw
@@ -139,9 +146,7 @@ def roof_plan_png() -> bytes:
         font=font(26),
         fill=(60, 60, 60),
     )
-    buffer = io.BytesIO()
-    image.save(buffer, "PNG")
-    return buffer.getvalue()
+    return _encoded(image, "PNG")
 
 
 def demo_logo_png() -> bytes:
@@ -158,9 +163,7 @@ def demo_logo_png() -> bytes:
         draw.line(points, fill=colour, width=10, joint="curve")
     draw.text((160, 80), "LUMEN BROOK", font=font(42, bold=True), fill=(11, 79, 117), anchor="lm")
     draw.text((162, 122), "thermal services", font=font(24), fill=(74, 83, 97), anchor="lm")
-    buffer = io.BytesIO()
-    image.save(buffer, "PNG")
-    return buffer.getvalue()
+    return _encoded(image, "PNG")
 
 
 def demo_signature_png(name: str) -> bytes:
@@ -175,9 +178,7 @@ def demo_signature_png(name: str) -> bytes:
     draw.line(points, fill=(16, 32, 88), width=4, joint="curve")
     initials = "".join(part[0] for part in name.split()[:2])
     draw.text((330, 60), initials, font=font(30, bold=True), fill=(16, 32, 88), anchor="rm")
-    buffer = io.BytesIO()
-    image.save(buffer, "PNG")
-    return buffer.getvalue()
+    return _encoded(image, "PNG")
 
 
 def wall_photo(window: bool) -> bytes:
@@ -190,9 +191,7 @@ def wall_photo(window: bool) -> bytes:
     if window:
         draw.rectangle([150, 60, 600, 390], fill=(250, 250, 250))
         draw.rectangle([185, 95, 565, 355], fill=(170, 200, 220))
-    buffer = io.BytesIO()
-    image.save(buffer, "JPEG", quality=85)
-    return buffer.getvalue()
+    return _encoded(image, "JPEG", quality=85)
 
 
 def as_npy(array: np.ndarray) -> bytes:
